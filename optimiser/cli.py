@@ -1,0 +1,143 @@
+"""Command line: ``optimiser evaluate|check ...``. It only calls the Python API.
+
+A user error prints one line on stderr and exits with status 2 (a traceback only with
+``--debug``); nothing already saved is overwritten without ``--force``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+EXIT_USAGE = 2
+
+
+class UserError(Exception):
+    """An error the user can fix; printed as one line."""
+
+
+def _study(path):
+    from .study import bundled_study_path, load_study
+    return load_study(path if path else bundled_study_path())
+
+
+def _write_csv_atomic(frame, path: Path, force: bool):
+    if path.exists() and not force:
+        raise UserError(f"{path}: exists; expected a new file (use --force to replace it)")
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        raise UserError(f"{path}: folder {parent} does not exist")
+    tmp = parent / f".{path.name}.tmp-{os.getpid()}"
+    try:
+        frame.to_csv(tmp, index=False, float_format="%.10g")
+        os.replace(tmp, path)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise UserError(f"{path}: cannot write ({exc.strerror})") from None
+
+
+def _summary(study, frame) -> str:
+    size_col = study.engine_size_column
+    unit = "kW" if size_col.endswith("kW") else "kN"
+    lines = [f"study {study.name}: {len(frame)} design(s), {int(frame['feasible'].sum())} feasible",
+             f"{'flap':<22}{'W/S N/m2':>10}{'W/P N/kW' if unit == 'kW' else 'T/W':>14}"
+             f"{'AR':>6}{'m_TO kg':>10}{'trip kg':>9}{'engine ' + unit:>11}{'MCI':>6}  verdict"]
+    for _, r in frame.head(40).iterrows():
+        verdict = "feasible (closest: " + r["limiting_constraint"] + ")" if r["feasible"] else \
+            "fails " + r["most_violated"] + f" ({r['margin_' + r['most_violated']]:+.1%})"
+        if not r["within_bounds"]:
+            verdict += " [outside bounds: " + r["outside_bounds"] + "]"
+        lines.append(f"{r['flap']:<22}{r['wing_loading_N_m2']:>10.0f}"
+                     f"{r[study.loading_column]:>14.3g}{r['aspect_ratio']:>6.2f}"
+                     f"{r['takeoff_mass_kg']:>10.0f}{r['trip_fuel_kg']:>9.1f}"
+                     f"{r[size_col]:>11.1f}{r['maintenance_index']:>6.2f}  {verdict}")
+    if len(frame) > 40:
+        lines.append(f"... {len(frame) - 40} more rows in the output file")
+    return "\n".join(lines)
+
+
+def cmd_evaluate(args):
+    from .designs import parse_design_option, read_designs_csv
+    from .evaluation import CAUTION, evaluate
+    study = _study(args.study)
+    out = Path(args.out) if args.out else None
+    if out is not None and out.exists() and not args.force:
+        raise UserError(f"{out}: exists; expected a new file (use --force to replace it)")
+    if args.design:
+        table = parse_design_option(study, args.design)
+    else:
+        designs = args.designs
+        if designs is None:
+            candidate = Path(study.path).with_name(Path(study.path).stem + "_designs.csv")
+            if not candidate.exists():
+                raise UserError(f"no designs given; expected --designs FILE.csv or --design "
+                                f"'...' (no sample file {candidate} beside the study)")
+            designs = candidate
+        table = read_designs_csv(study, designs)
+    frame = evaluate(study, table)
+    print(_summary(study, frame))
+    if out is not None:
+        _write_csv_atomic(frame, out, args.force)
+        print(f"wrote {out}")
+    print(CAUTION)
+    return 0
+
+
+def cmd_check(args):
+    from .evaluation import CAUTION
+    study = _study(args.study)
+    sp = study.spec
+    print(f"study {study.name}: {study.description}")
+    print(f"  {sp.propulsion.engine_count} x {sp.propulsion.family}, certification "
+          f"{sp.certification.basis}; flaps: {', '.join(study.flaps)}")
+    for v in study.variables:
+        print(f"  {v.column}: {v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
+    print(f"  objectives: {', '.join(study.objectives)}")
+    print("study is valid")
+    print(CAUTION)
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from . import __version__
+    p = argparse.ArgumentParser(prog="optimiser", description=(
+        "Size aircraft completely from wing loading, power loading or thrust-to-weight, "
+        "aspect ratio and flap type, and search for the best trade-offs."))
+    p.add_argument("--version", action="version", version=f"optimiser {__version__}")
+    p.add_argument("--debug", action="store_true", help="show a traceback on errors")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    e = sub.add_parser("evaluate", help="size given designs and write every number and margin")
+    e.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
+    e.add_argument("--designs", help="CSV with wing_loading_N_m2, power_loading_N_kW or "
+                   "thrust_to_weight, aspect_ratio, flap")
+    e.add_argument("--design", help="one design as name=value pairs, e.g. "
+                   "'wing_loading_N_m2=1100 power_loading_N_kW=75 aspect_ratio=8 flap=fowler'")
+    e.add_argument("--out", help="CSV file to write (never replaced without --force)")
+    e.add_argument("--force", action="store_true", help="replace an existing output file")
+    e.set_defaults(func=cmd_evaluate)
+    c = sub.add_parser("check", help="validate a study file and summarise it")
+    c.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
+    c.set_defaults(func=cmd_check)
+    return p
+
+
+def main(argv=None) -> int:
+    from .study import StudyError
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except (UserError, StudyError) as exc:
+        if args.debug:
+            raise
+        print(f"error: {exc}", file=sys.stderr)
+        return EXIT_USAGE
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

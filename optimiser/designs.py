@@ -1,0 +1,105 @@
+"""Reading and checking a designs table (CSV) for ``evaluate``."""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import math
+from pathlib import Path
+
+import pandas as pd
+
+from .evaluation import design_columns
+from .study import StudyError
+
+
+def check_designs(study, table: pd.DataFrame, source: str = "designs") -> pd.DataFrame:
+    """Check columns, numbers and flap names; return the table with float columns.
+
+    Raises :class:`StudyError` (one line) naming the column, row and value at fault.
+    """
+    need = design_columns(study)
+    cols = [str(c).strip() for c in table.columns]
+    table = table.copy()
+    table.columns = cols
+    for c in need:
+        if c not in cols:
+            close = difflib.get_close_matches(c, cols, n=1)
+            hint = f" (is {close[0]!r} a misspelling?)" if close else ""
+            raise StudyError(f"{source}: missing column {c!r}{hint}; expected columns: "
+                             + ", ".join(need))
+    if len(table) == 0:
+        raise StudyError(f"{source}: no design rows; expected at least one row under the "
+                         "header " + ",".join(need))
+    for c in need[:3]:
+        values = []
+        for i, v in enumerate(table[c].tolist()):
+            try:
+                x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
+            except ValueError:
+                raise StudyError(f"{source}: row {i + 1}, column {c!r}: got {v!r}; expected a "
+                                 "number") from None
+            if not math.isfinite(x) or x <= 0:
+                raise StudyError(f"{source}: row {i + 1}, column {c!r}: got {v!r}; expected a "
+                                 "finite positive number")
+            values.append(x)
+        table[c] = values
+    names = study.spec.high_lift_names
+    flaps = []
+    for i, v in enumerate(table["flap"].tolist()):
+        name = str(v).strip()
+        if name not in names:
+            close = difflib.get_close_matches(name, names, n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            base = sorted({n.split("+")[0] for n in names})
+            raise StudyError(f"{source}: row {i + 1}, column 'flap': unknown flap type "
+                             f"{name!r}{hint}; expected one of: " + ", ".join(base)
+                             + ", optionally followed by '+slats'")
+        flaps.append(name)
+    table["flap"] = flaps
+    return table
+
+
+def read_designs_csv(study, path) -> pd.DataFrame:
+    """Read a designs CSV file and check it; raises :class:`StudyError` on any problem."""
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise StudyError(f"{path}: cannot read the designs file ({exc.strerror})") from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise StudyError(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 CSV "
+                         "file") from None
+    rows = list(csv.reader(text.splitlines()))
+    rows = [r for r in rows if any(cell.strip() for cell in r)]
+    if not rows:
+        raise StudyError(f"{path}: the file is empty; expected a header "
+                         + ",".join(design_columns(study)) + " and design rows")
+    header = [h.strip() for h in rows[0]]
+    for i, r in enumerate(rows[1:]):
+        if len(r) != len(header):
+            raise StudyError(f"{path}: row {i + 1} has {len(r)} cells; expected {len(header)} "
+                             "like the header")
+    table = pd.DataFrame(rows[1:], columns=header, dtype=object)
+    return check_designs(study, table, str(path))
+
+
+def parse_design_option(study, text: str) -> pd.DataFrame:
+    """One design from the command line: ``"wing_loading_N_m2=1100 power_loading_N_kW=75
+    aspect_ratio=8 flap=fowler"`` (spaces or commas between the pairs)."""
+    pairs = {}
+    for item in text.replace(",", " ").split():
+        key, eq, value = item.partition("=")
+        if not eq:
+            raise StudyError(f"--design: got {item!r}; expected name=value pairs such as "
+                             + " ".join(f"{c}=..." for c in design_columns(study)))
+        pairs[key.strip()] = value.strip()
+    for k in pairs:
+        if k not in design_columns(study):
+            close = difflib.get_close_matches(k, design_columns(study), n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise StudyError(f"--design: unknown name {k!r}{hint}; expected: "
+                             + ", ".join(design_columns(study)))
+    return check_designs(study, pd.DataFrame([pairs]), "--design")

@@ -1,0 +1,91 @@
+"""International Standard Atmosphere to 20 km, with a constant temperature offset.
+
+References
+----------
+.. [1] NOAA, NASA and USAF, "U.S. Standard Atmosphere, 1976", NOAA-S/T 76-1562, 1976,
+   Table I; identical to ICAO Doc 7488/3 (1993) below 32 km.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import G0
+
+R_AIR = 287.05287
+"""Specific gas constant of dry air [J kg^-1 K^-1] (USSA 1976)."""
+GAMMA = 1.4
+"""Ratio of specific heats of air [-]."""
+T0 = 288.15
+"""Sea-level standard temperature [K]."""
+P0 = 101325.0
+"""Sea-level standard pressure [Pa]."""
+RHO0 = P0 / (R_AIR * T0)
+"""Sea-level standard density, 1.225 [kg m^-3]."""
+EARTH_RADIUS = 6356766.0
+"""Effective earth radius for geopotential altitude [m] (USSA 1976)."""
+
+_LAPSE = -0.0065
+_H_TROPOPAUSE = 11000.0
+_T_TROPOPAUSE = 216.65
+_P_TROPOPAUSE = P0 * (_T_TROPOPAUSE / T0) ** (-G0 / (_LAPSE * R_AIR))
+H_MIN = -5000.0
+H_MAX = 20000.0
+
+
+def _geopotential(h):
+    h = np.asarray(h, dtype=float)
+    if np.any(h < H_MIN - 1e-9) or np.any(h > H_MAX + 1e-9) or not np.all(np.isfinite(h)):
+        raise ValueError(f"altitude outside the model: expected {H_MIN:g} to {H_MAX:g} m, "
+                         f"got {np.nanmin(h):g} to {np.nanmax(h):g} m")
+    return h
+
+
+def geometric_to_geopotential(geometric_altitude):
+    """Geopotential altitude [m] from geometric altitude [m]: H = r0 z / (r0 + z) [1]."""
+    z = np.asarray(geometric_altitude, dtype=float)
+    return EARTH_RADIUS * z / (EARTH_RADIUS + z)
+
+
+def isa_temperature(geopotential_altitude, delta_isa=0.0):
+    """Static temperature [K] at geopotential altitude [m] (-5 to 20 km) plus offset [K] [1]."""
+    h = _geopotential(geopotential_altitude)
+    t_std = np.where(h <= _H_TROPOPAUSE, T0 + _LAPSE * h, _T_TROPOPAUSE)
+    return t_std + np.asarray(delta_isa, dtype=float)
+
+
+def isa_pressure(geopotential_altitude):
+    """Static pressure [Pa] at geopotential (= pressure) altitude [m], -5 to 20 km [1].
+
+    The temperature offset does not change pressure: the altitude is a pressure altitude.
+    """
+    h = _geopotential(geopotential_altitude)
+    t_std = np.where(h <= _H_TROPOPAUSE, T0 + _LAPSE * h, _T_TROPOPAUSE)
+    p_trop = P0 * (t_std / T0) ** (-G0 / (_LAPSE * R_AIR))
+    p_strat = _P_TROPOPAUSE * np.exp(-G0 * (h - _H_TROPOPAUSE) / (R_AIR * _T_TROPOPAUSE))
+    return np.where(h <= _H_TROPOPAUSE, p_trop, p_strat)
+
+
+def isa_density(geopotential_altitude, delta_isa=0.0):
+    """Density [kg m^-3] from the ISA pressure and offset temperature, rho = p / (R T) [1]."""
+    return isa_pressure(geopotential_altitude) / (R_AIR * isa_temperature(geopotential_altitude,
+                                                                          delta_isa))
+
+
+def speed_of_sound(temperature):
+    """Speed of sound [m s^-1] of dry air at static temperature [K]: a = sqrt(gamma R T)."""
+    return np.sqrt(GAMMA * R_AIR * np.asarray(temperature, dtype=float))
+
+
+def density_ratio(geopotential_altitude, delta_isa=0.0):
+    """sigma = rho / rho0 [-]."""
+    return isa_density(geopotential_altitude, delta_isa) / RHO0
+
+
+def _density_unchecked(h, delta_isa):
+    """Density [kg m^-3] without the range check, for solvers that stay inside the range."""
+    t_std = np.where(h <= _H_TROPOPAUSE, T0 + _LAPSE * h, _T_TROPOPAUSE)
+    p = np.where(h <= _H_TROPOPAUSE,
+                 P0 * (t_std / T0) ** (-G0 / (_LAPSE * R_AIR)),
+                 _P_TROPOPAUSE * np.exp(-G0 * (h - _H_TROPOPAUSE) / (R_AIR * _T_TROPOPAUSE)))
+    return p / (R_AIR * (t_std + delta_isa)), p, t_std + delta_isa

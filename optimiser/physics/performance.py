@@ -1,0 +1,289 @@
+"""Point performance: stall, takeoff, landing, climb, level speed and ceiling.
+
+All functions are vectorised over designs. Where thrust varies with speed (propellers,
+turbofan Mach lapse) the caller passes ``thrust_at(speed) -> thrust [N]``, a callable that
+broadcasts over an array of speeds shaped like ``speed`` (designs along axis 0).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import G0
+
+SERVICE_CEILING_CLIMB_RATE = 0.508
+"""Rate of climb that defines the service ceiling, 100 ft/min [m s^-1] (common definition)."""
+
+# --- regulatory numbers -------------------------------------------------------------------
+
+PART25_OEI_SECOND_SEGMENT = {2: 0.024, 3: 0.027, 4: 0.030}
+"""14 CFR 25.121(b): one-engine-inoperative climb gradient, gear up, takeoff flaps, V2."""
+PART23_AEO_GRADIENT_RECIPROCATING = 0.083
+"""14 CFR 23.65(a) (Amdt 23-62): all-engines gradient at sea level, landplanes <= 6000 lb."""
+PART23_AEO_GRADIENT_TURBINE = 0.04
+"""14 CFR 23.65(b) (Amdt 23-62): turbine-engined or over 6000 lb."""
+PART23_OEI_GRADIENT = 0.015
+"""14 CFR 23.67(a)(1) / 23.2120(b)(1): one engine out, 1.5 % at 5000 ft, cruise configuration."""
+PART23_OEI_ALTITUDE = 1524.0
+"""5000 ft pressure altitude of 14 CFR 23.67(a)(1) [m]."""
+OBSTACLE_HEIGHT = {"part23": 15.24, "part25": 10.668}
+"""Screen height: 50 ft (Part 23 singles and low-speed twins), 35 ft (Part 25) [m]."""
+PART25_FIELD_FACTOR = 1.15
+"""14 CFR 25.113: takeoff distance at least 115 % of the all-engines distance to 35 ft."""
+
+
+def certification_numbers(basis, family, engine_count):
+    """Regulatory minima for a certification basis, family and engine count.
+
+    Returns a dict with ``aeo_climb_gradient_min``, ``oei_climb_gradient_min`` (0 for one
+    engine), ``oei_climb_altitude_m`` (NaN: at the departure airfield), ``oei_flaps_takeoff``,
+    ``balanced_field``, ``field_length_factor`` and ``obstacle_height_m``.
+
+    Raises ValueError for a combination the rules do not cover.
+    """
+    n = int(engine_count)
+    if basis == "part23":
+        aeo = PART23_AEO_GRADIENT_RECIPROCATING if family == "piston" else PART23_AEO_GRADIENT_TURBINE
+        return dict(aeo_climb_gradient_min=aeo,
+                    oei_climb_gradient_min=PART23_OEI_GRADIENT if n > 1 else 0.0,
+                    oei_climb_altitude_m=PART23_OEI_ALTITUDE, oei_flaps_takeoff=False,
+                    balanced_field=False, field_length_factor=1.0,
+                    obstacle_height_m=OBSTACLE_HEIGHT["part23"])
+    if basis == "part25":
+        if n not in PART25_OEI_SECOND_SEGMENT:
+            raise ValueError(f"part25 needs 2 to 4 engines, got {n}")
+        return dict(aeo_climb_gradient_min=0.0,
+                    oei_climb_gradient_min=PART25_OEI_SECOND_SEGMENT[n],
+                    oei_climb_altitude_m=float("nan"), oei_flaps_takeoff=True,
+                    balanced_field=True, field_length_factor=PART25_FIELD_FACTOR,
+                    obstacle_height_m=OBSTACLE_HEIGHT["part25"])
+    raise ValueError(f"unknown certification basis {basis!r}; choose one of: 'part23', 'part25'")
+
+
+# --- stall --------------------------------------------------------------------------------
+
+def stall_speed(wing_loading, density, cl_max):
+    """Stall speed [m s^-1]: V_s = sqrt(2 (W/S) / (rho CLmax)).
+
+    Parameters
+    ----------
+    wing_loading : array_like
+        W/S [N m^-2].
+    density : array_like
+        Air density [kg m^-3].
+    cl_max : array_like
+        Maximum lift coefficient of the configuration [-].
+    """
+    return np.sqrt(2.0 * np.asarray(wing_loading, float) / (density * np.asarray(cl_max, float)))
+
+
+# --- takeoff ------------------------------------------------------------------------------
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(24)
+_GL_X = 0.5 * (_GL_X + 1.0)
+_GL_W = 0.5 * _GL_W
+
+
+def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground_effect,
+                cl_ground, rolling_friction, min_acceleration=0.01):
+    """Ground-roll distance [m] by integrating the equation of motion from rest to lift-off.
+
+    m dV/dt = T(V) - D(V) - mu (W - L(V)), integrated in the speed domain,
+    s = integral_0^V_LO V / a(V) dV, by 24-point Gauss-Legendre quadrature (exact to round-off
+    against the closed form for constant thrust; see the tests).
+
+    Parameters
+    ----------
+    weight : array_like
+        Takeoff weight [N].
+    wing_area : array_like
+        Reference area [m^2].
+    v_liftoff : array_like
+        Lift-off true airspeed [m s^-1].
+    thrust_at : callable
+        ``thrust_at(V)`` total thrust [N] for an array of speeds shaped (n, nodes).
+    density : array_like
+        Runway air density [kg m^-3].
+    cd0, k : array_like
+        Zero-lift drag in takeoff configuration and induced-drag factor [-].
+    ground_effect : array_like
+        Induced-drag factor phi in ground effect [-].
+    cl_ground : array_like
+        Lift coefficient during the roll [-].
+    rolling_friction : array_like
+        Rolling friction coefficient [-].
+    min_acceleration : float
+        Acceleration floor [m s^-2]; a design whose acceleration falls below it anywhere in
+        the roll cannot lift off and is flagged (the distance stays finite).
+
+    Returns
+    -------
+    distance : ndarray
+        Ground roll [m] (with the acceleration floored where it cannot lift off).
+    min_accel : ndarray
+        Smallest acceleration during the roll [m s^-2].
+    thrust_liftoff : ndarray
+        Thrust at lift-off [N].
+    """
+    w = np.asarray(weight, float)[:, None]
+    s_ref = np.asarray(wing_area, float)[:, None]
+    vlo = np.asarray(v_liftoff, float)
+    v = vlo[:, None] * _GL_X[None, :]
+    q_s = 0.5 * np.asarray(density, float).reshape(-1, 1) * v * v * s_ref
+    clg = np.asarray(cl_ground, float).reshape(-1, 1) * np.ones_like(w)
+    cd = np.asarray(cd0, float).reshape(-1, 1) + np.asarray(ground_effect, float).reshape(-1, 1) \
+        * np.asarray(k, float).reshape(-1, 1) * clg**2
+    mu = np.asarray(rolling_friction, float).reshape(-1, 1)
+    normal = np.maximum(w - q_s * clg, 0.0)
+    accel = G0 / w * (thrust_at(v) - q_s * cd - mu * normal)
+    min_accel = accel.min(axis=1)
+    a_eff = np.maximum(accel, min_acceleration)
+    distance = vlo * ((v / a_eff) @ _GL_W)
+    thrust_lo = thrust_at(vlo[:, None])[:, 0]
+    return distance, min_accel, thrust_lo
+
+
+def ground_roll_constant_thrust(thrust_to_weight, wing_loading, density, cd0, k, ground_effect,
+                                cl_ground, rolling_friction, v_liftoff):
+    """Closed-form ground roll [m] for constant thrust (Anderson, APD 1999, sec. 6.7).
+
+    a = A - B V^2, A = g (T/W - mu), B = g rho / (2 W/S) (C_D0 + phi K C_L^2 - mu C_L),
+    s_G = ln[A / (A - B V_LO^2)] / (2 B).
+    """
+    a = G0 * (thrust_to_weight - rolling_friction)
+    b = G0 * density / (2.0 * wing_loading) * (cd0 + ground_effect * k * cl_ground**2
+                                               - rolling_friction * cl_ground)
+    return np.log(a / (a - b * v_liftoff**2)) / (2.0 * b)
+
+
+def takeoff_air_distance(stall_speed_takeoff, climb_sine, obstacle_height,
+                         transition_speed_factor=1.15, load_factor=1.19):
+    """Air distance [m] from lift-off to the obstacle height, transition arc then climb.
+
+    R = V_TR^2 / (g (n - 1)) (= 6.96 V_s^2 / g for V_TR = 1.15 V_s, n = 1.19);
+    theta_OB = arccos(1 - h_OB / R); if theta_OB <= climb angle, s_A = R sin(theta_OB);
+    otherwise s_A = R sin(gamma) + (h_OB - R (1 - cos gamma)) / tan(gamma).
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, sec. 6.7
+       (from memory).
+
+    Parameters
+    ----------
+    stall_speed_takeoff : array_like
+        Stall speed in takeoff configuration [m s^-1].
+    climb_sine : array_like
+        sin(gamma) of the steady climb after the arc, (T - D) / W [-]; floored at 1e-3.
+    obstacle_height : array_like
+        Screen height [m].
+    """
+    vtr = transition_speed_factor * np.asarray(stall_speed_takeoff, float)
+    radius = vtr**2 / (G0 * (load_factor - 1.0))
+    h = np.asarray(obstacle_height, float)
+    theta_ob = np.arccos(np.clip(1.0 - h / radius, -1.0, 1.0))
+    gamma = np.arcsin(np.clip(climb_sine, 1e-3, 0.5))
+    arc_only = radius * np.sin(theta_ob)
+    h_tr = radius * (1.0 - np.cos(gamma))
+    with_climb = radius * np.sin(gamma) + (h - h_tr) / np.tan(gamma)
+    return np.where(theta_ob <= gamma, arc_only, with_climb)
+
+
+def balanced_field_length_torenbeek(wing_loading, density, cl_climb, mean_thrust_to_weight,
+                                    cl_max_takeoff, oei_gradient, oei_gradient_min,
+                                    obstacle_height=10.668):
+    """Balanced field length [m] of a multi-engine transport, Torenbeek's estimate.
+
+    BFL = 0.863 / (1 + 2.3 dgamma2) [(W/S) / (rho g C_L2) + h_TO] [1 / (T_bar/W - mu') + 2.7]
+    + 200 / sqrt(sigma), with dgamma2 = gamma2 - gamma2,min, mu' = 0.01 CLmax,TO + 0.02 and
+    T_bar the mean thrust of the takeoff run.
+
+    References
+    ----------
+    .. [1] E. Torenbeek, "Synthesis of Subsonic Airplane Design", Delft University Press /
+       Kluwer, 1982, sec. 5.4.5 and Appendix K (from memory; the last term is 655 ft in the
+       source, written here as 200 m).
+    """
+    sigma = np.asarray(density, float) / 1.225
+    dgamma = np.maximum(np.asarray(oei_gradient, float) - oei_gradient_min, 0.0)
+    mu_eff = 0.01 * np.asarray(cl_max_takeoff, float) + 0.02
+    excess = np.maximum(np.asarray(mean_thrust_to_weight, float) - mu_eff, 1e-3)
+    return (0.863 / (1.0 + 2.3 * dgamma)
+            * (wing_loading / (density * G0 * cl_climb) + obstacle_height)
+            * (1.0 / excess + 2.7) + 200.0 / np.sqrt(sigma))
+
+
+# --- landing ------------------------------------------------------------------------------
+
+def landing_distance(wing_loading, density, cl_max_landing, braking_friction, obstacle_height,
+                     approach_angle=np.radians(3.0), flare_speed_factor=1.23, free_roll_time=3.0,
+                     flare_load_factor=1.2, ground_factor=1.15):
+    """Landing distance from the obstacle height [m] and its parts (approach, flare, ground).
+
+    Approach at angle theta_a; flare arc R = V_F^2 / (g (n - 1)), V_F = 1.23 V_s, n = 1.2;
+    h_F = R (1 - cos theta_a); s_a = (h_OB - h_F) / tan(theta_a); s_F = R sin(theta_a);
+    ground s_g = j N V_s + j^2 (W/S) / (g rho CLmax mu_B) with j = 1.15 and free roll N [s].
+    The approach speed V_A = 1.3 V_s fixes the approach angle's geometry; the flare speed the
+    arc.
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, sec. 6.8
+       (from memory).
+
+    Returns
+    -------
+    total, approach, flare, ground : ndarray
+        Distances [m].
+    """
+    vs = stall_speed(wing_loading, density, cl_max_landing)
+    vf = flare_speed_factor * vs
+    radius = vf**2 / (G0 * (flare_load_factor - 1.0))
+    h_f = radius * (1.0 - np.cos(approach_angle))
+    s_a = np.maximum(obstacle_height - h_f, 0.0) / np.tan(approach_angle)
+    s_f = radius * np.sin(approach_angle)
+    s_g = ground_factor * free_roll_time * vs + ground_factor**2 * wing_loading / (
+        G0 * density * cl_max_landing * braking_friction)
+    return s_a + s_f + s_g, s_a, s_f, s_g
+
+
+# --- climb, level speed, ceiling ----------------------------------------------------------
+
+def drag_to_weight(speed, wing_loading, density, cd0, k, cos_gamma=1.0):
+    """D / W [-] in steady flight: q C_D0 / (W/S) + K (W/S) cos^2(gamma) / q."""
+    q = 0.5 * density * np.asarray(speed, float) ** 2
+    return q * cd0 / wing_loading + k * wing_loading * cos_gamma**2 / q
+
+
+def largest_root(f, low, high, iterations=36):
+    """Largest x in [low, high] with f(x) >= 0, for f >= 0 at ``low`` and < 0 at ``high``.
+
+    Vectorised bisection (``f`` maps an array shaped like ``low`` to one of the same shape).
+    Where f(low) < 0 the result is NaN; where f(high) >= 0 it is ``high``.
+    """
+    lo = np.array(low, dtype=float, copy=True)
+    hi = np.array(high, dtype=float, copy=True)
+    ok_lo = f(lo) >= 0.0
+    ok_hi = f(hi) >= 0.0
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        good = f(mid) >= 0.0
+        lo = np.where(good, mid, lo)
+        hi = np.where(good, hi, mid)
+    return np.where(ok_hi, high, np.where(ok_lo, lo, np.nan))
+
+
+RUNWAY_SURFACES = {
+    # name: (rolling friction, braking friction)
+    "paved_dry": (0.03, 0.40),
+    "paved_wet": (0.03, 0.22),
+    "hard_turf": (0.05, 0.30),
+    "short_grass": (0.06, 0.25),
+    "long_grass": (0.10, 0.20),
+    "soft_ground": (0.20, 0.15),
+}
+"""Rolling and braking friction by surface: rolling 0.02-0.05 dry paved (0.03), hard turf 0.05,
+short grass 0.05-0.07, long grass 0.10, soft ground 0.10-0.30; braking dry 0.3-0.5, wet
+0.15-0.3 (tables in S. Gudmundsson, "General Aviation Aircraft Design", 2014, ch. 17, and
+E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, ch. 5; from memory). Braking on
+unpaved surfaces is common practice."""

@@ -1,0 +1,499 @@
+"""Size a batch of designs completely: closed takeoff mass, mission fuel, every margin.
+
+:func:`size_designs` composes the physics over arrays (one element per design, no Python loop
+over designs). Inputs are the four decision variables; everything else comes from a resolved
+:class:`~optimiser.spec.AircraftSpec` (SI, no ``None`` left).
+
+Margins are positive when a constraint is met, as a fraction of its limit:
+``1 - value / limit`` for upper limits and ``value / limit - 1`` for lower limits.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .physics import G0
+from .physics import aerodynamics as aero
+from .physics import atmosphere as atm
+from .physics import highlift, mission, performance, propulsion, weights
+from .spec import AircraftSpec
+
+CONSTRAINT_LABELS = {
+    "mass_closure": "takeoff mass closes",
+    "runway_acceleration": "accelerates on the runway",
+    "stall_speed": "stall speed, landing configuration",
+    "takeoff_field": "takeoff field length",
+    "landing_field": "landing field length",
+    "climb_rate": "all-engines rate of climb",
+    "climb_gradient": "all-engines climb gradient (regulatory)",
+    "oei_climb_gradient": "one-engine-inoperative climb gradient",
+    "cruise_speed": "cruise speed at cruise altitude",
+    "service_ceiling": "service ceiling",
+}
+"""Every constraint the model can check, with a plain description."""
+
+_MIN_ACCEL = 0.01  # [m s^-2] acceleration floor of the ground roll
+
+
+def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
+    """Names of the constraints that apply to this study, in a fixed order."""
+    names = ["mass_closure", "runway_acceleration", "stall_speed", "takeoff_field",
+             "landing_field", "climb_rate"]
+    if spec.certification.aeo_climb_gradient_min > 0:
+        names.append("climb_gradient")
+    if spec.propulsion.engine_count > 1 and spec.certification.oei_climb_gradient_min > 0:
+        names.append("oei_climb_gradient")
+    names += ["cruise_speed", "service_ceiling"]
+    return tuple(names)
+
+
+def _high_lift_arrays(spec, index):
+    fields = ("cl_increment_takeoff", "cl_increment_landing", "cd0_increment_takeoff",
+              "cd0_increment_landing", "flap_area_ratio", "flap_mass_per_area_kg_m2",
+              "slat_area_ratio", "slat_mass_per_area_kg_m2", "actuator_mass_kg", "flap_items",
+              "flap_supports_min", "flap_support_spacing_m", "slat_items", "slat_supports_min",
+              "slat_support_spacing_m", "flapped_span_fraction", "slat_span_fraction",
+              "support_weight")
+    table = {f: np.array([getattr(h, f) for h in spec.high_lift], dtype=float) for f in fields}
+    return {f: v[index] for f, v in table.items()}
+
+
+class _Propulsor:
+    """Thrust of the installed engines at one air state, for a batch of designs."""
+
+    def __init__(self, spec, rated, diameter, density, temperature, pressure, setting=1.0,
+                 engines_working=None):
+        p = spec.propulsion
+        self.is_jet = p.family == "turbofan"
+        share = 1.0 if engines_working is None else engines_working / p.engine_count
+        self.share = share
+        sigma = density / atm.RHO0
+        if self.is_jet:
+            self.thrust_sl = rated * setting * share
+            self.temperature, self.pressure = temperature, pressure
+            self.sound = atm.speed_of_sound(temperature)
+            self.tr = p.turbofan_throttle_ratio
+        else:
+            if p.family == "piston":
+                sig_crit = atm.density_ratio(p.turbocharged_critical_altitude_m)
+                lapse = propulsion.piston_power_lapse(sigma, sig_crit)
+            else:
+                lapse = propulsion.turboprop_power_lapse(sigma, p.turboprop_lapse_exponent,
+                                                         p.turboprop_flat_rating_margin)
+            self.power_per_engine = rated / p.engine_count * setting * lapse
+            self.power = self.power_per_engine * p.engine_count * share
+            disc = 0.25 * np.pi * diameter**2
+            self.static = propulsion.static_thrust_momentum(
+                self.power_per_engine, density, disc, p.propeller_figure_of_merit) \
+                * p.engine_count * share
+
+    def thrust(self, speed, efficiency):
+        if self.is_jet:
+            mach = speed / _col(self.sound, speed)
+            return _col(self.thrust_sl, speed) * propulsion.turbofan_thrust_lapse_mattingly(
+                _col(self.temperature, speed), _col(self.pressure, speed), mach, self.tr)
+        return propulsion.propeller_thrust(speed, _col(self.power, speed), efficiency,
+                                           _col(self.static, speed))
+
+
+def _col(x, like):
+    """Reshape a per-design array to broadcast against ``like`` (designs along axis 0)."""
+    x = np.asarray(x, dtype=float)
+    if np.ndim(like) == 2 and x.ndim == 1:
+        return x[:, None]
+    return x
+
+
+def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index):
+    """Size every design of a batch.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study (SI).
+    wing_loading_N_m2 : array_like
+        Takeoff wing loading W/S [N m^-2].
+    loading : array_like
+        Power loading W/P [N kW^-1] (piston, turboprop) or thrust-to-weight T/W [-] (turbofan),
+        both at takeoff weight and sea-level static rating.
+    aspect_ratio : array_like
+        [-].
+    high_lift_index : array_like of int
+        Index into ``spec.high_lift``.
+
+    Returns
+    -------
+    dict of str -> ndarray
+        Sized numbers (SI, names with unit suffixes), ``margin_<constraint>`` for each active
+        constraint, ``feasible`` (bool) and ``limiting_index`` (index into
+        :func:`active_constraints` of the smallest margin).
+    """
+    ws = np.asarray(wing_loading_N_m2, dtype=float).ravel()
+    ld_in = np.asarray(loading, dtype=float).ravel()
+    ar = np.asarray(aspect_ratio, dtype=float).ravel()
+    idx = np.asarray(high_lift_index, dtype=int).ravel()
+    # keep the physics inside its valid ranges so no NaN can arise; out-of-range inputs are
+    # flagged by the study layer, never silently changed in the output columns
+    ws_c = np.clip(np.nan_to_num(ws, nan=1.0), 50.0, 2e4)
+    ar_c = np.clip(np.nan_to_num(ar, nan=1.0), 1.0, 30.0)
+    is_jet = spec.propulsion.family == "turbofan"
+    if is_jet:
+        tw = np.clip(np.nan_to_num(ld_in, nan=1e-3), 1e-3, 3.0)
+        pw = None
+    else:
+        pw = 1e3 / np.clip(np.nan_to_num(ld_in, nan=1e4), 5.0, 1e4)  # [W/N]
+        tw = None
+    hl = _high_lift_arrays(spec, np.clip(idx, 0, len(spec.high_lift) - 1))
+
+    pr, ad, wt, ms, rq, sp = (spec.propulsion, spec.aerodynamics, spec.weights, spec.mission,
+                              spec.requirements, spec.speeds)
+    cert = spec.certification
+    n_eng = pr.engine_count
+
+    # --- air states (scalars for the whole study) ---
+    dep, dst = spec.departure, spec.destination
+    rho_to = float(atm.isa_density(dep.elevation_m, dep.temperature_offset_K))
+    t_to = float(atm.isa_temperature(dep.elevation_m, dep.temperature_offset_K))
+    p_to = float(atm.isa_pressure(dep.elevation_m))
+    rho_ld = float(atm.isa_density(dst.elevation_m, dst.temperature_offset_K))
+    h_cr, dt_cr = ms.cruise_altitude_m, ms.cruise_temperature_offset_K
+    rho_cr = float(atm.isa_density(h_cr, dt_cr))
+    t_cr = float(atm.isa_temperature(h_cr, dt_cr))
+    p_cr = float(atm.isa_pressure(h_cr))
+    a_cr = float(atm.speed_of_sound(t_cr))
+    v_cr = ms.cruise_speed_m_s
+    mach_cr = v_cr / a_cr
+    q_cr = 0.5 * rho_cr * v_cr**2
+
+    cd0 = ad.cd0_clean
+    gear = ad.gear_drag_increment if ad.landing_gear == "retractable" else 0.0
+    cd0_cruise = cd0 + float(aero.wave_drag_lock(mach_cr, ad.drag_divergence_mach))
+    cl_to = ad.cl_max_clean + hl["cl_increment_takeoff"]
+    cl_l = ad.cl_max_clean + hl["cl_increment_landing"]
+
+    # mission fractions and fuel consumption
+    f_start, f_taxi, f_to, f_climb, f_desc, f_land = (
+        ms.fraction_startup, ms.fraction_taxi, ms.fraction_takeoff, ms.fraction_climb,
+        ms.fraction_descent, ms.fraction_landing)
+    f_pre = f_start * f_taxi * f_to * f_climb
+    eta_cr = pr.propeller_efficiency_cruise if not is_jet else 1.0
+    sfc_p = pr.sfc_cruise if not is_jet else 1.0
+    sfc_t = pr.tsfc_cruise if is_jet else 1.0
+    v_h_eas = v_cr * np.sqrt(rho_cr / atm.RHO0)
+
+    fixed_kg = wt.payload_kg + wt.crew_kg
+
+    def pieces(m_to):
+        """All mass-dependent quantities for takeoff mass m_to [kg]."""
+        w = m_to * G0
+        s_ref = w / ws_c
+        span = np.sqrt(ar_c * s_ref)
+        e_cr = aero.oswald_factor(ad.oswald_method, ar_c, ad.taper_ratio,
+                                  ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span,
+                                  mach_cr, ad.oswald_k_ed0)
+        k_cr = aero.induced_drag_factor(ar_c, e_cr)
+        w_i = w * f_pre
+        ld_i = aero.lift_to_drag(w_i / (q_cr * s_ref), cd0_cruise, k_cr)
+        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_i, eta_cr, sfc_p, sfc_t, is_jet)
+        w_mid = w_i / np.sqrt(ratio)
+        ld_mid = aero.lift_to_drag(w_mid / (q_cr * s_ref), cd0_cruise, k_cr)
+        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_mid, eta_cr, sfc_p, sfc_t,
+                                            is_jet)
+        w_end_cruise = w_i / ratio
+        w_end = w_end_cruise * f_desc * f_land
+        trip = (w - w_end) / G0
+        ld_res = aero.lift_to_drag(w_end / (q_cr * s_ref), cd0_cruise, k_cr)
+        res_ratio = (mission.endurance_weight_ratio(ms.reserve_time_s, v_cr, ld_res, eta_cr,
+                                                    sfc_p, sfc_t, is_jet)
+                     * mission.cruise_weight_ratio(ms.reserve_range_m, v_cr, ld_res, eta_cr,
+                                                   sfc_p, sfc_t, is_jet))
+        reserve = w_end * (1.0 - 1.0 / res_ratio) / G0
+        fuel = trip + reserve + ms.trapped_fuel_fraction * m_to
+        m_wing = wt.wing_mass_factor * weights.wing_mass_usaf(
+            m_to, wt.ultimate_load_factor, ar_c, s_ref, ad.taper_ratio, ad.thickness_ratio,
+            ad.sweep_quarter_chord_rad, v_h_eas)
+        if is_jet:
+            rated = tw * w
+            m_eng = weights.turbofan_engine_mass(rated, pr.engine_thrust_to_weight,
+                                                 pr.engine_installation_factor)
+        else:
+            rated = pw * w
+            m_eng = weights.propeller_engine_mass(rated, pr.engine_specific_mass)
+        m_hl = weights.high_lift_mass(s_ref, hl["flap_area_ratio"], hl["flap_mass_per_area_kg_m2"],
+                                      hl["slat_area_ratio"], hl["slat_mass_per_area_kg_m2"],
+                                      hl["actuator_mass_kg"])
+        m_rest = wt.structure_systems_fraction * m_to + wt.fixed_equipment_kg
+        empty = wt.empty_mass_factor * (m_wing + m_eng + m_hl + m_rest)
+        residual = m_to - (fixed_kg + fuel + empty)
+        return dict(residual=residual, s_ref=s_ref, span=span, e_cr=e_cr, k_cr=k_cr,
+                    ld_cruise=ld_mid, trip=trip, reserve=reserve, fuel=fuel, empty=empty,
+                    m_wing=m_wing, m_eng=m_eng, m_hl=m_hl, m_rest=m_rest, rated=rated,
+                    w_mid=w_mid, w_i=w_i)
+
+    # --- takeoff-mass closure: safeguarded Newton on the residual, bracketed ---
+    lo = np.full_like(ws_c, fixed_kg * 1.0001)
+    cap = np.full_like(ws_c, fixed_kg * wt.mass_limit_ratio)
+    r_cap = pieces(cap)["residual"]
+    closes = r_cap > 0.0
+    hi = cap.copy()
+    m = np.minimum(fixed_kg / 0.45, 0.5 * (lo + hi))
+    for _ in range(30):
+        r = pieces(m)["residual"]
+        lo = np.where(r < 0.0, m, lo)
+        hi = np.where(r >= 0.0, m, hi)
+        dm = 1e-6 * m
+        slope = (pieces(m + dm)["residual"] - r) / dm
+        step = np.where(slope > 1e-6, m - r / np.where(slope > 1e-6, slope, 1.0), 0.5 * (lo + hi))
+        inside = (step > lo) & (step < hi)
+        m_new = np.where(inside, step, 0.5 * (lo + hi))
+        if np.all(np.abs(m_new - m) <= 1e-9 * m):
+            m = m_new
+            break
+        m = m_new
+    m_to = np.where(closes, m, cap)
+    pc = pieces(m_to)
+    closure_margin = r_cap / cap
+
+    w = m_to * G0
+    s_ref, span = pc["s_ref"], pc["span"]
+    k_low = aero.induced_drag_factor(ar_c, aero.oswald_factor(
+        ad.oswald_method, ar_c, ad.taper_ratio, ad.sweep_quarter_chord_rad,
+        ad.fuselage_diameter_m / span, 0.2, ad.oswald_k_ed0))
+    e_low = 1.0 / (np.pi * ar_c * k_low)
+    rated = pc["rated"]
+    if is_jet:
+        diameter = None
+        eta_climb = 1.0
+    else:
+        diameter = propulsion.propeller_diameter(rated / n_eng, pr.propeller_diameter_coefficient)
+        eta_climb = pr.propeller_efficiency_climb
+
+    # --- stall ---
+    vs_landing_sl = performance.stall_speed(ws_c, atm.RHO0, cl_l)
+    vs_to = performance.stall_speed(ws_c, rho_to, cl_to)
+    vs_clean_to = performance.stall_speed(ws_c, rho_to, ad.cl_max_clean)
+
+    # --- takeoff ---
+    eng_to = _Propulsor(spec, rated, diameter, rho_to, t_to, p_to)
+    cd0_to = cd0 + hl["cd0_increment_takeoff"] + gear
+    h_b = ad.wing_height_m / span
+    phi = aero.ground_effect_factor(ad.ground_effect_method, h_b)
+    mu_roll = dep.rolling_friction
+    v_lo = sp.liftoff_speed_factor * vs_to
+    s_g, min_acc, thrust_lo = performance.ground_roll(
+        w, s_ref, v_lo, lambda v: eng_to.thrust(v, eta_climb), rho_to, cd0_to, k_low, phi,
+        ad.cl_ground_roll, mu_roll, _MIN_ACCEL)
+    s_rot = sp.rotation_time_s * v_lo
+    v_tr = max(sp.transition_speed_factor, sp.liftoff_speed_factor) * vs_to
+    dw_tr = performance.drag_to_weight(v_tr, ws_c, rho_to, cd0_to, k_low)
+    climb_sine_tr = eng_to.thrust(v_tr, eta_climb) / w - dw_tr
+    s_air = performance.takeoff_air_distance(vs_to, climb_sine_tr, dep.obstacle_height_m,
+                                             max(sp.transition_speed_factor,
+                                                 sp.liftoff_speed_factor),
+                                             sp.transition_load_factor)
+    takeoff_aeo = s_g + s_rot + s_air
+
+    # --- one engine inoperative ---
+    if n_eng > 1:
+        if cert.oei_flaps_takeoff:  # Part 25 second segment: departure airfield, TO flaps, V2
+            rho_oei, t_oei, p_oei = rho_to, t_to, p_to
+            cl_oei_max = cl_to
+            cd0_oei = cd0 + hl["cd0_increment_takeoff"]
+            setting = 1.0
+        else:  # Part 23: cruise configuration at the stated altitude, max continuous power
+            h_oei = cert.oei_climb_altitude_m
+            rho_oei = float(atm.isa_density(h_oei, 0.0))
+            t_oei = float(atm.isa_temperature(h_oei, 0.0))
+            p_oei = float(atm.isa_pressure(h_oei))
+            cl_oei_max = np.full_like(ws_c, ad.cl_max_clean)
+            cd0_oei = np.full_like(ws_c, cd0)
+            setting = pr.climb_power_fraction
+        eng_oei = _Propulsor(spec, rated, diameter, rho_oei, t_oei, p_oei, setting, n_eng - 1)
+        v2 = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_oei, cl_oei_max)
+        oei_gradient = eng_oei.thrust(v2, eta_climb) / w - performance.drag_to_weight(
+            v2, ws_c, rho_oei, cd0_oei + ad.engine_out_drag_increment, k_low)
+    else:
+        oei_gradient = np.zeros_like(ws_c)
+
+    if cert.balanced_field and n_eng > 1:
+        cl2 = cl_to / sp.climb_speed_factor**2
+        mean_tw = eng_to.thrust(v_lo / np.sqrt(2.0), eta_climb) / w
+        bfl = performance.balanced_field_length_torenbeek(
+            ws_c, rho_to, cl2, mean_tw, cl_to, oei_gradient, cert.oei_climb_gradient_min,
+            dep.obstacle_height_m)
+        takeoff_required = np.maximum(bfl, cert.field_length_factor * takeoff_aeo)
+    else:
+        bfl = np.zeros_like(ws_c)
+        takeoff_required = cert.field_length_factor * takeoff_aeo
+
+    # --- landing ---
+    ws_land = ws_c * ms.landing_mass_ratio
+    cl_l_arr = cl_l * np.ones_like(ws_c)
+    landing_total, s_app, s_flare, s_lg = performance.landing_distance(
+        ws_land, rho_ld, cl_l_arr, dst.braking_friction, dst.obstacle_height_m,
+        sp.approach_angle_rad, sp.flare_speed_factor, sp.free_roll_time_s)
+    vs_land_dst = performance.stall_speed(ws_land, rho_ld, cl_l_arr)
+
+    # --- climb (clean, gear up, climb power) ---
+    def best_climb(h, dt):
+        rho = atm._density_unchecked(h, dt)[0]
+        t_h = atm._density_unchecked(h, dt)[2]
+        p_h = atm.isa_pressure(np.clip(h, atm.H_MIN, atm.H_MAX))
+        eng = _Propulsor(spec, rated, diameter, rho, t_h, p_h, pr.climb_power_fraction)
+        v_floor = sp.climb_speed_factor * performance.stall_speed(ws_c, rho, ad.cl_max_clean)
+        if is_jet:
+            tw_h = eng.thrust(np.full_like(ws_c, 100.0), 1.0) / w
+            for _ in range(2):
+                v = np.sqrt(ws_c / (3.0 * rho * cd0) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0 * k_low)))
+                tw_h = eng.thrust(v, 1.0) / w
+        else:
+            v = np.sqrt(2.0 * ws_c / (rho * np.sqrt(3.0 * cd0 / k_low)))
+        v = np.maximum(v, v_floor)
+        roc = v * (eng.thrust(v, eta_climb) / w - performance.drag_to_weight(v, ws_c, rho, cd0,
+                                                                             k_low))
+        return roc, v
+
+    climb_rate, v_climb = best_climb(np.full_like(ws_c, dep.elevation_m), dep.temperature_offset_K)
+
+    # regulatory all-engines gradient (Part 23: sea level, TO flaps, gear up)
+    h_aeo = cert.aeo_climb_altitude_m
+    rho_aeo = float(atm.isa_density(h_aeo, 0.0))
+    eng_aeo = _Propulsor(spec, rated, diameter, rho_aeo, float(atm.isa_temperature(h_aeo)),
+                         float(atm.isa_pressure(h_aeo)), pr.climb_power_fraction)
+    v_aeo = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_aeo, cl_to)
+    climb_gradient = eng_aeo.thrust(v_aeo, eta_climb) / w - performance.drag_to_weight(
+        v_aeo, ws_c, rho_aeo, cd0 + hl["cd0_increment_takeoff"], k_low)
+
+    # --- service ceiling: ROC_max(h) = 0.508 m/s, bisection over 0..20 km ---
+    target = performance.SERVICE_CEILING_CLIMB_RATE
+    roc_sl = best_climb(np.zeros_like(ws_c), dt_cr)[0]
+    ceiling = performance.largest_root(lambda h: best_climb(h, dt_cr)[0] - target,
+                                       np.zeros_like(ws_c), np.full_like(ws_c, atm.H_MAX), 22)
+    ceiling = np.where(roc_sl < target, 0.0, np.nan_to_num(ceiling, nan=0.0))
+
+    # --- highest level speed at cruise altitude and cruise setting ---
+    eng_cr = _Propulsor(spec, rated, diameter, rho_cr, t_cr, p_cr, pr.cruise_power_fraction)
+    w_cr = pc["w_i"]
+    ws_cr = w_cr / s_ref
+    k_cr = pc["k_cr"]
+
+    def excess(v):
+        mach = v / a_cr
+        d_w = performance.drag_to_weight(v, ws_cr, rho_cr,
+                                         cd0 + aero.wave_drag_lock(mach, ad.drag_divergence_mach),
+                                         k_cr)
+        return eng_cr.thrust(v, eta_cr) / w_cr - d_w
+
+    v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
+    v_low_alt = 1.1 * performance.stall_speed(ws_cr, rho_cr, ad.cl_max_clean)
+    v_start = np.where(excess(v_md) >= 0.0, v_md, v_low_alt)
+    if is_jet:
+        t_max = eng_cr.thrust(np.full_like(ws_c, 1.0), 1.0) / w_cr
+    else:
+        t_max = eta_cr * eng_cr.power / w_cr  # [W/N]: thrust x speed per weight
+    v_hi = np.minimum(np.where(is_jet, np.sqrt(2.0 * t_max * ws_cr / (rho_cr * cd0)),
+                               (2.0 * t_max * ws_cr / (rho_cr * cd0)) ** (1.0 / 3.0)) * 1.05,
+                      0.98 * a_cr)
+    v_hi = np.maximum(v_hi, v_start * 1.0001)
+    v_max = performance.largest_root(excess, v_start, v_hi, 30)
+    v_max = np.nan_to_num(v_max, nan=0.0)
+
+    # --- maintenance ---
+    mci = highlift.maintenance_index(span, hl["flap_items"], hl["flap_supports_min"],
+                                     hl["flap_support_spacing_m"], hl["flapped_span_fraction"],
+                                     hl["slat_items"], hl["slat_supports_min"],
+                                     hl["slat_support_spacing_m"], hl["slat_span_fraction"],
+                                     hl["support_weight"])
+
+    # --- margins ---
+    margins = {
+        "mass_closure": closure_margin,
+        "runway_acceleration": min_acc / G0,
+        "stall_speed": 1.0 - vs_landing_sl / rq.stall_speed_m_s,
+        "takeoff_field": 1.0 - takeoff_required / dep.field_length_m,
+        "landing_field": 1.0 - landing_total / dst.field_length_m,
+        "climb_rate": climb_rate / rq.climb_rate_m_s - 1.0,
+        "climb_gradient": climb_gradient / max(cert.aeo_climb_gradient_min, 1e-9) - 1.0,
+        "oei_climb_gradient": oei_gradient / max(cert.oei_climb_gradient_min, 1e-9) - 1.0,
+        "cruise_speed": v_max / v_cr - 1.0,
+        "service_ceiling": ceiling / rq.service_ceiling_m - 1.0,
+    }
+    names = active_constraints(spec)
+    margin_matrix = np.column_stack([margins[c] for c in names])
+    margin_matrix = np.nan_to_num(margin_matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
+    feasible = np.all(margin_matrix >= 0.0, axis=1)
+    limiting = np.argmin(margin_matrix, axis=1)
+
+    out = {
+        "takeoff_mass_kg": m_to,
+        "empty_mass_kg": pc["empty"],
+        "fuel_mass_kg": pc["fuel"],
+        "trip_fuel_kg": pc["trip"],
+        "reserve_fuel_kg": pc["reserve"],
+        "payload_kg": np.full_like(ws_c, wt.payload_kg),
+        "crew_kg": np.full_like(ws_c, wt.crew_kg),
+        "empty_mass_fraction": pc["empty"] / m_to,
+        "wing_mass_kg": pc["m_wing"] * wt.empty_mass_factor,
+        "engine_mass_kg": pc["m_eng"] * wt.empty_mass_factor,
+        "high_lift_mass_kg": pc["m_hl"] * wt.empty_mass_factor,
+        "structure_systems_mass_kg": pc["m_rest"] * wt.empty_mass_factor,
+        "wing_area_m2": s_ref,
+        "span_m": span,
+    }
+    if is_jet:
+        out["engine_thrust_kN"] = rated / 1e3
+        out["static_thrust_N"] = rated
+    else:
+        out["engine_power_kW"] = rated / 1e3
+        out["propeller_diameter_m"] = diameter
+        out["static_thrust_N"] = eng_to.static
+    out.update({
+        "cd0": np.full_like(ws_c, cd0),
+        "cd0_takeoff": cd0_to,
+        "cd0_landing": cd0 + hl["cd0_increment_landing"] + gear,
+        "oswald_e": e_low,
+        "oswald_e_cruise": pc["e_cr"],
+        "cl_max_clean": np.full_like(ws_c, ad.cl_max_clean),
+        "cl_max_takeoff": cl_to * np.ones_like(ws_c),
+        "cl_max_landing": cl_l_arr,
+        "cruise_lift_coefficient": pc["w_mid"] / (q_cr * s_ref),
+        "cruise_lift_to_drag": pc["ld_cruise"],
+        "density_takeoff_kg_m3": np.full_like(ws_c, rho_to),
+        "density_landing_kg_m3": np.full_like(ws_c, rho_ld),
+        "density_cruise_kg_m3": np.full_like(ws_c, rho_cr),
+        "stall_speed_m_s": vs_landing_sl,
+        "stall_speed_takeoff_m_s": vs_to,
+        "liftoff_speed_m_s": v_lo,
+        "thrust_liftoff_N": thrust_lo,
+        "ground_effect_factor": phi,
+        "min_runway_acceleration_m_s2": min_acc,
+        "takeoff_ground_roll_m": s_g,
+        "takeoff_rotation_m": s_rot,
+        "takeoff_air_distance_m": s_air,
+        "takeoff_distance_m": takeoff_aeo,
+        "balanced_field_length_m": bfl,
+        "takeoff_field_required_m": takeoff_required,
+        "approach_speed_m_s": sp.approach_speed_factor * vs_land_dst,
+        "landing_approach_m": s_app,
+        "landing_flare_m": s_flare,
+        "landing_ground_roll_m": s_lg,
+        "landing_distance_m": landing_total,
+        "climb_speed_m_s": v_climb,
+        "climb_rate_m_s": climb_rate,
+        "climb_gradient": climb_gradient,
+    })
+    if n_eng > 1:
+        out["oei_climb_gradient"] = oei_gradient
+    out.update({
+        "cruise_speed_m_s": v_max,
+        "cruise_mach": v_max / a_cr,
+        "service_ceiling_m": ceiling,
+        "maintenance_index": mci,
+    })
+    for c in names:
+        out[f"margin_{c}"] = margins[c]
+    out = {k: np.nan_to_num(np.asarray(v, dtype=float) * np.ones_like(ws_c), nan=0.0,
+                            posinf=1e12, neginf=-1e12) for k, v in out.items()}
+    out["feasible"] = feasible
+    out["limiting_index"] = limiting
+    return out

@@ -1,0 +1,301 @@
+"""Frozen, SI-only description of what the sizing model needs.
+
+These dataclasses are the contract between the study layer (which reads TOML, converts units
+with pint and validates) and the sizing layer (which only sees plain floats in SI units).
+Each field's ``metadata`` carries what the study loader needs to read it:
+
+``unit``
+    pint unit the value is stored in (the TOML value must be a string with a unit of the
+    same dimension); absent for dimensionless numbers, which are bare TOML numbers.
+``min`` / ``max``
+    inclusive validity range in the stored unit; ``min_open`` makes the lower bound exclusive.
+``doc``
+    one line for the study reference in DEVELOPERS.md.
+
+Family-dependent defaults live in :data:`FAMILY_DEFAULTS`; every default names its source.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+
+def _f(default: Any = None, *, unit: str | None = None, lo: float | None = None,
+       hi: float | None = None, lo_open: bool = False, doc: str = "", required: bool = False):
+    meta = {"unit": unit, "min": lo, "max": hi, "min_open": lo_open, "doc": doc,
+            "required": required}
+    if required:
+        return field(metadata=meta)
+    return field(default=default, metadata=meta)
+
+
+PROPULSION_FAMILIES = ("piston", "turboprop", "turbofan")
+CERTIFICATION_BASES = ("part23", "part25")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Airfield:
+    """One airfield of the mission (departure or destination)."""
+
+    elevation_m: float = _f(0.0, unit="m", lo=-500.0, hi=5000.0,
+                            doc="airfield elevation, taken as pressure altitude")
+    temperature_offset_K: float = _f(0.0, unit="K", lo=-60.0, hi=50.0,
+                                     doc="ISA temperature offset of the design day")
+    runway: str = _f("paved_dry", doc="runway surface, a key of the surface table")
+    field_length_m: float = _f(unit="m", lo=50.0, hi=6000.0, required=True,
+                               doc="field length available (takeoff or landing)")
+    obstacle_height_m: float | None = _f(None, unit="m", lo=0.0, hi=30.0,
+                                         doc="screen height; default from the certification basis")
+    rolling_friction: float | None = _f(None, lo=0.0, hi=0.5,
+                                        doc="override of the surface's rolling friction")
+    braking_friction: float | None = _f(None, lo=0.01, hi=1.0, lo_open=True,
+                                        doc="override of the surface's braking friction")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Propulsion:
+    """Engine family, count and installed characteristics."""
+
+    family: str = _f(required=True, doc="piston, turboprop or turbofan")
+    engine_count: int = _f(required=True, lo=1, hi=4, doc="number of engines")
+    sfc_cruise: float | None = _f(None, unit="kg/J", lo=1e-9, hi=1e-6,
+                                  doc="power-specific fuel consumption (piston, turboprop)")
+    tsfc_cruise: float | None = _f(None, unit="kg/N/s", lo=1e-6, hi=5e-5,
+                                   doc="thrust-specific fuel consumption at cruise (turbofan)")
+    propeller_efficiency_cruise: float | None = _f(None, lo=0.3, hi=0.95)
+    propeller_efficiency_climb: float | None = _f(None, lo=0.3, hi=0.95)
+    propeller_figure_of_merit: float = _f(0.70, lo=0.3, hi=0.9,
+                                          doc="static figure of merit (McCormick, momentum theory)")
+    propeller_diameter_coefficient: float | None = _f(
+        None, lo=0.2, hi=1.2, doc="D [m] = k * (P per engine [kW])**0.25")
+    cruise_power_fraction: float | None = _f(None, lo=0.3, hi=1.0,
+                                             doc="power or thrust setting for the cruise-speed check")
+    climb_power_fraction: float = _f(1.0, lo=0.3, hi=1.0,
+                                     doc="max-continuous over takeoff rating in climb")
+    turboprop_lapse_exponent: float = _f(0.75, lo=0.3, hi=1.5)
+    turboprop_flat_rating_margin: float = _f(1.15, lo=1.0, hi=1.6,
+                                             doc="thermodynamic over rated power at SL ISA")
+    turbocharged_critical_altitude_m: float = _f(0.0, unit="m", lo=0.0, hi=10000.0,
+                                                 doc="piston: full power held to this altitude")
+    turbofan_throttle_ratio: float = _f(1.05, lo=1.0, hi=1.2)
+    turbofan_bypass_ratio: float = _f(4.0, lo=0.0, hi=12.0)
+    engine_specific_mass: float | None = _f(None, unit="kg/kW", lo=0.05, hi=3.0,
+                                            doc="installed engine mass per rated power (props)")
+    engine_thrust_to_weight: float | None = _f(None, lo=2.0, hi=10.0,
+                                               doc="bare turbofan static thrust over its weight")
+    engine_installation_factor: float | None = _f(None, lo=1.0, hi=2.5,
+                                                  doc="installed over bare engine mass (turbofan)")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Aerodynamics:
+    """Fixed aerodynamic assumptions of the study."""
+
+    cd0_clean: float | None = _f(None, lo=0.005, hi=0.1, lo_open=True,
+                                 doc="clean zero-lift drag coefficient")
+    cl_max_clean: float | None = _f(None, lo=0.8, hi=2.2, doc="clean airplane CLmax")
+    oswald_method: str = _f("nita_scholz2012", doc="key of the Oswald-factor registry")
+    oswald_k_ed0: float | None = _f(None, lo=0.6, hi=1.0, doc="Nita & Scholz k_e,D0")
+    fuselage_diameter_m: float = _f(unit="m", lo=0.5, hi=8.0, required=True)
+    taper_ratio: float = _f(0.6, lo=0.1, hi=1.0)
+    sweep_quarter_chord_rad: float = _f(0.0, unit="rad", lo=0.0, hi=0.7)
+    thickness_ratio: float = _f(0.15, lo=0.06, hi=0.24)
+    wing_height_m: float = _f(1.0, unit="m", lo=0.2, hi=6.0,
+                              doc="height of the wing above the runway during the ground roll")
+    ground_effect_method: str = _f("mccormick", doc="mccormick or wieselsberger")
+    cl_ground_roll: float = _f(0.5, lo=0.0, hi=2.0, doc="lift coefficient during the ground roll")
+    landing_gear: str = _f("fixed", doc="fixed or retractable")
+    gear_drag_increment: float = _f(0.020, lo=0.0, hi=0.1,
+                                    doc="CD0 of extended retractable gear (Roskam Pt I Tbl 3.6)")
+    engine_out_drag_increment: float = _f(0.004, lo=0.0, hi=0.05,
+                                          doc="windmilling/feathered engine and trim drag")
+    flapped_span_fraction: float = _f(0.6, lo=0.1, hi=0.95, doc="S_flapped / S_ref")
+    slat_span_fraction: float = _f(0.8, lo=0.1, hi=0.95)
+    drag_divergence_mach: float = _f(0.80, lo=0.5, hi=0.95, doc="for the wave-drag rise")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Weights:
+    """Payload and empty-mass build-up assumptions."""
+
+    payload_kg: float = _f(unit="kg", lo=1.0, hi=60000.0, required=True)
+    crew_kg: float = _f(unit="kg", lo=0.0, hi=2000.0, required=True)
+    ultimate_load_factor: float | None = _f(None, lo=2.0, hi=12.0)
+    wing_mass_factor: float = _f(1.0, lo=0.3, hi=3.0, doc="calibration of the wing equation")
+    structure_systems_fraction: float | None = _f(None, lo=0.05, hi=0.6,
+                                                  doc="fuselage, tails, gear, systems / m_TO")
+    fixed_equipment_kg: float | None = _f(None, unit="kg", lo=0.0, hi=20000.0,
+                                          doc="avionics, furnishings and other fixed items")
+    actuator_unit_mass_kg: float = _f(3.0, unit="kg", lo=0.0, hi=200.0,
+                                      doc="mass of one high-lift actuator (per side)")
+    empty_mass_factor: float = _f(1.0, lo=0.5, hi=2.0, doc="multiplies the whole empty mass")
+    mass_limit_ratio: float = _f(40.0, lo=2.0, hi=200.0,
+                                 doc="closure search stops at this multiple of payload + crew")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Mission:
+    """Design mission."""
+
+    range_m: float = _f(unit="m", lo=1e3, hi=2e7, required=True)
+    cruise_altitude_m: float = _f(unit="m", lo=0.0, hi=15000.0, required=True)
+    cruise_speed_m_s: float = _f(unit="m/s", lo=10.0, hi=300.0, required=True,
+                                 doc="true airspeed flown and required")
+    cruise_temperature_offset_K: float = _f(0.0, unit="K", lo=-60.0, hi=50.0)
+    reserve_time_s: float = _f(0.0, unit="s", lo=0.0, hi=4 * 3600.0)
+    reserve_range_m: float = _f(0.0, unit="m", lo=0.0, hi=2e6)
+    fraction_startup: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
+    fraction_taxi: float | None = _f(None, lo=0.9, hi=1.0)
+    fraction_takeoff: float | None = _f(None, lo=0.9, hi=1.0)
+    fraction_climb: float | None = _f(None, lo=0.8, hi=1.0)
+    fraction_descent: float | None = _f(None, lo=0.9, hi=1.0)
+    fraction_landing: float | None = _f(None, lo=0.9, hi=1.0)
+    trapped_fuel_fraction: float = _f(0.005, lo=0.0, hi=0.05,
+                                      doc="trapped fuel and oil / m_TO (Roskam Pt I)")
+    landing_mass_ratio: float = _f(1.0, lo=0.5, hi=1.0, doc="landing over takeoff mass")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Requirements:
+    """Limits every design must meet (cruise speed is in the mission)."""
+
+    stall_speed_m_s: float = _f(unit="m/s", lo=10.0, hi=120.0, required=True,
+                                doc="stall speed in landing configuration, SL, at takeoff mass")
+    climb_rate_m_s: float = _f(unit="m/s", lo=0.0, hi=100.0, lo_open=True, required=True,
+                               doc="all-engines rate of climb at the departure airfield")
+    service_ceiling_m: float = _f(unit="m", lo=0.0, hi=20000.0, lo_open=True, required=True)
+
+
+@dataclass(frozen=True, kw_only=True)
+class Speeds:
+    """Speed schedule as multiples of the relevant stall speed."""
+
+    liftoff_speed_factor: float = _f(1.2, lo=1.05, hi=1.5, doc="V_LO / V_s,TO")
+    transition_speed_factor: float = _f(1.15, lo=1.05, hi=1.5, doc="V_TR / V_s,TO (Anderson)")
+    transition_load_factor: float = _f(1.19, lo=1.05, hi=1.5, doc="n in the flare-up arc")
+    rotation_time_s: float = _f(1.0, unit="s", lo=0.0, hi=6.0)
+    climb_speed_factor: float = _f(1.2, lo=1.1, hi=1.6, doc="V_climb,min / V_s")
+    approach_speed_factor: float = _f(1.3, lo=1.1, hi=1.5, doc="V_A / V_s,L")
+    flare_speed_factor: float = _f(1.23, lo=1.05, hi=1.5, doc="V_F / V_s,L (Anderson)")
+    approach_angle_rad: float = _f(0.05236, unit="rad", lo=0.01, hi=0.2)
+    free_roll_time_s: float = _f(3.0, unit="s", lo=0.0, hi=10.0)
+
+
+@dataclass(frozen=True, kw_only=True)
+class HighLift:
+    """One high-lift configuration (a flap type, optionally with slats), airplane level.
+
+    Built by :func:`optimiser.physics.highlift.high_lift_config`; see there for the sources.
+    """
+
+    name: str
+    cl_increment_takeoff: float
+    cl_increment_landing: float
+    cd0_increment_takeoff: float
+    cd0_increment_landing: float
+    flap_area_ratio: float
+    flap_mass_per_area_kg_m2: float
+    slat_area_ratio: float
+    slat_mass_per_area_kg_m2: float
+    actuators: float
+    actuator_mass_kg: float
+    flap_items: float
+    flap_supports_min: float
+    flap_support_spacing_m: float
+    slat_items: float
+    slat_supports_min: float
+    slat_support_spacing_m: float
+    flapped_span_fraction: float
+    slat_span_fraction: float
+    support_weight: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Certification:
+    """Regulatory numbers from the certification basis (see physics.performance)."""
+
+    basis: str
+    aeo_climb_gradient_min: float
+    oei_climb_gradient_min: float
+    oei_climb_altitude_m: float
+    oei_flaps_takeoff: bool
+    aeo_climb_altitude_m: float
+    balanced_field: bool
+    field_length_factor: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class AircraftSpec:
+    """Everything fixed in a study; the decision variables come separately as arrays."""
+
+    propulsion: Propulsion
+    aerodynamics: Aerodynamics
+    weights: Weights
+    mission: Mission
+    requirements: Requirements
+    speeds: Speeds
+    departure: Airfield
+    destination: Airfield
+    certification: Certification
+    high_lift: tuple[HighLift, ...]
+
+    @property
+    def uses_power_loading(self) -> bool:
+        return self.propulsion.family in ("piston", "turboprop")
+
+    @property
+    def high_lift_names(self) -> tuple[str, ...]:
+        return tuple(h.name for h in self.high_lift)
+
+
+# Family defaults, used where a study leaves a value out. Each names its source.
+FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
+    "piston": {
+        "propulsion": dict(
+            sfc_cruise=7.5e-8,                 # 0.27 kg/kWh = 0.44 lb/(hp h), lean cruise [common practice]
+            propeller_efficiency_cruise=0.80,  # Roskam Pt I Table 2.2 [from memory]
+            propeller_efficiency_climb=0.75,   # Roskam Pt I Table 2.2, 0.7-0.77 [from memory]
+            propeller_diameter_coefficient=0.56,  # Raymer ch. 10, two-blade [from memory]
+            cruise_power_fraction=0.75,        # 75 % power cruise [common practice]
+            engine_specific_mass=1.35),        # 0.9 kg/kW dry x 1.5 installed [common practice]
+        "aerodynamics": dict(cd0_clean=0.028, cl_max_clean=1.5, oswald_k_ed0=0.804),
+        # cd0: GA 0.020-0.035 [common practice]; CLmax single prop 1.3-1.9, Roskam Pt I Tbl 3.1
+        # [from memory]; k_eD0 GA, Nita & Scholz 2012 [from memory]
+        "weights": dict(ultimate_load_factor=5.7,   # 1.5 x 3.8, normal category [from memory]
+                        structure_systems_fraction=0.27, fixed_equipment_kg=60.0),
+        # structure/systems share calibrated so that the demo's empty fraction is 0.55-0.65,
+        # the range of Roskam Pt I Table 2.15 for single props [common practice]
+    },
+    "turboprop": {
+        "propulsion": dict(
+            sfc_cruise=8.33e-8,                # 0.30 kg/kWh = 0.49 lb/(shp h), Roskam Tbl 2.2 0.4-0.6
+            propeller_efficiency_cruise=0.85,  # Roskam Pt I Table 2.2 [from memory]
+            propeller_efficiency_climb=0.80,
+            propeller_diameter_coefficient=0.49,  # Raymer ch. 10, four-blade [from memory]
+            cruise_power_fraction=0.90,        # max cruise power [common practice]
+            engine_specific_mass=0.45),        # 0.25 kg/kW dry x 1.8 with propeller [common practice]
+        "aerodynamics": dict(cd0_clean=0.024, cl_max_clean=1.5, oswald_k_ed0=0.804),
+        "weights": dict(ultimate_load_factor=5.7, structure_systems_fraction=0.30,
+                        fixed_equipment_kg=450.0),
+    },
+    "turbofan": {
+        "propulsion": dict(
+            tsfc_cruise=1.98e-5,               # 0.70 lb/(lbf h), business jets 0.5-0.9, Roskam Tbl 2.2
+            cruise_power_fraction=0.90,        # cruise over max-climb thrust [common practice]
+            engine_thrust_to_weight=5.0,       # bare engine T/W 4-6 [common practice]
+            engine_installation_factor=1.3),   # nacelle and pylon 1.2-1.4 [common practice]
+        "aerodynamics": dict(cd0_clean=0.020, cl_max_clean=1.4, oswald_k_ed0=0.873),
+        # jets 0.015-0.020 [common practice]; business jet CLmax 1.4-1.8 Roskam Tbl 3.1 [from memory]
+        "weights": dict(ultimate_load_factor=3.75,  # 1.5 x 2.5, 14 CFR 25.337 [from memory]
+                        structure_systems_fraction=0.32, fixed_equipment_kg=600.0),
+    },
+}
+
+def segment_class(family: str, engine_count: int) -> str:
+    """Row of the segment-fraction table for a family and engine count."""
+    if family == "piston":
+        return "single_engine_prop" if engine_count == 1 else "twin_engine_prop"
+    if family == "turboprop":
+        return "regional_turboprop"
+    return "business_jet"

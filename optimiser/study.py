@@ -1,0 +1,540 @@
+"""Study files: TOML in, a validated :class:`Study` (SI inside) out.
+
+Every dimensional value in a study is a string with its unit ("600 m", "61 kn", "350 hp"),
+parsed with pint and checked for dimension; dimensionless values are bare numbers. Anything
+wrong raises :class:`StudyError` with one line that names the key, what was given and what
+was expected. See DEVELOPERS.md for the full list of keys.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import math
+from dataclasses import dataclass, fields, replace
+from pathlib import Path
+from typing import Any
+
+try:  # Python 3.11+
+    import tomllib
+except ModuleNotFoundError:  # pragma: no cover - Python 3.10
+    import tomli as tomllib
+
+from . import spec as S
+from .physics import aerodynamics, highlift, mission, performance
+
+MAX_STUDY_BYTES = 1_000_000
+OBJECTIVES = {
+    "trip_fuel": ("trip_fuel_kg", "trip fuel [kg]"),
+    "engine_size": (None, "engine size"),  # engine_power_kW or engine_thrust_kN
+    "maintenance": ("maintenance_index", "maintenance index [-]"),
+    "takeoff_mass": ("takeoff_mass_kg", "takeoff mass [kg]"),
+}
+DEFAULT_OBJECTIVES = ("trip_fuel", "engine_size", "maintenance")
+MAX_ENGINES = {"piston": 2, "turboprop": 4, "turbofan": 4}
+"""Engine counts each family may have (common practice: no piston airplanes above twins here)."""
+
+VARIABLE_UNITS = {
+    # key: (column, pint unit or None, lowest allowed, highest allowed)
+    "wing_loading": ("wing_loading_N_m2", "N/m^2", 100.0, 12000.0),
+    "power_loading": ("power_loading_N_kW", "N/kW", 10.0, 500.0),
+    "thrust_to_weight": ("thrust_to_weight", None, 0.05, 1.5),
+    "aspect_ratio": ("aspect_ratio", None, 3.0, 20.0),
+}
+SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
+               "seed": (int, 0, 2**32 - 1)}
+
+_UNIT_SUFFIXES = ("_kg_m2", "_m_s", "_kg", "_rad", "_K", "_m", "_s")
+_SECTIONS = {
+    "propulsion": S.Propulsion, "aerodynamics": S.Aerodynamics, "weights": S.Weights,
+    "mission": S.Mission, "requirements": S.Requirements, "speeds": S.Speeds,
+    "departure": S.Airfield, "destination": S.Airfield,
+}
+_TOP_KEYS = {"name", "description", "certification", "variables", "objectives", "flap_catalogue",
+             "slats", "search", *_SECTIONS}
+_REQUIRED_SECTIONS = ("propulsion", "aerodynamics", "weights", "mission", "requirements",
+                      "departure", "variables")
+
+
+class StudyError(ValueError):
+    """A study file (or a designs file) that cannot be used; the message is one line."""
+
+
+_UREG = None
+
+
+def units():
+    """The shared pint UnitRegistry (created on first use)."""
+    global _UREG
+    if _UREG is None:
+        import pint
+        _UREG = pint.UnitRegistry()
+    return _UREG
+
+
+def toml_key(field_name: str, unit: str | None) -> str:
+    """The study key of a spec field: the field name without its unit suffix."""
+    if unit is not None:
+        for suffix in _UNIT_SUFFIXES:
+            if field_name.endswith(suffix):
+                return field_name[: -len(suffix)]
+    return field_name
+
+
+def _suggest(word, choices):
+    close = difflib.get_close_matches(word, list(choices), n=1)
+    return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+@dataclass(frozen=True)
+class Variable:
+    """One decision variable: CSV column, bounds in that column's unit, fixed or free."""
+
+    key: str
+    column: str
+    lower: float
+    upper: float
+
+    @property
+    def fixed(self) -> bool:
+        return self.lower == self.upper
+
+
+@dataclass(frozen=True)
+class Study:
+    """A validated study: requirements and assumptions (``spec``) plus the search space."""
+
+    name: str
+    description: str
+    path: str
+    text: str
+    spec: S.AircraftSpec
+    variables: tuple[Variable, ...]
+    flaps: tuple[str, ...]
+    objectives: tuple[str, ...]
+    search: dict
+    sha256: str
+
+    @property
+    def loading_column(self) -> str:
+        return "power_loading_N_kW" if self.spec.uses_power_loading else "thrust_to_weight"
+
+    @property
+    def engine_size_column(self) -> str:
+        return "engine_power_kW" if self.spec.uses_power_loading else "engine_thrust_kN"
+
+    def objective_columns(self) -> tuple[str, ...]:
+        return tuple(self.engine_size_column if o == "engine_size" else OBJECTIVES[o][0]
+                     for o in self.objectives)
+
+    def variable(self, column: str) -> Variable:
+        return next(v for v in self.variables if v.column == column)
+
+
+class _Reader:
+    """Reads values out of the parsed TOML, with the file name in every message."""
+
+    def __init__(self, path: str):
+        self.path = path
+
+    def fail(self, where: str, message: str):
+        raise StudyError(f"{self.path}: {where}: {message}")
+
+    def number(self, where, value, lo=None, hi=None, lo_open=False, integer=False):
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            kind = "a string" if isinstance(value, str) else type(value).__name__
+            extra = " (drop the quotes and any unit: this value is dimensionless)" \
+                if isinstance(value, str) else ""
+            self.fail(where, f"got {value!r} ({kind}); expected a number{extra}")
+        if integer and not isinstance(value, int):
+            self.fail(where, f"got {value!r}; expected a whole number")
+        if not math.isfinite(value):
+            self.fail(where, f"got {value!r}; expected a finite number")
+        self._range(where, float(value), lo, hi, lo_open, "")
+        return int(value) if integer else float(value)
+
+    def _range(self, where, x, lo, hi, lo_open, unit):
+        u = f" {unit}" if unit else ""
+        if lo is not None and (x < lo or (lo_open and x <= lo)):
+            rel = "greater than" if lo_open else "at least"
+            self.fail(where, f"got {x:g}{u}; expected {rel} {lo:g}{u}"
+                      + (f" and at most {hi:g}{u}" if hi is not None else ""))
+        if hi is not None and x > hi:
+            self.fail(where, f"got {x:g}{u}; expected at most {hi:g}{u}")
+
+    def quantity(self, where, value, unit, lo=None, hi=None, lo_open=False):
+        ureg = units()
+        example = {"m": '"600 m"', "m/s": '"61 kn"', "kg": '"400 kg"', "s": '"45 min"',
+                   "K": '"15 K"', "rad": '"3 deg"', "kg/J": '"0.45 lb/hp/hour"',
+                   "kg/N/s": '"0.7 lb/lbf/hour"', "kg/kW": '"1.3 kg/kW"',
+                   "N/m^2": '"1200 N/m^2"', "N/kW": '"80 N/kW"'}.get(unit, f'"1 {unit}"')
+        want = ureg.Quantity(1.0, unit)
+        dim_name = _dimension_name(unit)
+        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+            self.fail(where, f"got {value!r}; expected {dim_name} as a string with its unit, "
+                      f"e.g. {example}")
+        if not isinstance(value, str):
+            self.fail(where, f"got {value!r} (a bare number); expected {dim_name} with its unit, "
+                      f"e.g. {example}")
+        try:
+            q = ureg.Quantity(value)
+        except Exception as exc:
+            if "offset" in type(exc).__name__.lower() or "offset" in str(exc).lower():
+                self.fail(where, f"got {value!r}, an absolute temperature; expected a "
+                          "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
+            self.fail(where, f"got {value!r}, which is not a quantity with a known unit; "
+                      f"expected {dim_name}, e.g. {example}")
+        if not hasattr(q, "units") or q.unitless:
+            self.fail(where, f"got {value!r} (no unit); expected {dim_name} with its unit, "
+                      f"e.g. {example}")
+        if unit == "K" and not q._ok_for_muldiv():
+            self.fail(where, f"got {value!r}, an absolute temperature; expected a "
+                      "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
+        if q.dimensionality != want.dimensionality:
+            self.fail(where, f"got {value!r}, which is not {dim_name}; expected {dim_name}, "
+                      f"e.g. {example}")
+        x = float(q.to(unit).magnitude)
+        if not math.isfinite(x):
+            self.fail(where, f"got {value!r}; expected a finite value")
+        self._range(where, x, lo, hi, lo_open, unit)
+        return x
+
+    def choice(self, where, value, choices):
+        if not isinstance(value, str) or value not in choices:
+            self.fail(where, f"got {value!r}; expected one of: "
+                      + ", ".join(repr(c) for c in choices)
+                      + (_suggest(value, choices) if isinstance(value, str) else ""))
+        return value
+
+    def table(self, where, value):
+        if not isinstance(value, dict):
+            self.fail(where, f"got {value!r}; expected a table ([{where.strip('[]')}])")
+        return value
+
+
+_DIMENSIONS = {"m": "a length", "m/s": "a speed", "kg": "a mass", "s": "a time",
+               "K": "a temperature difference", "rad": "an angle",
+               "kg/J": "a power-specific fuel consumption",
+               "kg/N/s": "a thrust-specific fuel consumption",
+               "kg/kW": "a mass per power", "N/m^2": "a wing loading (force per area)",
+               "N/kW": "a power loading (force per power)"}
+
+
+def _dimension_name(unit):
+    return _DIMENSIONS.get(unit, f"a quantity in {unit}")
+
+
+_CHOICES = {
+    ("propulsion", "family"): S.PROPULSION_FAMILIES,
+    ("aerodynamics", "oswald_method"): tuple(aerodynamics.OSWALD_METHODS),
+    ("aerodynamics", "ground_effect_method"): tuple(aerodynamics.GROUND_EFFECT_METHODS),
+    ("aerodynamics", "landing_gear"): ("fixed", "retractable"),
+    ("departure", "runway"): tuple(performance.RUNWAY_SURFACES),
+    ("destination", "runway"): tuple(performance.RUNWAY_SURFACES),
+}
+
+
+def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> Any:
+    """Read one TOML table into a spec dataclass, filling defaults from ``preset``."""
+    by_key = {}
+    for f in fields(cls):
+        by_key[toml_key(f.name, f.metadata.get("unit"))] = f
+    values = {}
+    for key, value in raw.items():
+        where = f"[{section}] {key}"
+        if key not in by_key:
+            rd.fail(f"[{section}]", f"unknown key {key!r}{_suggest(key, by_key)}; expected one "
+                    "of: " + ", ".join(sorted(by_key)))
+        f = by_key[key]
+        meta = f.metadata
+        if (section, key) in _CHOICES:
+            values[f.name] = rd.choice(where, value, _CHOICES[(section, key)])
+        elif f.type in ("str", str):
+            values[f.name] = rd.choice(where, value, (value,)) if isinstance(value, str) else \
+                rd.fail(where, f"got {value!r}; expected a string")
+        elif meta.get("unit"):
+            values[f.name] = rd.quantity(where, value, meta["unit"], meta.get("min"),
+                                         meta.get("max"), meta.get("min_open", False))
+        else:
+            values[f.name] = rd.number(where, value, meta.get("min"), meta.get("max"),
+                                       meta.get("min_open", False),
+                                       integer=(f.type in ("int", int)))
+    for f in fields(cls):
+        if f.name not in values:
+            if f.name in preset:
+                values[f.name] = preset[f.name]
+            elif f.metadata.get("required"):
+                unit = f.metadata.get("unit")
+                hint = f" ({_dimension_name(unit)} with its unit)" if unit else ""
+                rd.fail(f"[{section}]", f"missing required key "
+                        f"{toml_key(f.name, unit)!r}{hint}")
+    return cls(**values)
+
+
+def _bounds(rd: _Reader, key: str, raw, unit, lo_ok, hi_ok) -> tuple[float, float]:
+    where = f"[variables] {key}"
+
+    def one(v, w):
+        if unit:
+            return rd.quantity(w, v, unit, lo_ok, hi_ok)
+        return rd.number(w, v, lo_ok, hi_ok)
+
+    if isinstance(raw, list):
+        if len(raw) != 2:
+            rd.fail(where, f"got {len(raw)} values; expected [lower, upper] or a single value "
+                    "to fix the variable")
+        lo = one(raw[0], where + " (lower)")
+        hi = one(raw[1], where + " (upper)")
+        if lo > hi:
+            rd.fail(where, f"lower bound {raw[0]!r} is greater than upper bound {raw[1]!r} "
+                    "(lower and upper reversed?)")
+        if lo == hi:
+            rd.fail(where, f"lower and upper bound are both {raw[0]!r} (an empty range); "
+                    "give a single value to fix the variable")
+        return lo, hi
+    x = one(raw, where)
+    return x, x
+
+
+def _read_catalogue(rd: _Reader, raw: dict):
+    cat = {k: dict(v) for k, v in highlift.FLAP_CATALOGUE.items()}
+    slat = dict(highlift.SLAT_ENTRY)
+    over = rd.table("[flap_catalogue]", raw.get("flap_catalogue", {}))
+    for name, entry in over.items():
+        where = f"[flap_catalogue.{name}]"
+        if "+" in name or not name.replace("_", "").isalnum():
+            rd.fail(where, f"got the name {name!r}; expected letters, digits and '_' only")
+        entry = rd.table(where, entry)
+        known = name in cat
+        base = cat.get(name, {})
+        for k, v in entry.items():
+            if k not in highlift.FLAP_FIELDS:
+                rd.fail(where, f"unknown key {k!r}{_suggest(k, highlift.FLAP_FIELDS)}; "
+                        "expected one of: " + ", ".join(highlift.FLAP_FIELDS))
+            hi = 1.0 if k == "takeoff_fraction" else (10.0 if k in (
+                "section_cl_increment", "chord_extension", "cd0_factor_takeoff",
+                "cd0_factor_landing") else 200.0)
+            lo = 1.0 if k == "chord_extension" else 0.0
+            lo_open = k == "support_spacing_m"
+            base[k] = rd.number(f"{where} {k}", v, lo, hi, lo_open)
+        missing = [k for k in highlift.FLAP_FIELDS if k not in base]
+        if missing and not known:
+            rd.fail(where, "a new flap type needs every field; missing: " + ", ".join(missing))
+        cat[name] = base
+    sl = rd.table("[slats]", raw.get("slats", {}))
+    for k, v in sl.items():
+        if k not in highlift.SLAT_FIELDS:
+            rd.fail("[slats]", f"unknown key {k!r}{_suggest(k, highlift.SLAT_FIELDS)}; expected "
+                    "one of: " + ", ".join(highlift.SLAT_FIELDS))
+        lo_open = k == "support_spacing_m"
+        slat[k] = rd.number(f"[slats] {k}", v, 1.0 if k == "chord_extension" else 0.0,
+                            200.0, lo_open)
+    return cat, slat
+
+
+def parse_study(text: str, path: str = "<study>") -> Study:
+    """Validate study TOML text and build a :class:`Study`. Raises :class:`StudyError`."""
+    rd = _Reader(path)
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise StudyError(f"{path}: not valid TOML: {exc}") from None
+    for key in raw:
+        if key not in _TOP_KEYS:
+            rd.fail("top level", f"unknown key {key!r}{_suggest(key, _TOP_KEYS)}; expected one "
+                    "of: " + ", ".join(sorted(_TOP_KEYS)))
+    for sec in _REQUIRED_SECTIONS:
+        if sec not in raw:
+            rd.fail("top level", f"missing required table [{sec}]")
+    for sec in (*_SECTIONS, "variables", "objectives", "search"):
+        if sec in raw:
+            rd.table(f"[{sec}]", raw[sec])
+    name = raw.get("name")
+    if not isinstance(name, str) or not name.strip():
+        rd.fail("name", f"got {name!r}; expected a non-empty string naming the study")
+    if not all(c.isalnum() or c in "-_." for c in name) or len(name) > 80:
+        rd.fail("name", f"got {name!r}; expected at most 80 letters, digits, '-', '_' or '.' "
+                "(it names the run folder)")
+    description = raw.get("description", "")
+    if not isinstance(description, str):
+        rd.fail("description", f"got {description!r}; expected a string")
+    basis = rd.choice("certification", raw.get("certification", "part23"),
+                      S.CERTIFICATION_BASES)
+
+    fam_raw = raw["propulsion"].get("family")
+    family = rd.choice("[propulsion] family", fam_raw, S.PROPULSION_FAMILIES)
+    presets = S.FAMILY_DEFAULTS[family]
+    prop = _read_section(rd, "propulsion", raw["propulsion"], S.Propulsion,
+                         presets.get("propulsion", {}))
+    if prop.engine_count > MAX_ENGINES[family]:
+        rd.fail("[propulsion] engine_count", f"got {prop.engine_count}; a {family} study "
+                f"expects 1 to {MAX_ENGINES[family]} engines")
+    if basis == "part25" and prop.engine_count < 2:
+        rd.fail("[propulsion] engine_count", f"got {prop.engine_count} under certification "
+                "'part25'; expected 2 to 4 (this tool sizes transport-category airplanes with "
+                "two or more engines)")
+    if family == "turbofan":
+        for k in ("sfc_cruise", "propeller_efficiency_cruise", "propeller_efficiency_climb",
+                  "propeller_diameter_coefficient", "engine_specific_mass"):
+            if k in raw["propulsion"]:
+                rd.fail(f"[propulsion] {k}", "given for a turbofan study; expected it only for "
+                        "piston or turboprop studies (use tsfc_cruise, engine_thrust_to_weight)")
+    else:
+        for k in ("tsfc_cruise", "engine_thrust_to_weight", "engine_installation_factor"):
+            if k in raw["propulsion"]:
+                rd.fail(f"[propulsion] {k}", f"given for a {family} study; expected it only "
+                        "for turbofan studies")
+    aero = _read_section(rd, "aerodynamics", raw["aerodynamics"], S.Aerodynamics,
+                         presets.get("aerodynamics", {}))
+    wts = _read_section(rd, "weights", raw["weights"], S.Weights, presets.get("weights", {}))
+    fr = mission.SEGMENT_FRACTIONS[S.segment_class(family, prop.engine_count)]
+    mis_preset = dict(zip(("fraction_startup", "fraction_taxi", "fraction_takeoff",
+                           "fraction_climb", "fraction_descent", "fraction_landing"), fr))
+    mis = _read_section(rd, "mission", raw["mission"], S.Mission, mis_preset)
+    req = _read_section(rd, "requirements", raw["requirements"], S.Requirements, {})
+    speeds = _read_section(rd, "speeds", raw.get("speeds", {}), S.Speeds, {})
+    if speeds.flare_speed_factor > speeds.approach_speed_factor:
+        rd.fail("[speeds] flare_speed_factor", f"got {speeds.flare_speed_factor:g}; expected "
+                f"at most the approach_speed_factor {speeds.approach_speed_factor:g}")
+
+    try:
+        cert_numbers = performance.certification_numbers(basis, family, prop.engine_count)
+    except ValueError as exc:
+        rd.fail("certification", str(exc))
+    dep = _airfield(rd, "departure", raw["departure"], cert_numbers["obstacle_height_m"])
+    dst = _airfield(rd, "destination", raw["destination"], performance.OBSTACLE_HEIGHT["part23"]) \
+        if "destination" in raw else replace(dep, obstacle_height_m=performance.OBSTACLE_HEIGHT[
+            "part23"])
+    if mis.cruise_speed_m_s < 1.05 * req.stall_speed_m_s:
+        rd.fail("[mission] cruise_speed", f"got {mis.cruise_speed_m_s:.1f} m/s; expected well "
+                f"above the stall-speed limit {req.stall_speed_m_s:.1f} m/s")
+    cert = S.Certification(basis=basis, aeo_climb_gradient_min=cert_numbers[
+        "aeo_climb_gradient_min"], oei_climb_gradient_min=cert_numbers["oei_climb_gradient_min"],
+        oei_climb_altitude_m=cert_numbers["oei_climb_altitude_m"],
+        oei_flaps_takeoff=cert_numbers["oei_flaps_takeoff"],
+        aeo_climb_altitude_m=0.0, balanced_field=cert_numbers["balanced_field"],
+        field_length_factor=cert_numbers["field_length_factor"])
+
+    catalogue, slat_entry = _read_catalogue(rd, raw)
+    all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
+    configs = tuple(S.HighLift(**highlift.high_lift_config(
+        n, catalogue, slat_entry, aero.flapped_span_fraction, aero.slat_span_fraction, 0.0,
+        wts.actuator_unit_mass_kg)) for n in all_names)
+    spec = S.AircraftSpec(propulsion=prop, aerodynamics=aero, weights=wts, mission=mis,
+                          requirements=req, speeds=speeds, departure=dep, destination=dst,
+                          certification=cert, high_lift=configs)
+
+    variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
+    objectives = _read_objectives(rd, raw.get("objectives", {}))
+    search = _read_search(rd, raw.get("search", {}))
+    return Study(name=name, description=description, path=path, text=text, spec=spec,
+                 variables=variables, flaps=flaps, objectives=objectives, search=search,
+                 sha256=hashlib.sha256(text.encode("utf-8")).hexdigest())
+
+
+def _airfield(rd, section, raw, default_obstacle):
+    af = _read_section(rd, section, raw, S.Airfield, {})
+    roll, brake = performance.RUNWAY_SURFACES[af.runway]
+    return replace(af,
+                   obstacle_height_m=default_obstacle if af.obstacle_height_m is None
+                   else af.obstacle_height_m,
+                   rolling_friction=roll if af.rolling_friction is None else af.rolling_friction,
+                   braking_friction=brake if af.braking_friction is None else af.braking_friction)
+
+
+def _read_variables(rd, raw, spec, catalogue):
+    family_key = "power_loading" if spec.uses_power_loading else "thrust_to_weight"
+    other = "thrust_to_weight" if spec.uses_power_loading else "power_loading"
+    allowed = ("wing_loading", family_key, "aspect_ratio", "flaps")
+    for k in raw:
+        if k == other:
+            rd.fail(f"[variables] {k}", f"given for a {spec.propulsion.family} study; expected "
+                    f"{family_key!r} instead")
+        if k not in allowed:
+            rd.fail("[variables]", f"unknown key {k!r}{_suggest(k, allowed)}; expected one of: "
+                    + ", ".join(allowed))
+    out = []
+    for k in ("wing_loading", family_key, "aspect_ratio"):
+        if k not in raw:
+            rd.fail("[variables]", f"missing required key {k!r} ([lower, upper] bounds or a "
+                    "single value)")
+        column, unit, lo_ok, hi_ok = VARIABLE_UNITS[k]
+        lo, hi = _bounds(rd, k, raw[k], unit, lo_ok, hi_ok)
+        out.append(Variable(key=k, column=column, lower=lo, upper=hi))
+    flaps_raw = raw.get("flaps", ["none", "plain", "single_slotted", "fowler"])
+    if isinstance(flaps_raw, str):
+        flaps_raw = [flaps_raw]
+    if not isinstance(flaps_raw, list) or not flaps_raw:
+        rd.fail("[variables] flaps", f"got {flaps_raw!r}; expected a non-empty list of flap "
+                "types")
+    for f in flaps_raw:
+        if not isinstance(f, str):
+            rd.fail("[variables] flaps", f"got {f!r}; expected flap-type names (strings)")
+        try:
+            highlift.parse_high_lift_name(f, catalogue)
+        except ValueError as exc:
+            rd.fail("[variables] flaps", str(exc) + _suggest(f, list(catalogue)))
+    if len(set(flaps_raw)) != len(flaps_raw):
+        rd.fail("[variables] flaps", f"got {flaps_raw!r}; expected each flap type once")
+    return tuple(out), tuple(flaps_raw)
+
+
+def _read_objectives(rd, raw):
+    for k in raw:
+        if k != "minimise":
+            rd.fail("[objectives]", f"unknown key {k!r}; expected 'minimise'")
+    obj = raw.get("minimise", list(DEFAULT_OBJECTIVES))
+    if not isinstance(obj, list) or len(obj) < 2:
+        rd.fail("[objectives] minimise", f"got {obj!r}; expected a list of two or more of: "
+                + ", ".join(OBJECTIVES))
+    for o in obj:
+        rd.choice("[objectives] minimise", o, tuple(OBJECTIVES))
+    if len(set(obj)) != len(obj):
+        rd.fail("[objectives] minimise", f"got {obj!r}; expected each objective once")
+    return tuple(obj)
+
+
+def _read_search(rd, raw):
+    out = {"population": 100, "generations": 100, "seed": 1}
+    for k, v in raw.items():
+        if k not in SEARCH_KEYS:
+            rd.fail("[search]", f"unknown key {k!r}{_suggest(k, SEARCH_KEYS)}; expected one of: "
+                    + ", ".join(SEARCH_KEYS))
+        _, lo, hi = SEARCH_KEYS[k]
+        out[k] = rd.number(f"[search] {k}", v, lo, hi, integer=True)
+    return out
+
+
+def load_study(path) -> Study:
+    """Read and validate a study file. Raises :class:`StudyError` (one line) when it cannot."""
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+    except OSError as exc:
+        raise StudyError(f"{path}: cannot read the study file ({exc.strerror})") from None
+    if p.is_dir():
+        raise StudyError(f"{path}: is a folder; expected a study file (.toml)")
+    if size > MAX_STUDY_BYTES:
+        raise StudyError(f"{path}: the file is {size} bytes; expected a study of at most "
+                         f"{MAX_STUDY_BYTES} bytes")
+    data = p.read_bytes()
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise StudyError(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 text "
+                         "file") from None
+    return parse_study(text, str(path))
+
+
+def bundled_study_path(name: str | None = None) -> Path:
+    """Path of a bundled demo study (the default study when ``name`` is None)."""
+    package = Path(__file__).resolve().parent
+    for folder in (package.parent / "problems", package / "data"):
+        candidate = folder / f"{name or DEFAULT_STUDY}.toml"
+        if candidate.exists():
+            return candidate
+    raise StudyError(f"no bundled study named {name or DEFAULT_STUDY!r}; expected a file in "
+                     f"{package.parent / 'problems'}")
+
+
+DEFAULT_STUDY = "high_strip_utility"
