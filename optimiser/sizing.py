@@ -183,15 +183,16 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
 
     fixed_kg = wt.payload_kg + wt.crew_kg
 
-    def pieces(m_to):
-        """All mass-dependent quantities for takeoff mass m_to [kg]."""
+    def pieces(m_to, ix=slice(None)):
+        """All mass-dependent quantities for takeoff mass m_to [kg] of designs ``ix``."""
+        ws_i, ar_i = ws_c[ix], ar_c[ix]
         w = m_to * G0
-        s_ref = w / ws_c
-        span = np.sqrt(ar_c * s_ref)
-        e_cr = aero.oswald_factor(ad.oswald_method, ar_c, ad.taper_ratio,
+        s_ref = w / ws_i
+        span = np.sqrt(ar_i * s_ref)
+        e_cr = aero.oswald_factor(ad.oswald_method, ar_i, ad.taper_ratio,
                                   ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span,
                                   mach_cr, ad.oswald_k_ed0)
-        k_cr = aero.induced_drag_factor(ar_c, e_cr)
+        k_cr = aero.induced_drag_factor(ar_i, e_cr)
         w_i = w * f_pre
         ld_i = aero.lift_to_drag(w_i / (q_cr * s_ref), cd0_cruise, k_cr)
         ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_i, eta_cr, sfc_p, sfc_t, is_jet)
@@ -210,18 +211,19 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         reserve = w_end * (1.0 - 1.0 / res_ratio) / G0
         fuel = trip + reserve + ms.trapped_fuel_fraction * m_to
         m_wing = wt.wing_mass_factor * weights.wing_mass_usaf(
-            m_to, wt.ultimate_load_factor, ar_c, s_ref, ad.taper_ratio, ad.thickness_ratio,
+            m_to, wt.ultimate_load_factor, ar_i, s_ref, ad.taper_ratio, ad.thickness_ratio,
             ad.sweep_quarter_chord_rad, v_h_eas)
         if is_jet:
-            rated = tw * w
+            rated = tw[ix] * w
             m_eng = weights.turbofan_engine_mass(rated, pr.engine_thrust_to_weight,
                                                  pr.engine_installation_factor)
         else:
-            rated = pw * w
+            rated = pw[ix] * w
             m_eng = weights.propeller_engine_mass(rated, pr.engine_specific_mass)
-        m_hl = weights.high_lift_mass(s_ref, hl["flap_area_ratio"], hl["flap_mass_per_area_kg_m2"],
-                                      hl["slat_area_ratio"], hl["slat_mass_per_area_kg_m2"],
-                                      hl["actuator_mass_kg"])
+        m_hl = weights.high_lift_mass(s_ref, hl["flap_area_ratio"][ix],
+                                      hl["flap_mass_per_area_kg_m2"][ix],
+                                      hl["slat_area_ratio"][ix], hl["slat_mass_per_area_kg_m2"][ix],
+                                      hl["actuator_mass_kg"][ix])
         m_rest = wt.structure_systems_fraction * m_to + wt.fixed_equipment_kg
         empty = wt.empty_mass_factor * (m_wing + m_eng + m_hl + m_rest)
         residual = m_to - (fixed_kg + fuel + empty)
@@ -230,26 +232,34 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
                     m_wing=m_wing, m_eng=m_eng, m_hl=m_hl, m_rest=m_rest, rated=rated,
                     w_mid=w_mid, w_i=w_i)
 
-    # --- takeoff-mass closure: safeguarded Newton on the residual, bracketed ---
-    lo = np.full_like(ws_c, fixed_kg * 1.0001)
-    cap = np.full_like(ws_c, fixed_kg * wt.mass_limit_ratio)
+    # --- takeoff-mass closure: safeguarded Newton on the residual, bracketed, iterating
+    # only over the designs not yet converged ---
+    cap_kg = fixed_kg * wt.mass_limit_ratio
+    cap = np.full_like(ws_c, cap_kg)
     r_cap = pieces(cap)["residual"]
     closes = r_cap > 0.0
-    hi = cap.copy()
-    m = np.minimum(fixed_kg / 0.45, 0.5 * (lo + hi))
-    for _ in range(30):
-        r = pieces(m)["residual"]
-        lo = np.where(r < 0.0, m, lo)
-        hi = np.where(r >= 0.0, m, hi)
-        dm = 1e-6 * m
-        slope = (pieces(m + dm)["residual"] - r) / dm
-        step = np.where(slope > 1e-6, m - r / np.where(slope > 1e-6, slope, 1.0), 0.5 * (lo + hi))
-        inside = (step > lo) & (step < hi)
-        m_new = np.where(inside, step, 0.5 * (lo + hi))
-        if np.all(np.abs(m_new - m) <= 1e-9 * m):
-            m = m_new
+    m = np.full_like(ws_c, min(fixed_kg / 0.45, 0.5 * cap_kg))
+    ia = np.flatnonzero(closes)
+    lo = np.full(ia.size, fixed_kg * 1.0001)
+    hi = np.full(ia.size, cap_kg)
+    for _ in range(60):
+        if ia.size == 0:
             break
-        m = m_new
+        mi = m[ia]
+        r = pieces(mi, ia)["residual"]
+        lo = np.where(r < 0.0, mi, lo)
+        hi = np.where(r >= 0.0, mi, hi)
+        todo = np.abs(r) > 1e-9 * mi
+        ia, mi, r, lo, hi = ia[todo], mi[todo], r[todo], lo[todo], hi[todo]
+        dm = 1e-7 * mi
+        slope = (pieces(mi + dm, ia)["residual"] - r) / dm
+        ok = slope > 1e-6
+        step = mi - r / np.where(ok, slope, 1.0)
+        inside = ok & (step > lo) & (step < hi)
+        m[ia] = np.where(inside, step, 0.5 * (lo + hi))
+    converged = np.ones_like(closes)
+    converged[ia] = False
+    closes &= converged
     m_to = np.where(closes, m, cap)
     pc = pieces(m_to)
     closure_margin = r_cap / cap
@@ -335,22 +345,24 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     vs_land_dst = performance.stall_speed(ws_land, rho_ld, cl_l_arr)
 
     # --- climb (clean, gear up, climb power) ---
-    def best_climb(h, dt):
-        rho = atm._density_unchecked(h, dt)[0]
-        t_h = atm._density_unchecked(h, dt)[2]
+    def best_climb(h, dt, ix=slice(None)):
+        """Best all-engines rate of climb [m/s] (clean, climb power) at altitude h for ``ix``."""
+        rho, _, t_h = atm._density_unchecked(h, dt)
         p_h = atm.isa_pressure(np.clip(h, atm.H_MIN, atm.H_MAX))
-        eng = _Propulsor(spec, rated, diameter, rho, t_h, p_h, pr.climb_power_fraction)
-        v_floor = sp.climb_speed_factor * performance.stall_speed(ws_c, rho, ad.cl_max_clean)
+        ws_i, w_i, k_i = ws_c[ix], w[ix], k_low[ix]
+        eng = _Propulsor(spec, rated[ix], None if diameter is None else diameter[ix], rho, t_h,
+                         p_h, pr.climb_power_fraction)
+        v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho, ad.cl_max_clean)
         if is_jet:
-            tw_h = eng.thrust(np.full_like(ws_c, 100.0), 1.0) / w
+            tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
             for _ in range(2):
-                v = np.sqrt(ws_c / (3.0 * rho * cd0) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0 * k_low)))
-                tw_h = eng.thrust(v, 1.0) / w
+                v = np.sqrt(ws_i / (3.0 * rho * cd0) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0 * k_i)))
+                tw_h = eng.thrust(v, 1.0) / w_i
         else:
-            v = np.sqrt(2.0 * ws_c / (rho * np.sqrt(3.0 * cd0 / k_low)))
+            v = np.sqrt(2.0 * ws_i / (rho * np.sqrt(3.0 * cd0 / k_i)))
         v = np.maximum(v, v_floor)
-        roc = v * (eng.thrust(v, eta_climb) / w - performance.drag_to_weight(v, ws_c, rho, cd0,
-                                                                             k_low))
+        roc = v * (eng.thrust(v, eta_climb) / w_i
+                   - performance.drag_to_weight(v, ws_i, rho, cd0, k_i))
         return roc, v
 
     climb_rate, v_climb = best_climb(np.full_like(ws_c, dep.elevation_m), dep.temperature_offset_K)
@@ -364,12 +376,15 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     climb_gradient = eng_aeo.thrust(v_aeo, eta_climb) / w - performance.drag_to_weight(
         v_aeo, ws_c, rho_aeo, cd0 + hl["cd0_increment_takeoff"], k_low)
 
-    # --- service ceiling: ROC_max(h) = 0.508 m/s, bisection over 0..20 km ---
+    # --- service ceiling: ROC_max(h) = 0.508 m/s, solved over 0..20 km ---
     target = performance.SERVICE_CEILING_CLIMB_RATE
-    roc_sl = best_climb(np.zeros_like(ws_c), dt_cr)[0]
-    ceiling = performance.largest_root(lambda h: best_climb(h, dt_cr)[0] - target,
-                                       np.zeros_like(ws_c), np.full_like(ws_c, atm.H_MAX), 22)
-    ceiling = np.where(roc_sl < target, 0.0, np.nan_to_num(ceiling, nan=0.0))
+    zeros = np.zeros_like(ws_c)
+    top = np.full_like(ws_c, atm.H_MAX)
+    f_sl = best_climb(zeros, dt_cr)[0] - target
+    f_top = best_climb(top, dt_cr)[0] - target
+    ceiling = performance.falling_root(lambda h, ix: best_climb(h, dt_cr, ix)[0] - target,
+                                       zeros, top, f_sl, f_top, xtol=1.0)
+    ceiling = np.where(f_sl < 0.0, 0.0, np.where(f_top >= 0.0, atm.H_MAX, ceiling))
 
     # --- highest level speed at cruise altitude and cruise setting ---
     eng_cr = _Propulsor(spec, rated, diameter, rho_cr, t_cr, p_cr, pr.cruise_power_fraction)
@@ -377,26 +392,34 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     ws_cr = w_cr / s_ref
     k_cr = pc["k_cr"]
 
-    def excess(v):
+    def excess(v, ix=slice(None)):
+        """Thrust minus drag over weight [-] in level flight at cruise altitude."""
         mach = v / a_cr
-        d_w = performance.drag_to_weight(v, ws_cr, rho_cr,
-                                         cd0 + aero.wave_drag_lock(mach, ad.drag_divergence_mach),
-                                         k_cr)
-        return eng_cr.thrust(v, eta_cr) / w_cr - d_w
+        d_w = performance.drag_to_weight(
+            v, ws_cr[ix], rho_cr, cd0 + aero.wave_drag_lock(mach, ad.drag_divergence_mach),
+            k_cr[ix])
+        if is_jet:
+            thrust = eng_cr.thrust_sl[ix] * propulsion.turbofan_thrust_lapse_mattingly(
+                t_cr, p_cr, mach, pr.turbofan_throttle_ratio)
+        else:
+            thrust = propulsion.propeller_thrust(v, eng_cr.power[ix], eta_cr, eng_cr.static[ix])
+        return thrust / w_cr[ix] - d_w
 
     v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
     v_low_alt = 1.1 * performance.stall_speed(ws_cr, rho_cr, ad.cl_max_clean)
-    v_start = np.where(excess(v_md) >= 0.0, v_md, v_low_alt)
+    f_md = excess(v_md)
+    can_fly = (f_md >= 0.0) | (excess(v_low_alt) >= 0.0)
+    v_start = np.where(f_md >= 0.0, v_md, v_low_alt)
     if is_jet:
         t_max = eng_cr.thrust(np.full_like(ws_c, 1.0), 1.0) / w_cr
+        v_hi = np.sqrt(2.0 * t_max * ws_cr / (rho_cr * cd0)) * 1.05
     else:
         t_max = eta_cr * eng_cr.power / w_cr  # [W/N]: thrust x speed per weight
-    v_hi = np.minimum(np.where(is_jet, np.sqrt(2.0 * t_max * ws_cr / (rho_cr * cd0)),
-                               (2.0 * t_max * ws_cr / (rho_cr * cd0)) ** (1.0 / 3.0)) * 1.05,
-                      0.98 * a_cr)
-    v_hi = np.maximum(v_hi, v_start * 1.0001)
-    v_max = performance.largest_root(excess, v_start, v_hi, 30)
-    v_max = np.nan_to_num(v_max, nan=0.0)
+        v_hi = (2.0 * t_max * ws_cr / (rho_cr * cd0)) ** (1.0 / 3.0) * 1.05
+    v_hi = np.maximum(np.minimum(v_hi, 0.98 * a_cr), v_start * 1.0001)
+    f_start, f_hi = excess(v_start), excess(v_hi)
+    v_max = performance.falling_root(excess, v_start, v_hi, f_start, f_hi, xtol=1e-3)
+    v_max = np.where(can_fly, np.where(f_hi >= 0.0, v_hi, v_max), 0.0)
 
     # --- maintenance ---
     mci = highlift.maintenance_index(span, hl["flap_items"], hl["flap_supports_min"],

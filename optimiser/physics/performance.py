@@ -79,7 +79,7 @@ def stall_speed(wing_loading, density, cl_max):
 
 # --- takeoff ------------------------------------------------------------------------------
 
-_GL_X, _GL_W = np.polynomial.legendre.leggauss(24)
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(12)
 _GL_X = 0.5 * (_GL_X + 1.0)
 _GL_W = 0.5 * _GL_W
 
@@ -89,8 +89,9 @@ def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground
     """Ground-roll distance [m] by integrating the equation of motion from rest to lift-off.
 
     m dV/dt = T(V) - D(V) - mu (W - L(V)), integrated in the speed domain,
-    s = integral_0^V_LO V / a(V) dV, by 24-point Gauss-Legendre quadrature (exact to round-off
-    against the closed form for constant thrust; see the tests).
+    s = integral_0^V_LO V / a(V) dV, by 12-point Gauss-Legendre quadrature (within 1e-4 of
+    a 64-point rule over the demo studies; for constant thrust it matches the closed form, see
+    the tests).
 
     Parameters
     ----------
@@ -287,3 +288,43 @@ short grass 0.05-0.07, long grass 0.10, soft ground 0.10-0.30; braking dry 0.3-0
 0.15-0.3 (tables in S. Gudmundsson, "General Aviation Aircraft Design", 2014, ch. 17, and
 E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, ch. 5; from memory). Braking on
 unpaved surfaces is common practice."""
+
+
+def falling_root(f, low, high, f_low, f_high, xtol, max_iterations=60):
+    """Root of f between ``low`` (f >= 0) and ``high`` (f < 0), vectorised, by the Illinois
+    variant of regula falsi (Dowell & Jarratt, BIT 11, 1971), iterating only over the elements
+    not yet converged.
+
+    ``f(x, ix)`` evaluates the function for the elements ``ix`` (an index array) at ``x``.
+    Elements without a sign change must be handled by the caller; they are returned as the
+    bracket end nearest the root after ``max_iterations``.
+    """
+    a = np.array(low, dtype=float, copy=True)
+    b = np.array(high, dtype=float, copy=True)
+    fa = np.array(f_low, dtype=float, copy=True)
+    fb = np.array(f_high, dtype=float, copy=True)
+    x = 0.5 * (a + b)
+    ix = np.flatnonzero((b - a) > xtol)
+    side = np.zeros(a.shape, dtype=int)
+    for _ in range(max_iterations):
+        if ix.size == 0:
+            break
+        ai, bi, fai, fbi = a[ix], b[ix], fa[ix], fb[ix]
+        denom = fai - fbi
+        xi = np.where(np.abs(denom) > 0, (ai * (-fbi) + bi * fai) / np.where(denom == 0, 1, denom),
+                      0.5 * (ai + bi))
+        xi = np.clip(xi, np.minimum(ai, bi), np.maximum(ai, bi))
+        fx = f(xi, ix)
+        pos = fx >= 0.0
+        s = side[ix]
+        # Illinois: halve the retained end's value when the same end is kept twice
+        new_fa = np.where(pos, fx, np.where(s == -1, 0.5 * fai, fai))
+        new_fb = np.where(pos, np.where(s == 1, 0.5 * fbi, fbi), fx)
+        a[ix] = np.where(pos, xi, ai)
+        b[ix] = np.where(pos, bi, xi)
+        fa[ix], fb[ix] = new_fa, new_fb
+        side[ix] = np.where(pos, 1, -1)
+        x[ix] = xi
+        done = (np.abs(b[ix] - a[ix]) <= xtol) | (np.abs(fx) <= 1e-12)
+        ix = ix[~done]
+    return x

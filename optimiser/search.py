@@ -1,0 +1,185 @@
+"""The search layer: a vectorised pymoo problem per flap option, the budget split, the
+fixed hypervolume reference and the non-dominated merge.
+
+How the flap choice is handled
+------------------------------
+The flap type is a choice among a handful of options, while wing loading, power loading (or
+thrust-to-weight) and aspect ratio are continuous. The search uses the exact decomposition:
+one continuous NSGA-II per allowed flap option, with the flap fixed, and the per-option fronts
+merged into one non-dominated front. The mixed problem's front is exactly the non-dominated
+subset of the union of the per-option fronts, so nothing is approximated; each option keeps
+its own population, so no flap type is lost from the front by genetic drift (an integer-coded
+flap column treats the options as ordered and can drop one at small budgets), and the
+per-option fronts are what a flap comparison needs. The study's budget (population x
+generations evaluations) is split evenly: every option runs a population of
+``ceil(population / n_options)`` (at least :data:`MIN_OPTION_POPULATION`) and one generation of
+the run is one generation of every option, evaluated in turn. benchmarks/search_quality.py
+measures the front against a dense enumeration and against an integer-coded NSGA-II.
+
+This module imports pymoo lazily (inside functions) so that ``optimiser --help`` stays fast.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+
+import numpy as np
+
+MIN_OPTION_POPULATION = 8
+"""Smallest per-option population (common practice: NSGA-II needs a few parents to mate)."""
+
+REFERENCE_GRID_POINTS = 9
+"""Points per free variable of the grid that fixes the hypervolume scales before a search."""
+
+REFERENCE_MARGIN = 1.1
+"""The hypervolume reference point is 1.1 in normalised objectives (10 % beyond the nadir)."""
+
+
+def free_variables(study):
+    """The study's variables that the search varies (a fixed variable is left out)."""
+    return tuple(v for v in study.variables if not v.fixed)
+
+
+def flap_indices(study) -> tuple[int, ...]:
+    """Indices into ``study.spec.high_lift_names`` of the study's allowed flap options."""
+    names = study.spec.high_lift_names
+    return tuple(names.index(f) for f in study.flaps)
+
+
+def design_arrays(study, X):
+    """Full (wing loading, loading, aspect ratio) arrays from a matrix of free variables."""
+    X = np.atleast_2d(np.asarray(X, float))
+    n = X.shape[0]
+    cols, j = [], 0
+    for v in study.variables:
+        if v.fixed:
+            cols.append(np.full(n, v.lower))
+        else:
+            cols.append(X[:, j])
+            j += 1
+    return cols
+
+
+def objectives_and_constraints(study, frame):
+    """F (objectives, minimised) and G (= -margin, <= 0 is met) from a sized frame."""
+    from .sizing import active_constraints
+    F = frame[list(study.objective_columns())].to_numpy(float)
+    G = -frame[[f"margin_{c}" for c in active_constraints(study.spec)]].to_numpy(float)
+    # A non-finite number must not reach the sorting: treat it as a large violation / a bad
+    # objective (the sizing model returns finite numbers; this is a guard, not a path).
+    G = np.where(np.isfinite(G), G, 1e6)
+    F = np.where(np.isfinite(F), F, 1e30)
+    return F, G
+
+
+def make_problem(study, flap_index: int):
+    """A vectorised pymoo Problem sizing the whole population with one ``size_frame`` call."""
+    from .problem import SizingProblem
+    return SizingProblem(study, flap_index)
+
+
+def option_seed(seed: int, option: int) -> int:
+    """The seed of one flap option's NSGA-II, derived deterministically from the run seed."""
+    return int(np.random.SeedSequence([int(seed), int(option)]).generate_state(1)[0])
+
+
+def plan_budget(n_options: int, population: int, generations: int):
+    """Per-option population and run generations for a study budget of population x
+    generations evaluations split evenly over ``n_options`` flap options."""
+    per = max(MIN_OPTION_POPULATION, math.ceil(population / n_options))
+    return per, int(generations)
+
+
+def make_algorithms(study, seed: int, option_population: int, generations: int):
+    """One set-up NSGA-II per allowed flap option (ask-and-tell ready)."""
+    from pymoo.algorithms.moo.nsga2 import NSGA2
+    algos = []
+    for k, idx in enumerate(flap_indices(study)):
+        problem = make_problem(study, idx)
+        algo = NSGA2(pop_size=option_population, eliminate_duplicates=True)
+        # The run loop decides when to stop; pymoo's own termination is a generous ceiling.
+        algo.setup(problem, termination=("n_gen", 10 ** 9), seed=option_seed(seed, k),
+                   verbose=False)
+        algos.append(algo)
+    return algos
+
+
+def nondominated_mask(F) -> np.ndarray:
+    """Mask of the rows of F (minimised) that no other row dominates; of identical rows only
+    the first is kept."""
+    F = np.asarray(F, float)
+    n = len(F)
+    keep = np.ones(n, bool)
+    if n == 0:
+        return keep
+    order = np.lexsort(F.T[::-1])  # sorted rows: a dominator always comes before
+    Fs = F[order]
+    kept_rows = []
+    kept_idx = []
+    for i in range(n):
+        f = Fs[i]
+        if kept_rows:
+            K = np.asarray(kept_rows)
+            if np.any(np.all(K <= f, axis=1)):
+                # dominated or a duplicate of a kept row
+                keep[order[i]] = False
+                continue
+        kept_rows.append(f)
+        kept_idx.append(order[i])
+    return keep
+
+
+def reference_scales(study):
+    """Fixed objective scales for the hypervolume, from the study alone, before any search.
+
+    A grid of :data:`REFERENCE_GRID_POINTS` values per free variable over the bounds, for every
+    allowed flap option, is sized; ``ideal`` and ``nadir`` are the best and worst of each
+    objective over its feasible designs (over all of it when none is feasible). Objectives are
+    normalised as ``(f - ideal) / (nadir - ideal)`` and the reference point is
+    :data:`REFERENCE_MARGIN` in every normalised objective.
+    """
+    from .evaluation import size_frame
+    axes = [np.linspace(v.lower, v.upper, REFERENCE_GRID_POINTS) for v in free_variables(study)]
+    X = np.array(list(itertools.product(*axes))) if axes else np.zeros((1, 0))
+    Fs, feas = [], []
+    for idx in flap_indices(study):
+        ws, load, ar = design_arrays(study, X)
+        frame = size_frame(study, ws, load, ar, np.full(len(ws), idx))
+        F, _ = objectives_and_constraints(study, frame)
+        Fs.append(F)
+        feas.append(frame["feasible"].to_numpy(bool))
+    F = np.vstack(Fs)
+    ok = np.concatenate(feas)
+    basis = F[ok] if ok.any() else F
+    ideal = basis.min(axis=0)
+    nadir = basis.max(axis=0)
+    span = nadir - ideal
+    span = np.where(span > 0, span, np.maximum(np.abs(nadir), 1.0))
+    return {"ideal": ideal.tolist(), "nadir": (ideal + span).tolist(),
+            "reference_point_normalised": [REFERENCE_MARGIN] * len(ideal),
+            "reference_point": (ideal + REFERENCE_MARGIN * span).tolist(),
+            "basis": "feasible grid designs" if ok.any() else "all grid designs (none feasible)",
+            "grid_points_per_variable": REFERENCE_GRID_POINTS}
+
+
+def hypervolume(F, scales) -> float:
+    """Hypervolume of objective rows F (raw units) against the fixed normalised reference."""
+    from pymoo.indicators.hv import HV
+    F = np.asarray(F, float)
+    if len(F) == 0:
+        return 0.0
+    ideal = np.asarray(scales["ideal"])
+    span = np.asarray(scales["nadir"]) - ideal
+    Fn = (F - ideal) / span
+    ref = np.asarray(scales["reference_point_normalised"], float)
+    Fn = Fn[np.all(Fn < ref, axis=1)]
+    if len(Fn) == 0:
+        return 0.0
+    return float(HV(ref_point=ref)(Fn))
+
+
+def total_violation(frame, study) -> np.ndarray:
+    """Sum of the constraint shortfalls (normalised margins below zero) of each row."""
+    _, G = objectives_and_constraints(study, frame)
+    return np.maximum(G, 0.0).sum(axis=1)
