@@ -63,8 +63,10 @@ class Propulsion:
                                   doc="power-specific fuel consumption (piston, turboprop)")
     tsfc_cruise: float | None = _f(None, unit="kg/N/s", lo=1e-6, hi=5e-5,
                                    doc="thrust-specific fuel consumption at cruise (turbofan)")
-    propeller_efficiency_cruise: float | None = _f(None, lo=0.3, hi=0.95)
-    propeller_efficiency_climb: float | None = _f(None, lo=0.3, hi=0.95)
+    propeller_efficiency_cruise: float | None = _f(None, lo=0.3, hi=0.95,
+                                                     doc="propeller efficiency in cruise")
+    propeller_efficiency_climb: float | None = _f(None, lo=0.3, hi=0.95,
+                                                    doc="propeller efficiency in takeoff and climb")
     propeller_figure_of_merit: float = _f(0.70, lo=0.3, hi=0.9,
                                           doc="static figure of merit (McCormick, momentum theory)")
     propeller_diameter_coefficient: float | None = _f(
@@ -73,13 +75,14 @@ class Propulsion:
                                              doc="power or thrust setting for the cruise-speed check")
     climb_power_fraction: float = _f(1.0, lo=0.3, hi=1.0,
                                      doc="max-continuous over takeoff rating in climb")
-    turboprop_lapse_exponent: float = _f(0.75, lo=0.3, hi=1.5)
+    turboprop_lapse_exponent: float = _f(0.75, lo=0.3, hi=1.5,
+                                         doc="n in P/P_SL = sigma^n")
     turboprop_flat_rating_margin: float = _f(1.15, lo=1.0, hi=1.6,
                                              doc="thermodynamic over rated power at SL ISA")
     turbocharged_critical_altitude_m: float = _f(0.0, unit="m", lo=0.0, hi=10000.0,
                                                  doc="piston: full power held to this altitude")
-    turbofan_throttle_ratio: float = _f(1.05, lo=1.0, hi=1.2)
-    turbofan_bypass_ratio: float = _f(4.0, lo=0.0, hi=12.0)
+    turbofan_throttle_ratio: float = _f(1.05, lo=1.0, hi=1.2,
+                                        doc="throttle ratio TR of the Mattingly lapse")
     engine_specific_mass: float | None = _f(None, unit="kg/kW", lo=0.05, hi=3.0,
                                             doc="installed engine mass per rated power (props)")
     engine_thrust_to_weight: float | None = _f(None, lo=2.0, hi=10.0,
@@ -97,10 +100,12 @@ class Aerodynamics:
     cl_max_clean: float | None = _f(None, lo=0.8, hi=2.2, doc="clean airplane CLmax")
     oswald_method: str = _f("nita_scholz2012", doc="key of the Oswald-factor registry")
     oswald_k_ed0: float | None = _f(None, lo=0.6, hi=1.0, doc="Nita & Scholz k_e,D0")
-    fuselage_diameter_m: float = _f(unit="m", lo=0.5, hi=8.0, required=True)
-    taper_ratio: float = _f(0.6, lo=0.1, hi=1.0)
-    sweep_quarter_chord_rad: float = _f(0.0, unit="rad", lo=0.0, hi=0.7)
-    thickness_ratio: float = _f(0.15, lo=0.06, hi=0.24)
+    fuselage_diameter_m: float = _f(unit="m", lo=0.5, hi=8.0, required=True,
+                                    doc="for the Oswald factor (d_F / b)")
+    taper_ratio: float = _f(0.6, lo=0.1, hi=1.0, doc="tip over root chord")
+    sweep_quarter_chord_rad: float = _f(0.0, unit="rad", lo=0.0, hi=0.7,
+                                        doc="quarter-chord sweep")
+    thickness_ratio: float = _f(0.15, lo=0.06, hi=0.24, doc="wing thickness over chord")
     wing_height_m: float = _f(1.0, unit="m", lo=0.2, hi=6.0,
                               doc="height of the wing above the runway during the ground roll")
     ground_effect_method: str = _f("mccormick", doc="mccormick or wieselsberger")
@@ -111,7 +116,7 @@ class Aerodynamics:
     engine_out_drag_increment: float = _f(0.004, lo=0.0, hi=0.05,
                                           doc="windmilling/feathered engine and trim drag")
     flapped_span_fraction: float = _f(0.6, lo=0.1, hi=0.95, doc="S_flapped / S_ref")
-    slat_span_fraction: float = _f(0.8, lo=0.1, hi=0.95)
+    slat_span_fraction: float = _f(0.8, lo=0.1, hi=0.95, doc="slatted span over span")
     drag_divergence_mach: float = _f(0.80, lo=0.5, hi=0.95, doc="for the wave-drag rise")
 
 
@@ -119,9 +124,11 @@ class Aerodynamics:
 class Weights:
     """Payload and empty-mass build-up assumptions."""
 
-    payload_kg: float = _f(unit="kg", lo=1.0, hi=60000.0, required=True)
-    crew_kg: float = _f(unit="kg", lo=0.0, hi=2000.0, required=True)
-    ultimate_load_factor: float | None = _f(None, lo=2.0, hi=12.0)
+    payload_kg: float = _f(unit="kg", lo=1.0, hi=60000.0, required=True,
+                           doc="passengers, bags and freight")
+    crew_kg: float = _f(unit="kg", lo=0.0, hi=2000.0, required=True, doc="crew with bags")
+    ultimate_load_factor: float | None = _f(None, lo=2.0, hi=12.0,
+                                            doc="n_ult for the wing mass")
     wing_mass_factor: float = _f(1.0, lo=0.3, hi=3.0, doc="calibration of the wing equation")
     structure_systems_fraction: float | None = _f(None, lo=0.05, hi=0.6,
                                                   doc="fuselage, tails, gear, systems / m_TO")
@@ -138,19 +145,22 @@ class Weights:
 class Mission:
     """Design mission."""
 
-    range_m: float = _f(unit="m", lo=1e3, hi=2e7, required=True)
-    cruise_altitude_m: float = _f(unit="m", lo=0.0, hi=15000.0, required=True)
+    range_m: float = _f(unit="m", lo=1e3, hi=2e7, required=True, doc="design range (cruise)")
+    cruise_altitude_m: float = _f(unit="m", lo=0.0, hi=15000.0, required=True,
+                                  doc="pressure altitude of the cruise")
     cruise_speed_m_s: float = _f(unit="m/s", lo=10.0, hi=300.0, required=True,
                                  doc="true airspeed flown and required")
-    cruise_temperature_offset_K: float = _f(0.0, unit="K", lo=-60.0, hi=50.0)
-    reserve_time_s: float = _f(0.0, unit="s", lo=0.0, hi=4 * 3600.0)
-    reserve_range_m: float = _f(0.0, unit="m", lo=0.0, hi=2e6)
+    cruise_temperature_offset_K: float = _f(0.0, unit="K", lo=-60.0, hi=50.0,
+                                            doc="ISA offset in cruise and for the ceiling")
+    reserve_time_s: float = _f(0.0, unit="s", lo=0.0, hi=4 * 3600.0,
+                               doc="reserve flown at cruise speed")
+    reserve_range_m: float = _f(0.0, unit="m", lo=0.0, hi=2e6, doc="diversion distance")
     fraction_startup: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
-    fraction_taxi: float | None = _f(None, lo=0.9, hi=1.0)
-    fraction_takeoff: float | None = _f(None, lo=0.9, hi=1.0)
-    fraction_climb: float | None = _f(None, lo=0.8, hi=1.0)
-    fraction_descent: float | None = _f(None, lo=0.9, hi=1.0)
-    fraction_landing: float | None = _f(None, lo=0.9, hi=1.0)
+    fraction_taxi: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
+    fraction_takeoff: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
+    fraction_climb: float | None = _f(None, lo=0.8, hi=1.0, doc="Roskam Pt I Tbl 2.1")
+    fraction_descent: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
+    fraction_landing: float | None = _f(None, lo=0.9, hi=1.0, doc="Roskam Pt I Tbl 2.1")
     trapped_fuel_fraction: float = _f(0.005, lo=0.0, hi=0.05,
                                       doc="trapped fuel and oil / m_TO (Roskam Pt I)")
     landing_mass_ratio: float = _f(1.0, lo=0.5, hi=1.0, doc="landing over takeoff mass")
@@ -164,7 +174,8 @@ class Requirements:
                                 doc="stall speed in landing configuration, SL, at takeoff mass")
     climb_rate_m_s: float = _f(unit="m/s", lo=0.0, hi=100.0, lo_open=True, required=True,
                                doc="all-engines rate of climb at the departure airfield")
-    service_ceiling_m: float = _f(unit="m", lo=0.0, hi=20000.0, lo_open=True, required=True)
+    service_ceiling_m: float = _f(unit="m", lo=0.0, hi=20000.0, lo_open=True, required=True,
+                                  doc="where the best climb rate is 100 ft/min, at takeoff mass")
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -174,12 +185,15 @@ class Speeds:
     liftoff_speed_factor: float = _f(1.2, lo=1.05, hi=1.5, doc="V_LO / V_s,TO")
     transition_speed_factor: float = _f(1.15, lo=1.05, hi=1.5, doc="V_TR / V_s,TO (Anderson)")
     transition_load_factor: float = _f(1.19, lo=1.05, hi=1.5, doc="n in the flare-up arc")
-    rotation_time_s: float = _f(1.0, unit="s", lo=0.0, hi=6.0)
+    rotation_time_s: float = _f(1.0, unit="s", lo=0.0, hi=6.0,
+                                doc="1 s small, up to 3 s large airplanes (Anderson)")
     climb_speed_factor: float = _f(1.2, lo=1.1, hi=1.6, doc="V_climb,min / V_s")
     approach_speed_factor: float = _f(1.3, lo=1.1, hi=1.5, doc="V_A / V_s,L")
     flare_speed_factor: float = _f(1.23, lo=1.05, hi=1.5, doc="V_F / V_s,L (Anderson)")
-    approach_angle_rad: float = _f(0.05236, unit="rad", lo=0.01, hi=0.2)
-    free_roll_time_s: float = _f(3.0, unit="s", lo=0.0, hi=10.0)
+    approach_angle_rad: float = _f(0.05236, unit="rad", lo=0.01, hi=0.2,
+                                   doc="approach path angle (3 deg)")
+    free_roll_time_s: float = _f(3.0, unit="s", lo=0.0, hi=10.0,
+                                 doc="free roll before braking (Anderson)")
 
 
 @dataclass(frozen=True, kw_only=True)
