@@ -96,6 +96,14 @@ class _Propulsor:
                                            _col(self.static, speed))
 
 
+def _finite(values, shape):
+    """A float array of ``shape`` with no NaN or inf (a safety net: the model avoids them)."""
+    a = np.broadcast_to(np.asarray(values, dtype=float), shape)
+    if np.isfinite(a).all():
+        return np.array(a)
+    return np.nan_to_num(a, nan=0.0, posinf=1e12, neginf=-1e12)
+
+
 def _col(x, like):
     """Reshape a per-design array to broadcast against ``like`` (designs along axis 0)."""
     x = np.asarray(x, dtype=float)
@@ -227,6 +235,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         m_rest = wt.structure_systems_fraction * m_to + wt.fixed_equipment_kg
         empty = wt.empty_mass_factor * (m_wing + m_eng + m_hl + m_rest)
         residual = m_to - (fixed_kg + fuel + empty)
+        residual = np.where(fuel >= 0.0, residual, np.nan)  # negative fuel (L/D < 0) is no closure
         return dict(residual=residual, s_ref=s_ref, span=span, e_cr=e_cr, k_cr=k_cr,
                     ld_cruise=ld_mid, trip=trip, reserve=reserve, fuel=fuel, empty=empty,
                     m_wing=m_wing, m_eng=m_eng, m_hl=m_hl, m_rest=m_rest, rated=rated,
@@ -247,9 +256,9 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
             break
         mi = m[ia]
         r = pieces(mi, ia)["residual"]
-        lo = np.where(r < 0.0, mi, lo)
-        hi = np.where(r >= 0.0, mi, hi)
-        todo = np.abs(r) > 1e-9 * mi
+        lo = np.where(r >= 0.0, lo, mi)  # a NaN residual (e.g. span below the fuselage
+        hi = np.where(r >= 0.0, mi, hi)  # diameter at this mass) counts as not yet closed
+        todo = ~(np.abs(r) <= 1e-9 * mi)
         ia, mi, r, lo, hi = ia[todo], mi[todo], r[todo], lo[todo], hi[todo]
         dm = 1e-7 * mi
         slope = (pieces(mi + dm, ia)["residual"] - r) / dm
@@ -262,7 +271,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     closes &= converged
     m_to = np.where(closes, m, cap)
     pc = pieces(m_to)
-    closure_margin = r_cap / cap
+    closure_margin = np.where(closes | (r_cap <= 0.0), r_cap / cap, -1.0)  # -1: no convergence
 
     w = m_to * G0
     s_ref, span = pc["s_ref"], pc["span"]
@@ -515,8 +524,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     })
     for c in names:
         out[f"margin_{c}"] = margins[c]
-    out = {k: np.nan_to_num(np.asarray(v, dtype=float) * np.ones_like(ws_c), nan=0.0,
-                            posinf=1e12, neginf=-1e12) for k, v in out.items()}
+    out = {k: _finite(v, ws_c.shape) for k, v in out.items()}
     out["feasible"] = feasible
     out["limiting_index"] = limiting
     return out

@@ -11,6 +11,7 @@ from __future__ import annotations
 import difflib
 import hashlib
 import math
+import re
 from dataclasses import dataclass, fields, replace
 from pathlib import Path
 from typing import Any
@@ -21,9 +22,12 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
 from . import spec as S
-from .physics import aerodynamics, highlift, mission, performance
+from .physics import aerodynamics, atmosphere, highlift, mission, performance
 
 MAX_STUDY_BYTES = 1_000_000
+MAX_CRUISE_MACH = 0.82
+"""Nita & Scholz's Mach factor k_eM falls to zero near M 0.85; the wave-drag law is calibrated
+to a drag-divergence Mach number of about 0.8."""
 OBJECTIVES = {
     "trip_fuel": ("trip_fuel_kg", "trip fuel [kg]"),
     "engine_size": (None, "engine size"),  # engine_power_kW or engine_thrust_kN
@@ -148,7 +152,12 @@ class _Reader:
             self.fail(where, f"got {value!r} ({kind}); expected a number{extra}")
         if integer and not isinstance(value, int):
             self.fail(where, f"got {value!r}; expected a whole number")
-        if not math.isfinite(value):
+        try:
+            finite = math.isfinite(value)
+        except OverflowError:  # an integer too large for a float
+            finite = False
+            value = float("inf") if value > 0 else float("-inf")
+        if not finite:
             self.fail(where, f"got {value!r}; expected a finite number")
         self._range(where, float(value), lo, hi, lo_open, "")
         return int(value) if integer else float(value)
@@ -177,6 +186,8 @@ class _Reader:
             self.fail(where, f"got {value!r} (a bare number); expected {dim_name} with its unit, "
                       f"e.g. {example}")
         try:
+            if _UNSAFE_POWER.search(value):  # pint evaluates 9**9**9 exactly: refuse it
+                raise ValueError("exponent")
             q = ureg.Quantity(value)
         except Exception as exc:
             if "offset" in type(exc).__name__.lower() or "offset" in str(exc).lower():
@@ -193,7 +204,10 @@ class _Reader:
         if q.dimensionality != want.dimensionality:
             self.fail(where, f"got {value!r}, which is not {dim_name}; expected {dim_name}, "
                       f"e.g. {example}")
-        x = float(q.to(unit).magnitude)
+        try:
+            x = float(q.to(unit).magnitude)
+        except OverflowError:  # an exact integer too large for a float
+            x = math.inf
         if not math.isfinite(x):
             self.fail(where, f"got {value!r}; expected a finite value")
         self._range(where, x, lo, hi, lo_open, unit)
@@ -210,6 +224,10 @@ class _Reader:
         if not isinstance(value, dict):
             self.fail(where, f"got {value!r}; expected a table ([{where.strip('[]')}])")
         return value
+
+
+_UNSAFE_POWER = re.compile(r"[\d.)]\s*(\*\*|\^)|(\*\*|\^)(?!\s*[-+]?\d{1,2}(\.\d+)?(?![\d.]|\s*(\*\*|\^)))")
+"""A power of a number, or a power that is not a plain small exponent ("m^2", "s**-1")."""
 
 
 _DIMENSIONS = {"m": "a length", "m/s": "a speed", "kg": "a mass", "s": "a time",
@@ -303,7 +321,7 @@ def _read_catalogue(rd: _Reader, raw: dict):
     for name, entry in over.items():
         where = f"[flap_catalogue.{name}]"
         if "+" in name or not name.replace("_", "").isalnum():
-            rd.fail(where, f"got the name {name!r}; expected letters, digits and '_' only")
+            rd.fail("[flap_catalogue]", f"got the name {name!r}; expected letters, digits and '_' only")
         entry = rd.table(where, entry)
         known = name in cat
         base = cat.get(name, {})
@@ -337,7 +355,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     rd = _Reader(path)
     try:
         raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
+    except (tomllib.TOMLDecodeError, ValueError) as exc:  # ValueError: int over 4300 digits
         raise StudyError(f"{path}: not valid TOML: {exc}") from None
     for key in raw:
         if key not in _TOP_KEYS:
@@ -405,6 +423,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     dst = _airfield(rd, "destination", raw["destination"], performance.OBSTACLE_HEIGHT["part23"]) \
         if "destination" in raw else replace(dep, obstacle_height_m=performance.OBSTACLE_HEIGHT[
             "part23"])
+    mach = mis.cruise_speed_m_s / float(atmosphere.speed_of_sound(atmosphere.isa_temperature(
+        mis.cruise_altitude_m, mis.cruise_temperature_offset_K)))
+    if mach > MAX_CRUISE_MACH:
+        rd.fail("[mission] cruise_speed", f"got Mach {mach:.3f} at the cruise altitude; expected "
+                f"at most Mach {MAX_CRUISE_MACH} (the range of the Oswald-factor and wave-drag "
+                "estimates)")
     if mis.cruise_speed_m_s < 1.05 * req.stall_speed_m_s:
         rd.fail("[mission] cruise_speed", f"got {mis.cruise_speed_m_s:.1f} m/s; expected well "
                 f"above the stall-speed limit {req.stall_speed_m_s:.1f} m/s")

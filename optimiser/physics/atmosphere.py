@@ -35,9 +35,12 @@ H_MAX = 20000.0
 
 def _geopotential(h):
     h = np.asarray(h, dtype=float)
-    if np.any(h < H_MIN - 1e-9) or np.any(h > H_MAX + 1e-9) or not np.all(np.isfinite(h)):
+    if not np.all(np.isfinite(h)):
+        raise ValueError(f"altitude outside the model: expected finite values from {H_MIN:g} "
+                         f"to {H_MAX:g} m, got NaN or inf")
+    if np.any(h < H_MIN - 1e-9) or np.any(h > H_MAX + 1e-9):
         raise ValueError(f"altitude outside the model: expected {H_MIN:g} to {H_MAX:g} m, "
-                         f"got {np.nanmin(h):g} to {np.nanmax(h):g} m")
+                         f"got {np.min(h):g} to {np.max(h):g} m")
     return h
 
 

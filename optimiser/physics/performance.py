@@ -196,14 +196,14 @@ def balanced_field_length_torenbeek(wing_loading, density, cl_climb, mean_thrust
     """Balanced field length [m] of a multi-engine transport, Torenbeek's estimate.
 
     BFL = 0.863 / (1 + 2.3 dgamma2) [(W/S) / (rho g C_L2) + h_TO] [1 / (T_bar/W - mu') + 2.7]
-    + 200 / sqrt(sigma), with dgamma2 = gamma2 - gamma2,min, mu' = 0.01 CLmax,TO + 0.02 and
+    + 655 ft / sqrt(sigma), with dgamma2 = gamma2 - gamma2,min, mu' = 0.01 CLmax,TO + 0.02 and
     T_bar the mean thrust of the takeoff run.
 
     References
     ----------
     .. [1] E. Torenbeek, "Synthesis of Subsonic Airplane Design", Delft University Press /
-       Kluwer, 1982, sec. 5.4.5 and Appendix K (from memory; the last term is 655 ft in the
-       source, written here as 200 m).
+       Kluwer, 1982, sec. 5.4.5 and Appendix K (from memory; constants to be checked against
+       the book).
     """
     sigma = np.asarray(density, float) / 1.225
     dgamma = np.maximum(np.asarray(oei_gradient, float) - oei_gradient_min, 0.0)
@@ -211,7 +211,7 @@ def balanced_field_length_torenbeek(wing_loading, density, cl_climb, mean_thrust
     excess = np.maximum(np.asarray(mean_thrust_to_weight, float) - mu_eff, 1e-3)
     return (0.863 / (1.0 + 2.3 * dgamma)
             * (wing_loading / (density * G0 * cl_climb) + obstacle_height)
-            * (1.0 / excess + 2.7) + 200.0 / np.sqrt(sigma))
+            * (1.0 / excess + 2.7) + 655.0 * 0.3048 / np.sqrt(sigma))
 
 
 # --- landing ------------------------------------------------------------------------------

@@ -12,7 +12,7 @@ from . import G0
 
 _LB = 0.45359237
 _FT2 = 0.09290304
-_KT = 0.514444
+_KT = 1852.0 / 3600.0
 
 
 def wing_mass_usaf(takeoff_mass, ultimate_load_factor, aspect_ratio, wing_area, taper_ratio,

@@ -64,8 +64,8 @@ def test_nita_scholz_mach_factor_is_one_below_03():
 
 
 @pytest.mark.parametrize("a, expected", [
-    (8.0, 0.81571),   # regression pin: Obert 2009 p. 542 formula, METHODS sec. 2.2 [D]; ours 0.815708
-    (10.0, 0.78746),  # regression pin: Obert 2009 p. 542 formula, METHODS sec. 2.2 [D]; ours 0.787456
+    (8.0, 0.81571),   # regression pin: Obert 2009 p. 542 formula, METHODS 2.2 [D]; ours 0.815708
+    (10.0, 0.78746),  # regression pin: Obert 2009 p. 542 formula, METHODS 2.2 [D]; ours 0.787456
 ])
 def test_regression_pin_obert(a, expected):
     assert aero.oswald_obert2009(a) == pytest.approx(expected, abs=5e-6)

@@ -144,7 +144,8 @@ def test_slat_drag_increments():
 
 
 def test_actuator_mass_both_sides():
-    # 2 sides x actuators per side x unit mass: Fowler 2, slats 4 per side
+    # regression pin (arithmetic by us): 2 sides x actuators per side x unit mass;
+    # Fowler 2 per side -> 2 x 2 x 3 = 12 kg, with slats 4 more -> 2 x 6 x 3 = 36 kg
     assert _config("fowler", actuator=3.0)["actuator_mass_kg"] == pytest.approx(12.0)
     assert _config("fowler+slats", actuator=3.0)["actuator_mass_kg"] == pytest.approx(36.0)
 

@@ -40,7 +40,7 @@ def test_part25_second_segment(engines, gradient):
 def test_part23_piston_twin():
     c = perf.certification_numbers("part23", "piston", 2)
     assert c["aeo_climb_gradient_min"] == pytest.approx(0.083, abs=5e-5)  # 14 CFR 23.65(a), 8.3 %
-    assert c["oei_climb_gradient_min"] == pytest.approx(0.015, abs=5e-5)  # 14 CFR 23.67(a)(1), 1.5 %
+    assert c["oei_climb_gradient_min"] == pytest.approx(0.015, abs=5e-5) # 14 CFR 23.67(a)(1) 1.5 %
     assert c["oei_climb_altitude_m"] == pytest.approx(5000 * FT, abs=1e-9)  # 23.67(a)(1), 5000 ft
     assert c["obstacle_height_m"] == pytest.approx(50 * FT, abs=1e-9)  # 50 ft, 14 CFR 23.2115
     assert c["field_length_factor"] == 1.0
@@ -78,15 +78,18 @@ def test_service_ceiling_rate():
 def test_stall_speed_61_knots():
     # old 14 CFR 23.49(c): V_S0 <= 61 kt; 61 kt = 31.381 m/s (1 kt = 1852/3600 m/s, exact)
     assert 61 * KT == pytest.approx(31.381, abs=5e-4)
-    # regression pin: SL, CLmax 2.0 -> W/S 1206.3 N/m^2; CLmax 1.6 -> 965.08 N/m^2
-    # (METHODS sec. 4 [D]; ours 1206.348, 965.079). Printed W/S to 5 digits -> V to ~2e-5.
-    assert perf.stall_speed(1206.3, RHO_SL, 2.0) == pytest.approx(31.381, abs=1e-3)
-    assert perf.stall_speed(965.08, RHO_SL, 1.6) == pytest.approx(31.381, abs=1e-3)
-    # round trip V -> W/S = rho V^2 CLmax / 2 -> V
+    # round trip V -> W/S = rho V^2 CLmax / 2 -> V (definition of the stall speed)
     v = 61 * KT
     ws = 0.5 * RHO_SL * v**2 * 2.0
-    assert ws == pytest.approx(1206.3, abs=0.05)
     assert perf.stall_speed(ws, RHO_SL, 2.0) == pytest.approx(v, rel=1e-12)
+
+
+def test_regression_pin_stall_wing_loading():
+    # regression pin: SL, CLmax 2.0 -> W/S 1206.3 N/m^2; CLmax 1.6 -> 965.08 N/m^2 at 61 kt
+    # (METHODS sec. 4 [D]; ours 1206.348, 965.079). W/S printed to 5 digits -> V to ~2e-5.
+    assert 0.5 * RHO_SL * (61 * KT) ** 2 * 2.0 == pytest.approx(1206.3, abs=0.05)
+    assert perf.stall_speed(1206.3, RHO_SL, 2.0) == pytest.approx(31.381, abs=1e-3)
+    assert perf.stall_speed(965.08, RHO_SL, 1.6) == pytest.approx(31.381, abs=1e-3)
 
 
 @settings(deadline=None, max_examples=150)
@@ -252,22 +255,31 @@ def test_more_thrust_never_lengthens_ground_roll(tw, dtw, ws, clmax, mu):
 VS_TO = 31.944
 
 
-@pytest.mark.parametrize("h, s_methods, s_ours", [
+AIR_CASES = [
     (15.24, 147.79, 147.7954),   # 50 ft; METHODS sec. 4 [D] / regression pin (ours)
     (10.668, 123.85, 123.8515),  # 35 ft; METHODS sec. 4 [D] / regression pin (ours)
-])
+]
+STEEP = 0.3  # sin(gamma) of the climb: gamma 17.5 deg > theta_OB (11.8 deg), the arc governs
+
+
+@pytest.mark.parametrize("h, s_methods, s_ours", AIR_CASES)
 def test_takeoff_air_distance_arc(h, s_methods, s_ours):
     # Anderson APD 1999 sec. 6.7 (from memory): R = 6.96 V_s^2 / g, theta_OB = arccos(1 - h/R),
-    # s_A = R sin(theta_OB). METHODS used the printed 6.96 (R = 724.21 m); the code uses the
-    # unrounded 1.15^2 / 0.19 = 6.9605 (R = 724.27 m). 6.96 has 3 significant digits
+    # s_A = R sin(theta_OB). METHODS sec. 4 [D] used the printed 6.96 (R = 724.21 m); the code
+    # uses the unrounded 1.15^2 / 0.19 = 6.9605 (R = 724.27 m). 6.96 has 3 significant digits
     # (7e-4 relative on R, about half that on s_A): tolerances 1e-3 on R, 5e-4 on s_A.
-    steep = 0.3  # sin(gamma) of the climb: gamma 17.5 deg > theta_OB (11.8 deg), arc governs
-    s = float(perf.takeoff_air_distance(VS_TO, steep, h))
+    s = float(perf.takeoff_air_distance(VS_TO, STEEP, h))
     assert s == pytest.approx(s_methods, rel=5e-4)
     radius = (s**2 + h**2) / (2.0 * h)  # from s = R sin(theta), h = R (1 - cos(theta))
     assert radius == pytest.approx(724.21, rel=1e-3)
-    # regression pin with the unrounded constant (computed by us)
+
+
+@pytest.mark.parametrize("h, s_methods, s_ours", AIR_CASES)
+def test_regression_pin_takeoff_air_distance(h, s_methods, s_ours):
+    # regression pin with the unrounded constant 1.15^2 / 0.19 (computed by us)
+    s = float(perf.takeoff_air_distance(VS_TO, STEEP, h))
     assert s == pytest.approx(s_ours, abs=5e-4)
+    radius = (s**2 + h**2) / (2.0 * h)
     assert radius == pytest.approx(1.15**2 / 0.19 * VS_TO**2 / G0, rel=1e-9)
 
 
@@ -361,10 +373,80 @@ def test_largest_root_linear_per_design():
 
 
 def test_regression_pin_balanced_field_length():
-    # regression pin: Torenbeek 1982 sec. 5.4.5 form (from memory; 655 ft written 200 m), computed
+    # regression pin: Torenbeek 1982 sec. 5.4.5 form (from memory; last term 655 ft), computed
     # by us: W/S 5000, SL, C_L2 1.4, T_bar/W 0.25, CLmax,TO 2.0, gamma2 0.03 vs 0.024, 35 ft
-    # -> 2156.16 m; at rho 0.9 -> 2871.41 m
+    # -> 2155.80 m; at rho 0.9 -> 2871.00 m
     bfl = perf.balanced_field_length_torenbeek(5000.0, 1.225, 1.4, 0.25, 2.0, 0.03, 0.024)
-    assert bfl == pytest.approx(2156.16, abs=0.005)
+    assert bfl == pytest.approx(2155.80, abs=0.005)
     bfl_hot = perf.balanced_field_length_torenbeek(5000.0, 0.9, 1.4, 0.25, 2.0, 0.03, 0.024)
-    assert bfl_hot == pytest.approx(2871.41, abs=0.005)
+    assert bfl_hot == pytest.approx(2871.00, abs=0.005)
+
+
+def test_falling_root_linear_and_nonlinear():
+    roots = np.array([0.3, 1.7, 4.2, 9.9])
+
+    def f_lin(x, ix):
+        return roots[ix] - x
+
+    low, high = np.zeros(4), np.full(4, 10.0)
+    got = perf.falling_root(f_lin, low, high, f_lin(low, np.arange(4)),
+                            f_lin(high, np.arange(4)), xtol=1e-10)
+    np.testing.assert_allclose(got, roots, atol=1e-9)
+
+    # f = c - x^3 (convex decreasing): Illinois regula falsi still closes the bracket
+    c = np.array([8.0, 27.0, 1000.0])
+
+    def f_cub(x, ix):
+        return c[ix] - x**3
+
+    low, high = np.zeros(3), np.full(3, 12.0)
+    ix = np.arange(3)
+    got = perf.falling_root(f_cub, low, high, f_cub(low, ix), f_cub(high, ix), xtol=1e-9)
+    np.testing.assert_allclose(got, [2.0, 3.0, 10.0], atol=1e-8)
+
+
+def test_falling_root_evaluates_only_unconverged():
+    calls = []
+    roots = np.array([2.0, 5.0])
+
+    def f(x, ix):
+        calls.append(np.array(ix))
+        return roots[ix] - x**2 / roots[ix]  # root at x = roots
+
+    # the first bracket is already narrower than xtol: that element is never iterated
+    low, high = np.array([2.0 - 1e-10, 0.0]), np.array([2.0 + 1e-10, 10.0])
+    out = perf.falling_root(f, low, high, f(low, np.arange(2)), f(high, np.arange(2)),
+                            xtol=1e-9)
+    assert out[1] == pytest.approx(5.0, abs=1e-8)
+    assert out[0] == pytest.approx(2.0, abs=1e-9)
+    assert len(calls) > 3
+    assert all(0 not in ix for ix in calls[2:])
+
+
+@pytest.mark.parametrize("surface, lo, hi", [
+    ("paved_dry", 0.02, 0.05),     # rolling mu, dry concrete/asphalt 0.02-0.05 (METHODS sec. 4,
+                                   # Gudmundsson ch. 17 / Torenbeek ch. 5, from memory)
+    ("hard_turf", 0.05, 0.05),     # hard turf 0.05 (same sources, from memory)
+    ("short_grass", 0.05, 0.07),   # short grass 0.05-0.07 (same sources, from memory)
+    ("long_grass", 0.10, 0.10),    # long grass 0.10 (same sources, from memory)
+    ("soft_ground", 0.10, 0.30),   # soft ground 0.10-0.30 (same sources, from memory)
+])
+def test_runway_rolling_friction(surface, lo, hi):
+    roll, _ = perf.RUNWAY_SURFACES[surface]
+    assert lo - 5e-3 <= roll <= hi + 5e-3  # sources print 2 decimals
+
+
+@pytest.mark.parametrize("surface, lo, hi", [
+    ("paved_dry", 0.3, 0.5),    # braking mu dry 0.3-0.5 (METHODS sec. 4, from memory)
+    ("paved_wet", 0.15, 0.3),   # braking mu wet 0.15-0.3 (METHODS sec. 4, from memory)
+])
+def test_runway_braking_friction(surface, lo, hi):
+    _, brake = perf.RUNWAY_SURFACES[surface]
+    assert lo <= brake <= hi
+
+
+def test_unpaved_brakes_worse_than_dry_paved():
+    # common practice: braking on unpaved surfaces below dry pavement
+    dry = perf.RUNWAY_SURFACES["paved_dry"][1]
+    for name in ("hard_turf", "short_grass", "long_grass", "soft_ground"):
+        assert perf.RUNWAY_SURFACES[name][1] < dry
