@@ -1,4 +1,4 @@
-"""Command line: ``optimiser evaluate|check ...``. It only calls the Python API.
+"""Command line: ``optimiser evaluate|check|run|resume ...``. It only calls the Python API.
 
 A user error prints one line on stderr and exits with status 2 (a traceback only with
 ``--debug``); nothing already saved is overwritten without ``--force``.
@@ -100,6 +100,62 @@ def cmd_check(args):
     return 0
 
 
+def _duration(text):
+    """Seconds from '90', '90s', '45m', '8h' or '1h30m' (for --time)."""
+    import re
+    t = text.strip().lower()
+    if re.fullmatch(r"\d+(\.\d+)?", t):
+        seconds = float(t)
+    else:
+        parts = re.findall(r"(\d+(?:\.\d+)?)\s*([hms])", t)
+        if not parts or re.sub(r"(\d+(?:\.\d+)?)\s*([hms])", "", t).strip():
+            raise UserError(f"--time: got {text!r}; expected a duration such as '90s', '45m', "
+                            "'8h' or '1h30m'")
+        seconds = sum(float(n) * {"h": 3600, "m": 60, "s": 1}[u] for n, u in parts)
+    if not seconds > 0:
+        raise UserError(f"--time: got {text!r}; expected a duration greater than zero")
+    return seconds
+
+
+def _run_errors(fn):
+    from .runs import RunError, RunInterrupted
+    try:
+        return fn()
+    except RunError as exc:
+        raise UserError(str(exc)) from None
+    except RunInterrupted as exc:
+        print(f"\n{exc}", file=sys.stderr)
+        return 130
+
+
+def cmd_run(args):
+    from .runs import optimise, summary_text
+    study = _study(args.study)
+    time_s = _duration(args.time) if args.time is not None else None
+
+    def go():
+        result = optimise(study, out=args.out, force=args.force, seed=args.seed,
+                          generations=args.gens, population=args.pop, evaluations=args.evals,
+                          time_budget_s=time_s, stall_generations=args.stall_gens,
+                          checkpoint_every=args.checkpoint_every, progress=True)
+        print(summary_text(study, result))
+        return 0
+    return _run_errors(go)
+
+
+def cmd_resume(args):
+    from .runs import resume, summary_text
+    from .study import parse_study
+
+    def go():
+        result = resume(args.run_dir, progress=True)
+        study = parse_study((Path(args.run_dir) / "study.toml").read_text("utf-8"),
+                            str(Path(args.run_dir) / "study.toml"))
+        print(summary_text(study, result))
+        return 0
+    return _run_errors(go)
+
+
 def build_parser() -> argparse.ArgumentParser:
     from . import __version__
     p = argparse.ArgumentParser(prog="optimiser", description=(
@@ -120,6 +176,25 @@ def build_parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", help="validate a study file and summarise it")
     c.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
     c.set_defaults(func=cmd_check)
+    r = sub.add_parser("run", help="search for the Pareto front of the study's objectives "
+                       "(NSGA-II, one per flap option) and write a run folder")
+    r.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
+    r.add_argument("--out", help="run folder (default: results/<study>-<UTC time>); an "
+                   "existing non-empty folder needs --force")
+    r.add_argument("--force", action="store_true", help="replace the run files in --out")
+    r.add_argument("--seed", type=int, help="random seed (default: the study's [search] seed)")
+    r.add_argument("--pop", type=int, help="population (default: the study's [search])")
+    r.add_argument("--gens", type=int, help="generations (default: the study's [search])")
+    r.add_argument("--evals", type=int, help="stop after this many evaluations")
+    r.add_argument("--time", help="wall-clock budget, e.g. '90s', '45m', '8h'")
+    r.add_argument("--stall-gens", type=int, dest="stall_gens", help="stop when the front's "
+                   "hypervolume has not grown for this many generations")
+    r.add_argument("--checkpoint-every", type=int, default=10, dest="checkpoint_every",
+                   help="generations between checkpoints (default 10)")
+    r.set_defaults(func=cmd_run)
+    s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")
+    s.add_argument("run_dir", metavar="RUN_DIR", help="the run folder")
+    s.set_defaults(func=cmd_resume)
     return p
 
 

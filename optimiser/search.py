@@ -105,28 +105,26 @@ def make_algorithms(study, seed: int, option_population: int, generations: int):
     return algos
 
 
-def nondominated_mask(F) -> np.ndarray:
+def nondominated_mask(F, chunk=512) -> np.ndarray:
     """Mask of the rows of F (minimised) that no other row dominates; of identical rows only
-    the first is kept."""
+    the first is kept. Vectorised pairwise comparison in chunks of rows (memory ~ chunk x n)."""
     F = np.asarray(F, float)
     n = len(F)
     keep = np.ones(n, bool)
     if n == 0:
         return keep
-    order = np.lexsort(F.T[::-1])  # sorted rows: a dominator always comes before
-    Fs = F[order]
-    kept_rows = []
-    kept_idx = []
-    for i in range(n):
-        f = Fs[i]
-        if kept_rows:
-            K = np.asarray(kept_rows)
-            if np.any(np.all(K <= f, axis=1)):
-                # dominated or a duplicate of a kept row
-                keep[order[i]] = False
-                continue
-        kept_rows.append(f)
-        kept_idx.append(order[i])
+    _, first = np.unique(F, axis=0, return_index=True)
+    unique = np.zeros(n, bool)
+    unique[first] = True
+    U = F[unique]
+    dominated = np.zeros(len(U), bool)
+    for a in range(0, len(U), chunk):
+        block = U[a:a + chunk]
+        le = np.all(U[None, :, :] <= block[:, None, :], axis=2)
+        lt = np.any(U[None, :, :] < block[:, None, :], axis=2)
+        dominated[a:a + chunk] = np.any(le & lt, axis=1)
+    keep[:] = False
+    keep[np.flatnonzero(unique)[~dominated]] = True
     return keep
 
 
@@ -135,7 +133,9 @@ def reference_scales(study):
 
     A grid of :data:`REFERENCE_GRID_POINTS` values per free variable over the bounds, for every
     allowed flap option, is sized; ``ideal`` and ``nadir`` are the best and worst of each
-    objective over its feasible designs (over all of it when none is feasible). Objectives are
+    objective over the grid's non-dominated feasible designs (its Pareto front; over all grid
+    designs when none is feasible), so the reference point sits just beyond the front, where
+    the quality of a front shows, not beyond the worst feasible design. Objectives are
     normalised as ``(f - ideal) / (nadir - ideal)`` and the reference point is
     :data:`REFERENCE_MARGIN` in every normalised objective.
     """
@@ -152,6 +152,7 @@ def reference_scales(study):
     F = np.vstack(Fs)
     ok = np.concatenate(feas)
     basis = F[ok] if ok.any() else F
+    basis = basis[nondominated_mask(basis)]
     ideal = basis.min(axis=0)
     nadir = basis.max(axis=0)
     span = nadir - ideal
@@ -159,7 +160,8 @@ def reference_scales(study):
     return {"ideal": ideal.tolist(), "nadir": (ideal + span).tolist(),
             "reference_point_normalised": [REFERENCE_MARGIN] * len(ideal),
             "reference_point": (ideal + REFERENCE_MARGIN * span).tolist(),
-            "basis": "feasible grid designs" if ok.any() else "all grid designs (none feasible)",
+            "basis": ("non-dominated feasible grid designs" if ok.any()
+                      else "non-dominated grid designs (none feasible)"),
             "grid_points_per_variable": REFERENCE_GRID_POINTS}
 
 

@@ -1,0 +1,1 @@
+"""Run reports: plots of a finished run (matplotlib, imported lazily)."""

@@ -1,0 +1,242 @@
+"""Plots of a run: objective scatter with the front, 3-D front, decision variables of the
+front (parallel coordinates), convergence and a constraint diagram at a representative design. Each function takes the data and an optional
+``ax`` and returns the Figure; :func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``.
+matplotlib is imported inside the functions (Agg backend) and ``plt.show()`` is never called.
+"""
+
+from __future__ import annotations
+
+import itertools
+from pathlib import Path
+
+import numpy as np
+
+LABELS = {
+    "trip_fuel_kg": "trip fuel [kg]",
+    "engine_power_kW": "installed engine power, all engines [kW]",
+    "engine_thrust_kN": "installed static thrust, all engines [kN]",
+    "maintenance_index": "maintenance index [-]",
+    "takeoff_mass_kg": "takeoff mass [kg]",
+    "wing_loading_N_m2": "wing loading [N/m²]",
+    "power_loading_N_kW": "power loading [N/kW]",
+    "thrust_to_weight": "thrust-to-weight [-]",
+    "aspect_ratio": "aspect ratio [-]",
+}
+
+
+def _plt():
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    return plt
+
+
+def _colours(flaps):
+    plt = _plt()
+    cmap = plt.get_cmap("tab10")
+    return {f: cmap(i % 10) for i, f in enumerate(flaps)}
+
+
+def _read_feasible(run_dir, columns, chunk=200_000):
+    """Objective columns of the feasible rows of evaluations.csv, read in chunks."""
+    import pandas as pd
+    parts = []
+    for part in pd.read_csv(Path(run_dir) / "evaluations.csv", usecols=[*columns, "feasible"],
+                            chunksize=chunk):
+        parts.append(part.loc[part["feasible"].astype(bool), list(columns)].to_numpy(float))
+    return np.vstack(parts) if parts else np.zeros((0, len(columns)))
+
+
+def objective_scatter(study, front, feasible_F, ax=None):
+    """Pairwise objective scatter: every feasible evaluated design in grey, the front coloured
+    by flap type."""
+    plt = _plt()
+    cols = list(study.objective_columns())
+    pairs = list(itertools.combinations(range(len(cols)), 2))
+    if ax is None:
+        fig, axes = plt.subplots(1, len(pairs), figsize=(5 * len(pairs), 4.4), squeeze=False)
+        axes = axes[0]
+    else:
+        fig, axes = ax.figure, [ax]
+        pairs = pairs[:1]
+    colours = _colours(study.flaps)
+    for a, (i, j) in zip(axes, pairs):
+        if len(feasible_F):
+            a.scatter(feasible_F[:, i], feasible_F[:, j], s=4, c="0.78", label="feasible designs",
+                      rasterized=True)
+        for flap in study.flaps:
+            sel = front[front["flap"] == flap]
+            if len(sel):
+                a.scatter(sel[cols[i]], sel[cols[j]], s=18, color=colours[flap],
+                          edgecolor="k", linewidth=0.3, label=f"front: {flap}")
+        a.set_xlabel(LABELS.get(cols[i], cols[i]))
+        a.set_ylabel(LABELS.get(cols[j], cols[j]))
+        a.grid(alpha=0.3)
+        if len(front):  # zoom on the front and the dominated band next to it
+            for k, setter in ((i, a.set_xlim), (j, a.set_ylim)):
+                lo, hi = float(front[cols[k]].min()), float(front[cols[k]].max())
+                span = max(hi - lo, 0.05 * max(abs(hi), 1.0))
+                setter(lo - 0.15 * span, hi + 1.5 * span)
+    axes[0].legend(fontsize=7, loc="best")
+    if len(front):
+        axes[-1].text(1.0, -0.16, "axes zoomed on the front; designs beyond are off the plot",
+                      transform=axes[-1].transAxes, ha="right", fontsize=7, color="0.4")
+    fig.suptitle(f"{study.name}: objectives (front highlighted)")
+    fig.tight_layout()
+    return fig
+
+
+def front_3d(study, front, ax=None):
+    """3-D view of the front, coloured by flap type (three objectives only)."""
+    plt = _plt()
+    cols = list(study.objective_columns())[:3]
+    if ax is None:
+        fig = plt.figure(figsize=(6.5, 5.5))
+        ax = fig.add_subplot(projection="3d")
+    fig = ax.figure
+    colours = _colours(study.flaps)
+    for flap in study.flaps:
+        sel = front[front["flap"] == flap]
+        if len(sel):
+            ax.scatter(sel[cols[0]], sel[cols[1]], sel[cols[2]], color=colours[flap], s=16,
+                       label=flap)
+    ax.set_xlabel(LABELS.get(cols[0], cols[0]), fontsize=8)
+    ax.set_ylabel(LABELS.get(cols[1], cols[1]), fontsize=8)
+    ax.set_zlabel(LABELS.get(cols[2], cols[2]), fontsize=8)
+    ax.legend(fontsize=7, title="flap type")
+    ax.set_title(f"{study.name}: front")
+    return fig
+
+
+def decision_variables(study, front, ax=None):
+    """Parallel coordinates of the front's decision variables, each axis normalised to its
+    bounds (labelled with the bounds and units); the flap type is the last axis."""
+    plt = _plt()
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(8, 4.5))
+    fig = ax.figure
+    vars_ = list(study.variables)
+    flaps = list(study.flaps)
+    n = len(vars_) + 1
+    colours = _colours(flaps)
+    Z = []
+    for v in vars_:
+        x = front[v.column].to_numpy(float)
+        Z.append(np.full(len(x), 0.5) if v.fixed else (x - v.lower) / (v.upper - v.lower))
+    fi = np.array([flaps.index(f) for f in front["flap"]], float)
+    Z.append(fi / max(len(flaps) - 1, 1))
+    Z = np.array(Z).T
+    xs = np.arange(n)
+    seen = set()
+    for row, flap in zip(Z, front["flap"]):
+        ax.plot(xs, row, color=colours[flap], alpha=0.6, lw=1,
+                label=flap if flap not in seen else None)
+        seen.add(flap)
+    labels = []
+    for v in vars_:
+        name = LABELS.get(v.column, v.column)
+        labels.append(f"{name}\n{v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
+    labels.append("flap type\n(study list order)")
+    ax.set_xticks(xs, labels, fontsize=7)
+    ax.set_ylabel("position within bounds [-] (0 = lower, 1 = upper)")
+    ax.set_ylim(-0.05, 1.05)
+    for x in xs:
+        ax.axvline(x, color="0.5", lw=0.8)
+    ax.legend(fontsize=7, loc="best", title="flap type")
+    ax.set_title(f"{study.name}: decision variables of the front")
+    fig.tight_layout()
+    return fig
+
+
+def convergence(study, history, ax=None):
+    """Hypervolume of the merged feasible front against evaluations."""
+    plt = _plt()
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(6, 4))
+    fig = ax.figure
+    ax.plot(history["evaluations"], history["hypervolume"], marker=".", lw=1)
+    ax.set_xlabel("evaluations [-]")
+    ax.set_ylabel("hypervolume (normalised objectives) [-]")
+    ax.grid(alpha=0.3)
+    ax.set_title(f"{study.name}: convergence")
+    fig.tight_layout()
+    return fig
+
+
+def write_plots(study, run_dir, front, history, scales=None):
+    """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths."""
+    plt = _plt()
+    out = Path(run_dir) / "plots"
+    out.mkdir(exist_ok=True)
+    written = []
+
+    def save(fig, name):
+        for ext in ("png", "svg"):
+            p = out / f"{name}.{ext}"
+            fig.savefig(p, dpi=130)
+            written.append(p)
+        plt.close(fig)
+
+    save(convergence(study, history), "convergence")
+    if len(front):
+        F = _read_feasible(run_dir, list(study.objective_columns()))
+        save(objective_scatter(study, front, F), "objectives")
+        if len(study.objectives) == 3:
+            save(front_3d(study, front), "front_3d")
+        save(decision_variables(study, front), "decision_variables")
+        save(constraint_diagram(study, representative_design(study, front)),
+             "constraint_diagram")
+    return written
+
+
+def representative_design(study, front):
+    """The front design with the smallest sum of objectives normalised over the front (a
+    balanced compromise, common practice for picking one point of a front)."""
+    cols = list(study.objective_columns())
+    F = front[cols].to_numpy(float)
+    span = F.max(axis=0) - F.min(axis=0)
+    Fn = (F - F.min(axis=0)) / np.where(span > 0, span, 1.0)
+    return front.iloc[int(Fn.sum(axis=1).argmin())]
+
+
+def constraint_diagram(study, design, n=120, ax=None):
+    """Constraint diagram at one design's aspect ratio and flap type: over wing loading and
+    power loading (or thrust-to-weight) within the bounds, the line where each constraint's
+    margin is zero (every point is a completely sized airplane), the region meeting all of
+    them shaded, and the design marked."""
+    from ..evaluation import size_frame
+    from ..sizing import active_constraints
+    plt = _plt()
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(7, 5))
+    fig = ax.figure
+    wv, lv = study.variable("wing_loading_N_m2"), study.variable(study.loading_column)
+    ws = np.linspace(wv.lower, wv.upper, n) if not wv.fixed else np.linspace(0.8, 1.2, n) * wv.lower
+    ld = np.linspace(lv.lower, lv.upper, n) if not lv.fixed else np.linspace(0.8, 1.2, n) * lv.lower
+    W, L = np.meshgrid(ws, ld)
+    flap = study.spec.high_lift_names.index(design["flap"])
+    frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, design["aspect_ratio"]),
+                       np.full(W.size, flap))
+    colours = plt.get_cmap("tab10")
+    handles = []
+    for k, c in enumerate(active_constraints(study.spec)):
+        M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
+        if np.nanmin(M) < 0 < np.nanmax(M):
+            ax.contour(W, L, M, levels=[0.0], colors=[colours(k % 10)], linewidths=1.5)
+            handles.append(plt.Line2D([], [], color=colours(k % 10), label=c.replace("_", " ")))
+    feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
+    ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=["tab:green"], alpha=0.15)
+    handles.append(plt.Rectangle((0, 0), 1, 1, color="tab:green", alpha=0.15,
+                                 label="all constraints met"))
+    ax.plot(design["wing_loading_N_m2"], design[study.loading_column], "k*", ms=12)
+    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=10,
+                              label="representative front design"))
+    ax.set_xlabel(LABELS["wing_loading_N_m2"])
+    ax.set_ylabel(LABELS[study.loading_column])
+    ax.legend(handles=handles, fontsize=7, loc="best")
+    ax.set_title(f"{study.name}: constraints at aspect ratio {design['aspect_ratio']:.2f}, "
+                 f"flap {design['flap']}\n(each line: margin = 0; each point a sized airplane)",
+                 fontsize=9)
+    ax.grid(alpha=0.3)
+    fig.tight_layout()
+    return fig

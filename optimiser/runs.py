@@ -1,0 +1,631 @@
+"""Runs: the search loop, its run folder, checkpoints and resume.
+
+A run folder holds ``study.toml`` (the study text), ``run.json`` (versions, seed, budget,
+termination, counts, the hypervolume reference, the caution), ``front.csv`` (the feasible
+non-dominated designs over all flap options, every evaluate column), ``evaluations.csv``
+(every evaluated design with its generation and flap option, appended each generation),
+``history.csv`` (per generation: evaluations, feasible count, hypervolume, best of each
+objective), ``checkpoint.pkl`` (the whole run state) and ``plots/``. When no design is
+feasible, ``least_violating.csv`` replaces ``front.csv``.
+
+Resume is exact: the checkpoint holds every per-option algorithm (with its random generator)
+and the byte lengths of ``evaluations.csv`` and ``history.csv`` when it was taken; resume
+truncates both files to those lengths, so a resumed run ends with the same files as an
+uninterrupted one.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import pickle
+import platform
+import signal
+import sys
+import time
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+from pathlib import Path
+
+import numpy as np
+
+from .evaluation import CAUTION
+
+CHECKPOINT = "checkpoint.pkl"
+RUN_FILES = ("study.toml", "run.json", "front.csv", "evaluations.csv", "history.csv",
+             "least_violating.csv", CHECKPOINT)
+LEAST_VIOLATING_ROWS = 20
+CHECKPOINT_FORMAT = 1
+
+
+class RunError(Exception):
+    """A run that cannot start or resume for a reason the user can fix (one line)."""
+
+
+class RunInterrupted(Exception):
+    """The run was stopped (Ctrl-C, SIGTERM) after saving a checkpoint it can resume from."""
+
+    def __init__(self, run_dir):
+        self.run_dir = Path(run_dir)
+        super().__init__(f"interrupted; the run is saved in {self.run_dir}; resume it with: "
+                         f"optimiser resume {self.run_dir}")
+
+
+@dataclass(frozen=True)
+class RunResult:
+    """What a run produced. ``front`` is empty when nothing feasible was found (then
+    ``least_violating`` holds the designs closest to feasible)."""
+
+    front: object
+    history: object
+    run_dir: Path
+    message: str
+    n_evaluations: int
+    termination: str
+    least_violating: object = None
+    best_margin: dict = field(default_factory=dict)
+
+    def __repr__(self):
+        return (f"RunResult({len(self.front)} front designs, {self.n_evaluations} evaluations, "
+                f"termination={self.termination!r}, run_dir={str(self.run_dir)!r})")
+
+
+@dataclass
+class Budget:
+    generations: int
+    population: int
+    option_population: int
+    evaluations: int | None = None
+    time_s: float | None = None
+    stall_generations: int | None = None
+    checkpoint_every: int = 10
+
+
+@dataclass
+class RunState:
+    """Everything a run needs to continue; pickled whole as the checkpoint."""
+
+    study_text: str
+    study_path: str
+    seed: int
+    budget: Budget
+    algos: list
+    scales: dict
+    started_utc: str
+    generation: int = 0
+    n_evaluations: int = 0
+    n_feasible: int = 0
+    front: object = None             # DataFrame of the merged feasible non-dominated designs
+    least: object = None             # DataFrame of the least-violating designs so far
+    best_margin: dict = field(default_factory=dict)
+    best_hv: float = 0.0
+    stall: int = 0
+    elapsed_s: float = 0.0
+    archive_bytes: int = 0
+    history_bytes: int = 0
+    termination: str | None = None
+    format: int = CHECKPOINT_FORMAT
+
+
+# ----------------------------------------------------------------------------- files
+
+def _fsync_dir(folder: Path):
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+def write_atomic(path: Path, data: bytes):
+    """Write ``data`` to ``path`` atomically: temp file in the same folder, fsync, replace."""
+    path = Path(path)
+    tmp = path.with_name(f".{path.name}.tmp-{os.getpid()}")
+    try:
+        with open(tmp, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+    _fsync_dir(path.parent)
+
+
+def _csv_text(frame) -> str:
+    return frame.to_csv(index=False)  # full-precision floats: values read back exactly
+
+
+def _append(path: Path, text: str) -> int:
+    with open(path, "a", encoding="utf-8", newline="") as fh:
+        fh.write(text)
+        fh.flush()
+        return fh.tell()
+
+
+def _sync(path: Path):
+    with open(path, "rb+") as fh:
+        os.fsync(fh.fileno())
+
+
+def save_checkpoint(run_dir: Path, state: RunState):
+    for name in ("evaluations.csv", "history.csv"):
+        _sync(run_dir / name)
+    write_atomic(run_dir / CHECKPOINT, pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL))
+
+
+def load_checkpoint(run_dir: Path) -> RunState:
+    path = Path(run_dir) / CHECKPOINT
+    if not Path(run_dir).is_dir():
+        raise RunError(f"{run_dir}: no such run folder; expected a folder written by "
+                       "'optimiser run'")
+    if not path.exists():
+        raise RunError(f"{run_dir}: no {CHECKPOINT} in it; expected a folder written by "
+                       "'optimiser run'")
+    try:
+        state = pickle.loads(path.read_bytes())
+    except Exception as exc:  # a damaged or foreign file
+        raise RunError(f"{path}: cannot read the checkpoint ({type(exc).__name__}); expected "
+                       "a checkpoint written by this version of optimiser") from None
+    if not isinstance(state, RunState) or state.format != CHECKPOINT_FORMAT:
+        raise RunError(f"{path}: not a checkpoint of this version of optimiser")
+    return state
+
+
+def utc_now() -> str:
+    return datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def default_run_dir(study, root="results") -> Path:
+    stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%SZ")
+    base = Path(root) / f"{study.name}-{stamp}"
+    candidate, k = base, 2
+    while candidate.exists():
+        candidate = Path(f"{base}-{k}")
+        k += 1
+    return candidate
+
+
+def prepare_run_dir(out, study, force: bool) -> Path:
+    """The run folder, created empty. A non-empty folder is refused unless ``force``; with
+    ``force`` only this tool's run files in it are replaced."""
+    run_dir = Path(out) if out is not None else default_run_dir(study)
+    if run_dir.exists() and not run_dir.is_dir():
+        raise RunError(f"--out {run_dir}: is a file; expected a folder for the run")
+    if run_dir.is_dir() and any(run_dir.iterdir()):
+        if not force:
+            raise RunError(f"--out {run_dir}: folder exists and is not empty; expected a new "
+                           "or empty folder (use --force to replace the run files in it)")
+        for name in RUN_FILES:
+            (run_dir / name).unlink(missing_ok=True)
+        plots = run_dir / "plots"
+        if plots.is_dir():
+            for p in plots.iterdir():
+                if p.suffix in (".png", ".svg"):
+                    p.unlink()
+    try:
+        run_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise RunError(f"--out {run_dir}: cannot create the folder ({exc.strerror})") from None
+    return run_dir
+
+
+def versions() -> dict:
+    from importlib import metadata
+    out = {"python": platform.python_version()}
+    for pkg in ("optimiser", "pymoo", "numpy", "pandas", "scipy", "matplotlib", "pint"):
+        try:
+            out[pkg] = metadata.version(pkg)
+        except metadata.PackageNotFoundError:
+            out[pkg] = None
+    return out
+
+
+# ----------------------------------------------------------------------------- the loop
+
+def _objective_cols(study):
+    return list(study.objective_columns())
+
+
+def _merge_front(study, front, new):
+    import pandas as pd
+    from .search import nondominated_mask
+    cand = new if front is None or len(front) == 0 else pd.concat([front, new], ignore_index=True)
+    if len(cand) == 0:
+        return cand
+    mask = nondominated_mask(cand[_objective_cols(study)].to_numpy(float))
+    return cand[mask].reset_index(drop=True)
+
+
+def _update_least(study, state, frame):
+    import pandas as pd
+    from .search import total_violation
+    from .sizing import active_constraints
+    f = frame.copy()
+    f.insert(0, "total_violation", total_violation(frame, study))
+    cand = f if state.least is None else pd.concat([state.least, f], ignore_index=True)
+    state.least = cand.sort_values("total_violation", kind="stable").head(
+        LEAST_VIOLATING_ROWS).reset_index(drop=True)
+    for c in active_constraints(study.spec):
+        m = float(np.nanmax(frame[f"margin_{c}"].to_numpy(float)))
+        state.best_margin[c] = max(state.best_margin.get(c, -math.inf), m)
+
+
+def _history_row(study, state, n_feasible_gen, hv):
+    row = {"generation": state.generation, "evaluations": state.n_evaluations,
+           "feasible_in_generation": n_feasible_gen, "feasible_total": state.n_feasible,
+           "front_size": 0 if state.front is None else len(state.front),
+           "hypervolume": hv}
+    for c in _objective_cols(study):
+        row[f"best_{c}"] = (float(state.front[c].min()) if state.front is not None
+                            and len(state.front) else float("nan"))
+    row["elapsed_s"] = round(state.elapsed_s, 3)
+    return row
+
+
+def _one_generation(study, state, run_dir):
+    """Ask, evaluate and tell every option once; append the archive and the history."""
+    import pandas as pd
+    from .search import hypervolume
+    import numpy as np
+    from .evaluation import size_frame
+    from .search import design_arrays, objectives_and_constraints
+    # ask every option, then size the whole generation with ONE call of the vectorised model
+    pops = [algo.ask() for algo in state.algos]
+    sizes = [len(p) for p in pops]
+    X = np.vstack([p.get("X") for p in pops])
+    flap = np.repeat([algo.problem.flap_index for algo in state.algos], sizes)
+    ws, load, ar = design_arrays(study, X)
+    frame = size_frame(study, ws, load, ar, flap)
+    F, G = objectives_and_constraints(study, frame)
+    start = 0
+    for algo, pop, n in zip(state.algos, pops, sizes):
+        pop.set("F", F[start:start + n], "G", G[start:start + n])
+        pop.apply(lambda ind: ind.evaluated.update(("F", "G")))
+        algo.evaluator.n_eval += n
+        algo.tell(infills=pop)
+        start += n
+    frame.insert(0, "generation", state.generation + 1)
+    state.generation += 1
+    state.n_evaluations += len(frame)
+    feas = frame["feasible"].to_numpy(bool)
+    state.n_feasible += int(feas.sum())
+    if feas.any():
+        state.front = _merge_front(study, state.front, frame[feas])
+    _update_least(study, state, frame)
+    hv = hypervolume(state.front[_objective_cols(study)].to_numpy(float), state.scales) \
+        if state.front is not None and len(state.front) else 0.0
+    if hv > state.best_hv * (1 + 1e-9) and hv > 0:
+        state.best_hv = hv
+        state.stall = 0
+    elif state.best_hv > 0:
+        state.stall += 1
+    state.archive_bytes = _append(run_dir / "evaluations.csv",
+                                  frame.to_csv(index=False, header=False))
+    row = _history_row(study, state, int(feas.sum()), hv)
+    state.history_bytes = _append(run_dir / "history.csv",
+                                  pd.DataFrame([row]).to_csv(index=False, header=False))
+    return row
+
+
+def _why_stop(state) -> str | None:
+    b = state.budget
+    if state.generation >= b.generations:
+        return "generations"
+    if b.evaluations is not None and state.n_evaluations >= b.evaluations:
+        return "evaluations"
+    if b.time_s is not None and state.elapsed_s >= b.time_s:
+        return "time"
+    if b.stall_generations is not None and state.stall >= b.stall_generations:
+        return "stall"
+    return None
+
+
+def _eta(state, per_gen_s) -> float | None:
+    b = state.budget
+    left = [(b.generations - state.generation) * per_gen_s]
+    if b.evaluations is not None and state.generation:
+        per_eval = state.elapsed_s / max(state.n_evaluations, 1)
+        left.append(max(b.evaluations - state.n_evaluations, 0) * per_eval)
+    if b.time_s is not None:
+        left.append(max(b.time_s - state.elapsed_s, 0.0))
+    return max(min(left), 0.0)
+
+
+def _fmt_s(s):
+    if s is None:
+        return "?"
+    s = int(round(s))
+    return f"{s // 3600}:{s % 3600 // 60:02d}:{s % 60:02d}" if s >= 3600 else \
+        f"{s // 60}:{s % 60:02d}"
+
+
+class _Printer:
+    """One plain line per generation, or one updating line on a terminal."""
+
+    def __init__(self, stream=None):
+        self.stream = stream or sys.stdout
+        self.tty = hasattr(self.stream, "isatty") and self.stream.isatty()
+        self.dirty = False
+
+    def __call__(self, row, state):
+        per_gen = state.elapsed_s / max(state.generation, 1)
+        line = (f"generation {row['generation']}/{state.budget.generations}  evaluations "
+                f"{row['evaluations']}  feasible {row['feasible_total']}  front "
+                f"{row['front_size']}  hypervolume {row['hypervolume']:.5g}  elapsed "
+                f"{_fmt_s(state.elapsed_s)}  left ~{_fmt_s(_eta(state, per_gen))}")
+        if self.tty:
+            self.stream.write("\r" + line + "\x1b[K")
+            self.dirty = True
+        else:
+            self.stream.write(line + "\n")
+        self.stream.flush()
+
+    def close(self):
+        if self.dirty:
+            self.stream.write("\n")
+            self.stream.flush()
+            self.dirty = False
+
+
+def run_loop(study, state: RunState, run_dir: Path, progress=None):
+    """Run generations until a stop rule holds. ``progress(row, state)`` is called after each
+    generation. Ctrl-C or SIGTERM (or a KeyboardInterrupt raised by ``progress``) ends the
+    generation in hand, saves a checkpoint and raises :class:`RunInterrupted`."""
+    stop = {"signal": None}
+
+    def handler(signum, frame):
+        if stop["signal"] is not None:  # a second signal: stop now (last checkpoint stands)
+            raise KeyboardInterrupt
+        stop["signal"] = signum
+
+    previous = {}
+    import threading
+    if threading.current_thread() is threading.main_thread():
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            previous[sig] = signal.signal(sig, handler)
+    try:
+        since_ckpt = 0
+        while True:
+            reason = _why_stop(state)
+            if reason is not None:
+                state.termination = reason
+                break
+            t0 = time.monotonic()
+            row = _one_generation(study, state, run_dir)
+            state.elapsed_s += time.monotonic() - t0
+            row["elapsed_s"] = round(state.elapsed_s, 3)
+            since_ckpt += 1
+            interrupted = stop["signal"] is not None
+            if progress is not None and not interrupted:
+                try:
+                    progress(row, state)
+                except KeyboardInterrupt:
+                    interrupted = True
+            if interrupted:
+                save_checkpoint(run_dir, state)
+                raise RunInterrupted(run_dir)
+            if since_ckpt >= state.budget.checkpoint_every:
+                save_checkpoint(run_dir, state)
+                since_ckpt = 0
+    finally:
+        for sig, h in previous.items():
+            signal.signal(sig, h)
+    save_checkpoint(run_dir, state)
+    return state.termination
+
+
+# ----------------------------------------------------------------------------- outputs
+
+TERMINATION_TEXT = {
+    "generations": "generation budget reached",
+    "evaluations": "evaluation budget reached",
+    "time": "wall-clock budget reached",
+    "stall": "hypervolume stalled",
+}
+
+
+def _best_lines(study, front):
+    out = []
+    for c in _objective_cols(study):
+        i = int(front[c].to_numpy(float).argmin())
+        out.append(f"  best {c}: {front[c].iloc[i]:.6g} ({front['flap'].iloc[i]})")
+    return out
+
+
+def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
+    """Write front.csv (or least_violating.csv), run.json and the plots; build the result."""
+    import pandas as pd
+    from .evaluation import design_columns, evaluate
+    history = pd.read_csv(run_dir / "history.csv")
+    ended = utc_now()
+    feasible_found = state.front is not None and len(state.front) > 0
+    least = None
+    if feasible_found:
+        front = state.front.copy()
+        check = evaluate(study, front[list(design_columns(study))])
+        front["within_bounds"] = check["within_bounds"].to_numpy()
+        front["outside_bounds"] = check["outside_bounds"].to_numpy()
+        front = front.sort_values(_objective_cols(study), kind="stable").reset_index(drop=True)
+        write_atomic(run_dir / "front.csv", _csv_text(front).encode())
+        (run_dir / "least_violating.csv").unlink(missing_ok=True)
+        message = (f"{len(front)} feasible non-dominated design(s) from {state.n_evaluations} "
+                   f"evaluations ({state.n_feasible} feasible); "
+                   f"{TERMINATION_TEXT[state.termination]}")
+    else:
+        front = pd.DataFrame(columns=list(state.least.columns[1:]))
+        least = state.least
+        write_atomic(run_dir / "least_violating.csv", _csv_text(least).encode())
+        (run_dir / "front.csv").unlink(missing_ok=True)
+        worst = min(state.best_margin, key=state.best_margin.get)
+        message = (f"no feasible design found in {state.n_evaluations} evaluations: the "
+                   f"requirements cannot all be met within the variable bounds (hardest: "
+                   f"{worst}, best margin reached {state.best_margin[worst]:+.1%}); the "
+                   "designs closest to feasible are in least_violating.csv")
+    b = state.budget
+    info = {
+        "study": study.name, "study_file": state.study_path, "study_sha256": study.sha256,
+        "versions": versions(), "seed": state.seed,
+        "started_utc": state.started_utc, "ended_utc": ended,
+        "active_seconds": round(state.elapsed_s, 3),
+        "budget": {"population": b.population, "generations": b.generations,
+                   "population_per_flap_option": b.option_population,
+                   "flap_options": list(study.flaps),
+                   "evaluations": b.evaluations, "time_s": b.time_s,
+                   "stall_generations": b.stall_generations,
+                   "checkpoint_every": b.checkpoint_every},
+        "method": "one NSGA-II (pymoo) per flap option, fronts merged (see optimiser.search)",
+        "objectives": _objective_cols(study),
+        "termination": state.termination,
+        "termination_text": TERMINATION_TEXT[state.termination],
+        "generations_run": state.generation,
+        "n_evaluations": state.n_evaluations, "n_feasible": state.n_feasible,
+        "front_size": len(front), "feasible_found": feasible_found,
+        "best_margin_reached": {k: float(v) for k, v in state.best_margin.items()},
+        "hypervolume": {"final": float(history["hypervolume"].iloc[-1]) if len(history) else 0.0,
+                        **state.scales,
+                        "note": "objectives normalised as (f - ideal) / (nadir - ideal); the "
+                                "reference point is fixed before the search and never changes"},
+        "message": message, "caution": CAUTION,
+    }
+    write_atomic(run_dir / "run.json", (json.dumps(info, indent=2) + "\n").encode())
+    if plots:
+        from .report.plots import write_plots
+        write_plots(study, run_dir, front, history, scales=state.scales)
+    return RunResult(front=front, history=history, run_dir=run_dir, message=message,
+                     n_evaluations=state.n_evaluations, termination=state.termination,
+                     least_violating=least, best_margin=dict(state.best_margin))
+
+
+def summary_text(study, result: RunResult) -> str:
+    lines = [f"study {study.name}: {result.message}"]
+    if len(result.front):
+        lines += _best_lines(study, result.front)
+    else:
+        lines.append("  best margin reached per constraint (negative = not met):")
+        lines += [f"    {k}: {v:+.1%}" for k, v in result.best_margin.items()]
+    lines.append(f"run folder: {result.run_dir}")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+# ----------------------------------------------------------------------------- entry points
+
+def _check_positive(name, value, integer=True):
+    if value is None:
+        return None
+    ok = isinstance(value, (int, np.integer)) if integer else isinstance(value, (int, float))
+    if isinstance(value, bool) or not ok or not value > 0 or not math.isfinite(value):
+        kind = "a whole number" if integer else "a number"
+        raise RunError(f"{name}: got {value!r}; expected {kind} greater than 0")
+    return value
+
+
+def start(study, *, out=None, force=False, seed=None, generations=None, population=None,
+          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=10):
+    """Validate the options, create the run folder and the initial state."""
+    from .search import make_algorithms, plan_budget, reference_scales
+    _check_positive("--gens", generations)
+    _check_positive("--pop", population)
+    _check_positive("--evals", evaluations)
+    _check_positive("--time", time_budget_s, integer=False)
+    _check_positive("--stall-gens", stall_generations)
+    _check_positive("--checkpoint-every", checkpoint_every)
+    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, (int, np.integer))
+                             or not 0 <= seed < 2 ** 32):
+        raise RunError(f"--seed: got {seed!r}; expected a whole number from 0 to {2**32 - 1}")
+    if population is not None and population < 4:
+        raise RunError(f"--pop: got {population}; expected at least 4")
+    if not any(not v.fixed for v in study.variables):
+        raise RunError(f"{study.path}: every variable is fixed; expected at least one with "
+                       "[lower, upper] bounds to search (use 'optimiser evaluate' for one design)")
+    seed = study.search["seed"] if seed is None else int(seed)
+    pop = population or study.search["population"]
+    gens = generations or study.search["generations"]
+    per, run_gens = plan_budget(len(study.flaps), pop, gens)
+    run_dir = prepare_run_dir(out, study, force)
+    budget = Budget(generations=run_gens, population=pop, option_population=per,
+                    evaluations=evaluations, time_s=time_budget_s,
+                    stall_generations=stall_generations, checkpoint_every=checkpoint_every)
+    write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
+    state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
+                     budget=budget, algos=make_algorithms(study, seed, per, run_gens),
+                     scales=reference_scales(study), started_utc=utc_now())
+    import pandas as pd
+    from .evaluation import size_frame
+    from .search import design_arrays, free_variables
+    # Headers: the archive's columns are those of size_frame, with the generation first.
+    x0 = np.array([[v.lower for v in free_variables(study)]])
+    cols = ["generation"] + list(size_frame(study, *design_arrays(study, x0), [0]).columns)
+    state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")
+    hist_cols = list(_history_row(study, state, 0, 0.0))
+    state.history_bytes = _append(run_dir / "history.csv", ",".join(hist_cols) + "\n")
+    save_checkpoint(run_dir, state)
+    return state, run_dir
+
+
+def _progress_fn(progress):
+    if progress is True:
+        return _Printer()
+    if progress in (False, None):
+        return None
+    return progress
+
+
+def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
+             evaluations=None, time_budget_s=None, stall_generations=None,
+             checkpoint_every=10, force=False, progress=False, plots=True) -> RunResult:
+    """Search the study's variables for the Pareto front of its objectives.
+
+    ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's
+    [search] population x generations unless given; ``evaluations`` and ``time_budget_s``
+    (wall clock, measured here) stop earlier; ``stall_generations`` stops when the merged
+    front's hypervolume has not grown for that many generations. ``progress`` is True (print a
+    line per generation), False, or a callable ``progress(row, state)``. Writes the run folder
+    (``out``, default ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
+    Raises :class:`RunInterrupted` after saving a checkpoint when interrupted.
+    """
+    from .study import Study, load_study
+    study = study_or_path if isinstance(study_or_path, Study) else load_study(study_or_path)
+    state, run_dir = start(study, out=out, force=force, seed=seed, generations=generations,
+                           population=population, evaluations=evaluations,
+                           time_budget_s=time_budget_s, stall_generations=stall_generations,
+                           checkpoint_every=checkpoint_every)
+    return _drive(study, state, run_dir, _progress_fn(progress), plots)
+
+
+def _drive(study, state, run_dir, progress, plots):
+    try:
+        run_loop(study, state, run_dir, progress)
+    finally:
+        if isinstance(progress, _Printer):
+            progress.close()
+    return finish(study, state, run_dir, plots=plots)
+
+
+def resume(run_dir, *, progress=False, plots=True) -> RunResult:
+    """Continue an interrupted run from its checkpoint to its original budget. With the same
+    seed the result equals that of an uninterrupted run."""
+    from .study import parse_study
+    run_dir = Path(run_dir)
+    state = load_checkpoint(run_dir)
+    if state.termination is not None:
+        raise RunError(f"{run_dir}: the run already finished ({state.termination}); expected "
+                       "an interrupted run (start a new one with 'optimiser run')")
+    study = parse_study(state.study_text, state.study_path)
+    for name, length in (("evaluations.csv", state.archive_bytes),
+                         ("history.csv", state.history_bytes)):
+        path = run_dir / name
+        if not path.exists() or path.stat().st_size < length:
+            raise RunError(f"{path}: shorter than the checkpoint records ({length} bytes); "
+                           "expected the run folder as the run left it")
+        with open(path, "rb+") as fh:
+            fh.truncate(length)
+    return _drive(study, state, run_dir, _progress_fn(progress), plots)

@@ -1,0 +1,212 @@
+"""The search: run folder contents, exactness of the front, reproducibility, resume,
+refusal to overwrite, an impossible study, and front quality against a dense enumeration."""
+
+from __future__ import annotations
+
+import itertools
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import optimiser
+from optimiser.cli import main
+from optimiser.evaluation import design_columns, size_frame
+from optimiser.runs import RunInterrupted, resume
+from optimiser.search import flap_indices, hypervolume, nondominated_mask, reference_scales
+from optimiser.study import bundled_study_path, load_study, parse_study
+
+TINY = dict(population=16, generations=6)
+
+
+@pytest.fixture(scope="module")
+def study():
+    return load_study(bundled_study_path())
+
+
+@pytest.fixture(scope="module")
+def tiny_run(study, tmp_path_factory):
+    out = tmp_path_factory.mktemp("tiny") / "run"
+    return optimiser.optimise(study, out=out, **TINY)
+
+
+def _dominated_any(F):
+    """Brute force: does any row dominate another? (definition of Pareto dominance)"""
+    le = np.all(F[:, None, :] <= F[None, :, :], axis=2)
+    lt = np.any(F[:, None, :] < F[None, :, :], axis=2)
+    dom = le & lt
+    np.fill_diagonal(dom, False)
+    return dom.any()
+
+
+def test_tiny_run_writes_every_file(tiny_run):
+    d = tiny_run.run_dir
+    for name in ("study.toml", "run.json", "front.csv", "evaluations.csv", "history.csv",
+                 "checkpoint.pkl", "plots/objectives.png", "plots/objectives.svg",
+                 "plots/front_3d.png", "plots/decision_variables.png",
+                 "plots/convergence.svg", "plots/constraint_diagram.png"):
+        assert (d / name).is_file(), name
+    info = json.loads((d / "run.json").read_text())
+    for key in ("versions", "seed", "study_sha256", "started_utc", "ended_utc", "budget",
+                "termination", "n_evaluations", "n_feasible", "front_size", "caution",
+                "hypervolume"):
+        assert key in info, key
+    assert info["caution"] == optimiser.CAUTION
+    assert info["seed"] == 1  # the study's [search] seed
+    assert info["termination"] == "generations"
+    # 6 flap options x ceil(16 / 6) = 8 (the minimum) per option x 6 generations
+    assert info["n_evaluations"] == 6 * 8 * 6 == tiny_run.n_evaluations
+    hist = pd.read_csv(d / "history.csv")
+    assert len(hist) == 6 and hist["evaluations"].iloc[-1] == info["n_evaluations"]
+    assert np.all(np.diff(hist["hypervolume"]) >= -1e-12)  # archive front never worsens
+    archive = pd.read_csv(d / "evaluations.csv")
+    assert len(archive) == info["n_evaluations"]
+    assert int(archive["feasible"].sum()) == info["n_feasible"]
+
+
+def test_front_is_feasible_nondominated_and_reproduces(study, tiny_run):
+    front = pd.read_csv(tiny_run.run_dir / "front.csv")
+    cols = list(study.objective_columns())
+    assert len(front) > 0
+    assert front["feasible"].all()
+    assert not _dominated_any(front[cols].to_numpy(float))
+    again = optimiser.evaluate(study, front[list(design_columns(study))])
+    assert again["feasible"].all()
+    # CSV floats are written in full precision; 1e-12 allows last-bit differences of the
+    # vectorised arithmetic (common practice)
+    np.testing.assert_allclose(again[cols].to_numpy(float), front[cols].to_numpy(float),
+                               rtol=1e-12)
+
+
+def test_same_seed_same_front(study, tiny_run, tmp_path):
+    other = optimiser.optimise(study, out=tmp_path / "again", **TINY)
+    a = pd.read_csv(tiny_run.run_dir / "front.csv")
+    b = pd.read_csv(other.run_dir / "front.csv")
+    pd.testing.assert_frame_equal(a, b, check_exact=True)
+
+
+def test_interrupted_and_resumed_equals_uninterrupted(study, tiny_run, tmp_path):
+    def hook(row, state):
+        if row["generation"] == 3:
+            raise KeyboardInterrupt
+
+    out = tmp_path / "stopped"
+    with pytest.raises(RunInterrupted, match="optimiser resume"):
+        optimiser.optimise(study, out=out, progress=hook, **TINY)
+    assert len(pd.read_csv(out / "history.csv")) == 3
+    result = resume(out)
+    assert result.termination == "generations"
+    for name in ("front.csv", "evaluations.csv"):
+        assert (out / name).read_bytes() == (tiny_run.run_dir / name).read_bytes(), name
+    h1 = pd.read_csv(out / "history.csv").drop(columns="elapsed_s")
+    h2 = pd.read_csv(tiny_run.run_dir / "history.csv").drop(columns="elapsed_s")
+    pd.testing.assert_frame_equal(h1, h2, check_exact=True)
+
+
+def test_evaluation_budget_and_stall_stop_the_run(study, tmp_path):
+    # evaluations are checked after each whole generation (6 options x 8 = 48 per generation)
+    r = optimiser.optimise(study, out=tmp_path / "e", population=16, generations=50,
+                           evaluations=100, plots=False)
+    assert r.termination == "evaluations" and r.n_evaluations == 144
+    s = optimiser.optimise(study, out=tmp_path / "s", population=16, generations=10_000,
+                           stall_generations=3, plots=False)
+    assert s.termination == "stall"
+    hv = s.history["hypervolume"].to_numpy()
+    assert hv[-1] <= hv[-4] * (1 + 1e-9)  # no growth over the last three generations
+
+
+def test_existing_run_folder_is_not_overwritten(tmp_path, capsys):
+    out = tmp_path / "taken"
+    out.mkdir()
+    (out / "front.csv").write_text("precious\n")
+    code = main(["run", "--out", str(out), "--pop", "8", "--gens", "1"])
+    assert code == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "--force" in err[0] and str(out) in err[0]
+    assert (out / "front.csv").read_text() == "precious\n"
+    assert sorted(p.name for p in out.iterdir()) == ["front.csv"]
+
+
+@pytest.mark.parametrize("argv, word", [
+    (["--time", "5x"], "--time"), (["--pop", "0"], "--pop"), (["--gens", "-1"], "--gens")])
+def test_bad_run_options_exit_2_with_one_line(tmp_path, capsys, argv, word):
+    code = main(["run", "--out", str(tmp_path / "r"), *argv])
+    assert code == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and word in err[0]
+    assert not (tmp_path / "r").exists()
+
+
+def test_impossible_study_writes_least_violating(tmp_path, capsys):
+    text = bundled_study_path().read_text().replace('field_length = "750 m"',
+                                                   'field_length = "60 m"')
+    path = tmp_path / "impossible.toml"
+    path.write_text(text)
+    out = tmp_path / "run"
+    code = main(["run", str(path), "--out", str(out), "--pop", "12", "--gens", "3"])
+    assert code == 0
+    printed = capsys.readouterr().out
+    assert "no feasible design found" in printed and optimiser.CAUTION in printed
+    info = json.loads((out / "run.json").read_text())
+    assert info["feasible_found"] is False and info["front_size"] == 0
+    assert "no feasible design" in info["message"]
+    assert not (out / "front.csv").exists()
+    least = pd.read_csv(out / "least_violating.csv")
+    assert 0 < len(least) <= 20
+    assert (least["total_violation"] > 0).all()
+    assert np.all(np.diff(least["total_violation"]) >= 0)
+    # a 60 m field cannot be met: the best landing-field margin reached stays negative
+    assert info["best_margin_reached"]["landing_field"] < 0
+
+
+def test_nondominated_mask_matches_brute_force():
+    rng = np.random.default_rng(5)
+    F = np.round(rng.random((300, 3)), 1)  # coarse values: many ties and duplicates
+    mask = nondominated_mask(F)
+    kept = F[mask]
+    assert not _dominated_any(kept)
+    assert len(np.unique(kept, axis=0)) == len(kept)
+    # every dropped row is dominated by, or equal to, a kept row
+    for f in F[~mask]:
+        assert np.any(np.all(kept <= f, axis=1))
+
+
+def test_reference_point_is_fixed_by_the_study(study):
+    a, b = reference_scales(study), reference_scales(parse_study(study.text, study.path))
+    assert a == b
+    assert a["reference_point_normalised"] == [1.1, 1.1, 1.1]
+
+
+def _dense_reference(study, n):
+    """Non-dominated feasible set of an n^3 grid over the bounds for every flap option."""
+    cols = list(study.objective_columns())
+    axes = [np.linspace(v.lower, v.upper, n) for v in study.variables]
+    X = np.array(list(itertools.product(*axes)))
+    Fs = []
+    for i in flap_indices(study):
+        f = size_frame(study, X[:, 0], X[:, 1], X[:, 2], np.full(len(X), i))
+        Fs.append(f.loc[f["feasible"], cols].to_numpy(float))
+    F = np.vstack(Fs)
+    return F[nondominated_mask(F)]
+
+
+def test_front_reaches_dense_reference_and_beats_random(study, tmp_path):
+    cols = list(study.objective_columns())
+    scales = reference_scales(study)
+    hv_ref = hypervolume(_dense_reference(study, 25), scales)
+    result = optimiser.optimise(study, out=tmp_path / "q", population=60, generations=10,
+                                plots=False)
+    hv = hypervolume(result.front[cols].to_numpy(float), scales)
+    rng = np.random.default_rng(12345)
+    n = result.n_evaluations
+    lo = np.array([v.lower for v in study.variables])
+    hi = np.array([v.upper for v in study.variables])
+    X = lo + (hi - lo) * rng.random((n, 3))
+    flaps = np.array(flap_indices(study))[rng.integers(0, len(study.flaps), n)]
+    f = size_frame(study, X[:, 0], X[:, 1], X[:, 2], flaps)
+    Fr = f.loc[f["feasible"], cols].to_numpy(float)
+    hv_random = hypervolume(Fr[nondominated_mask(Fr)], scales)
+    # 0.9 of a dense enumeration's hypervolume: the threshold set for this project
+    assert hv >= 0.9 * hv_ref
+    assert hv > hv_random
