@@ -20,6 +20,7 @@ from .spec import AircraftSpec
 
 CONSTRAINT_LABELS = {
     "mass_closure": "takeoff mass closes",
+    "takeoff_mass_limit": "takeoff mass within the certification basis' limit",
     "runway_acceleration": "accelerates on the runway",
     "stall_speed": "stall speed, landing configuration",
     "takeoff_field": "takeoff field length",
@@ -37,8 +38,11 @@ _MIN_ACCEL = 0.01  # [m s^-2] acceleration floor of the ground roll
 
 def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     """Names of the constraints that apply to this study, in a fixed order."""
-    names = ["mass_closure", "runway_acceleration", "stall_speed", "takeoff_field",
-             "landing_field", "climb_rate"]
+    names = ["mass_closure"]
+    if np.isfinite(spec.requirements.max_takeoff_mass_kg):
+        names.append("takeoff_mass_limit")
+    names += ["runway_acceleration", "stall_speed", "takeoff_field", "landing_field",
+              "climb_rate"]
     if spec.certification.aeo_climb_gradient_min > 0:
         names.append("climb_gradient")
     if spec.propulsion.engine_count > 1 and spec.certification.oei_climb_gradient_min > 0:
@@ -440,6 +444,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # --- margins ---
     margins = {
         "mass_closure": closure_margin,
+        "takeoff_mass_limit": 1.0 - m_to / rq.max_takeoff_mass_kg,
         "runway_acceleration": min_acc / G0,
         "stall_speed": 1.0 - vs_landing_sl / rq.stall_speed_m_s,
         "takeoff_field": 1.0 - takeoff_required / dep.field_length_m,
@@ -522,8 +527,8 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         "service_ceiling_m": ceiling,
         "maintenance_index": mci,
     })
-    for c in names:
-        out[f"margin_{c}"] = margins[c]
+    for k, c in enumerate(names):
+        out[f"margin_{c}"] = margin_matrix[:, k]
     out = {k: _finite(v, ws_c.shape) for k, v in out.items()}
     out["feasible"] = feasible
     out["limiting_index"] = limiting

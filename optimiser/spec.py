@@ -176,6 +176,9 @@ class Requirements:
                                doc="all-engines rate of climb at the departure airfield")
     service_ceiling_m: float = _f(unit="m", lo=0.0, hi=20000.0, lo_open=True, required=True,
                                   doc="where the best climb rate is 100 ft/min, at takeoff mass")
+    max_takeoff_mass_kg: float | None = _f(None, unit="kg", lo=10.0, hi=500000.0,
+                                           doc="upper limit of takeoff mass; default from the "
+                                           "certification basis (Part 23 weight limits)")
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -195,6 +195,11 @@ class _Reader:
                           "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
             self.fail(where, f"got {value!r}, which is not a quantity with a known unit; "
                       f"expected {dim_name}, e.g. {example}")
+        if isinstance(getattr(q, "magnitude", None), int):  # pint keeps "1000...0 ft" exact
+            try:
+                q = ureg.Quantity(float(q.magnitude), q.units)
+            except OverflowError:
+                self.fail(where, f"got {value!r}; expected a finite value")
         if not hasattr(q, "units") or q.unitless:
             self.fail(where, f"got {value!r} (no unit); expected {dim_name} with its unit, "
                       f"e.g. {example}")
@@ -419,6 +424,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         cert_numbers = performance.certification_numbers(basis, family, prop.engine_count)
     except ValueError as exc:
         rd.fail("certification", str(exc))
+    if req.max_takeoff_mass_kg is None:
+        req = replace(req, max_takeoff_mass_kg=cert_numbers["max_takeoff_mass_kg"])
+    elif req.max_takeoff_mass_kg > cert_numbers["max_takeoff_mass_kg"]:
+        rd.fail("[requirements] max_takeoff_mass", f"got {req.max_takeoff_mass_kg:g} kg; "
+                f"expected at most {cert_numbers['max_takeoff_mass_kg']:.0f} kg, the limit of "
+                f"certification {basis!r} for this airplane")
     dep = _airfield(rd, "departure", raw["departure"], cert_numbers["obstacle_height_m"])
     dst = _airfield(rd, "destination", raw["destination"], performance.OBSTACLE_HEIGHT["part23"]) \
         if "destination" in raw else replace(dep, obstacle_height_m=performance.OBSTACLE_HEIGHT[

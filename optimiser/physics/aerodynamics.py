@@ -51,7 +51,9 @@ def oswald_nita_scholz2012(aspect_ratio, taper_ratio, sweep_quarter_chord, fusel
     x = np.asarray(taper_ratio, dtype=float) - dlam
     f = 0.0524 * x**4 - 0.15 * x**3 + 0.1659 * x**2 - 0.0706 * x + 0.0119
     e_theo = 1.0 / (1.0 + f * a)
-    k_ef = 1.0 - 2.0 * np.asarray(fuselage_span_ratio, dtype=float) ** 2
+    # d_F/b is clipped at 0.5 (k_eF >= 0.5) so that the estimate stays positive for the odd
+    # design far outside the method's range; inside it (d_F/b < 0.2) nothing changes
+    k_ef = 1.0 - 2.0 * np.minimum(np.asarray(fuselage_span_ratio, dtype=float), 0.5) ** 2
     m = np.asarray(mach, dtype=float)
     k_em = np.where(m <= 0.3, 1.0, 1.0 - 0.001521 * np.maximum(m / 0.3 - 1.0, 0.0) ** 10.82)
     return e_theo * k_ef * k_ed0 * k_em

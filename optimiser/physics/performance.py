@@ -28,6 +28,12 @@ PART23_OEI_ALTITUDE = 1524.0
 """5000 ft pressure altitude of 14 CFR 23.67(a)(1) [m]."""
 OBSTACLE_HEIGHT = {"part23": 15.24, "part25": 10.668}
 """Screen height: 50 ft (Part 23 singles and low-speed twins), 35 ft (Part 25) [m]."""
+PART23_MASS_LIMIT_NORMAL = 12500 * 0.45359237
+"""14 CFR 23.3(a) (before Amdt 23-64): normal, utility and acrobatic categories, maximum
+takeoff weight 12 500 lb (5 670 kg) (from memory)."""
+PART23_MASS_LIMIT_COMMUTER = 19000 * 0.45359237
+"""14 CFR 23.3(d) (before Amdt 23-64): commuter category, propeller-driven multi-engine
+airplanes up to 19 000 lb (8 618 kg) (from memory)."""
 PART25_FIELD_FACTOR = 1.15
 """14 CFR 25.113: takeoff distance at least 115 % of the all-engines distance to 35 ft."""
 
@@ -35,7 +41,8 @@ PART25_FIELD_FACTOR = 1.15
 def certification_numbers(basis, family, engine_count):
     """Regulatory minima for a certification basis, family and engine count.
 
-    Returns a dict with ``aeo_climb_gradient_min``, ``oei_climb_gradient_min`` (0 for one
+    Returns a dict with ``aeo_climb_gradient_min``, ``max_takeoff_mass_kg`` (inf: no limit),
+    ``oei_climb_gradient_min`` (0 for one
     engine), ``oei_climb_altitude_m`` (NaN: at the departure airfield), ``oei_flaps_takeoff``,
     ``balanced_field``, ``field_length_factor`` and ``obstacle_height_m``.
 
@@ -44,7 +51,9 @@ def certification_numbers(basis, family, engine_count):
     n = int(engine_count)
     if basis == "part23":
         aeo = PART23_AEO_GRADIENT_RECIPROCATING if family == "piston" else PART23_AEO_GRADIENT_TURBINE
-        return dict(aeo_climb_gradient_min=aeo,
+        mass_limit = PART23_MASS_LIMIT_COMMUTER if (n > 1 and family != "turbofan") \
+            else PART23_MASS_LIMIT_NORMAL
+        return dict(aeo_climb_gradient_min=aeo, max_takeoff_mass_kg=mass_limit,
                     oei_climb_gradient_min=PART23_OEI_GRADIENT if n > 1 else 0.0,
                     oei_climb_altitude_m=PART23_OEI_ALTITUDE, oei_flaps_takeoff=False,
                     balanced_field=False, field_length_factor=1.0,
@@ -52,7 +61,7 @@ def certification_numbers(basis, family, engine_count):
     if basis == "part25":
         if n not in PART25_OEI_SECOND_SEGMENT:
             raise ValueError(f"part25 needs 2 to 4 engines, got {n}")
-        return dict(aeo_climb_gradient_min=0.0,
+        return dict(aeo_climb_gradient_min=0.0, max_takeoff_mass_kg=float("inf"),
                     oei_climb_gradient_min=PART25_OEI_SECOND_SEGMENT[n],
                     oei_climb_altitude_m=float("nan"), oei_flaps_takeoff=True,
                     balanced_field=True, field_length_factor=PART25_FIELD_FACTOR,

@@ -1,0 +1,359 @@
+"""Properties and sanity of the sizing model over the three demo studies.
+
+Physical monotonicities (power, CLmax, aspect ratio), robustness over and far beyond the
+bounds (never a NaN or inf), and the "facts of the trade": where the feasible designs of each
+demo land compared with the usual ranges of their class.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import optimiser
+from optimiser.physics import aerodynamics, performance, propulsion, weights
+from optimiser.sizing import size_designs
+from optimiser.study import load_study
+
+PROBLEMS = Path(__file__).resolve().parents[1] / "problems"
+NAMES = ("high_strip_utility", "twin_turboprop_commuter", "light_twin_jet")
+G0 = 9.80665                    # m/s^2, standard gravity, exact
+LB_PER_HP = 4.4482216152605 / 0.74569987158227  # N/kW in 1 lbf/hp = 5.9656 (exact definitions)
+
+STUDIES = {n: load_study(PROBLEMS / f"{n}.toml") for n in NAMES}
+SETTINGS = dict(deadline=None, max_examples=40, derandomize=True)
+
+
+# --- more power never lengthens the ground roll ---------------------------------------------
+
+def _prop_thrust(power, density, diameter, efficiency=0.75, figure_of_merit=0.70):
+    """Installed propeller thrust T(V) for shaft power ``power`` [W] (one engine)."""
+    disc = 0.25 * math.pi * diameter**2
+    static = propulsion.static_thrust_momentum(power, density, disc, figure_of_merit)
+    return lambda v: propulsion.propeller_thrust(v, power, efficiency, static)
+
+
+@settings(**SETTINGS)
+@given(weight=st.floats(5e3, 2e5), wing_loading=st.floats(400.0, 5000.0),
+       density=st.floats(0.9, 1.25), cl_to=st.floats(1.3, 2.8), cd0=st.floats(0.02, 0.12),
+       k=st.floats(0.03, 0.08), phi=st.floats(0.2, 1.0), mu=st.floats(0.02, 0.2),
+       power_to_weight=st.floats(3.0, 40.0), more=st.floats(0.01, 1.0),
+       prop_scales=st.booleans())
+def test_more_power_never_lengthens_the_ground_roll_at_fixed_mass(
+        weight, wing_loading, density, cl_to, cd0, k, phi, mu, power_to_weight, more,
+        prop_scales):
+    """Physics level, everything held but the power: weight, wing area, lift-off speed, drag
+    polar, ground effect, friction. The propeller either stays the same or grows with the
+    power as D = 0.56 (P [kW])^0.25 (Raymer ch. 10, from memory). Thrust at every speed rises
+    with power (momentum theory T0 = (FM P)^(2/3) (2 rho A)^(1/3), McCormick; eta P / V above
+    the blend), so the acceleration rises everywhere and s = integral V / a dV falls."""
+    area = weight / wing_loading
+    v_lo = 1.2 * performance.stall_speed(wing_loading, density, cl_to)  # V_LO = 1.2 V_s,TO
+    p1 = power_to_weight * weight
+    p2 = p1 * (1.0 + more)
+    d1 = propulsion.propeller_diameter(p1, 0.56)
+    d2 = propulsion.propeller_diameter(p2, 0.56) if prop_scales else d1
+    args = (np.array([weight]), np.array([area]), np.array([v_lo]))
+    tail = (density, cd0, k, phi, 0.5, mu)
+    s1, a1, t1 = performance.ground_roll(*args, _prop_thrust(p1, density, d1), *tail)
+    s2, a2, t2 = performance.ground_roll(*args, _prop_thrust(p2, density, d2), *tail)
+    assert s2[0] <= s1[0] * (1 + 1e-12)
+    assert a2[0] >= a1[0] - 1e-12
+    assert t2[0] > t1[0]
+    if a1[0] > 0.01:  # it can accelerate: a real gain, not only the acceleration floor
+        assert s2[0] < s1[0]
+
+
+@pytest.mark.parametrize("name", NAMES)
+@settings(**SETTINGS)
+@given(u=st.tuples(st.floats(0, 1), st.floats(0, 1)), flap_pick=st.integers(0, 10**6))
+def test_more_power_never_lengthens_the_sized_ground_roll(name, u, flap_pick):
+    """Sized level. Held: W/S, A, flap, the departure air state, and (since W/P and T/W are
+    ratios to the takeoff weight) power or thrust PER UNIT WEIGHT except for the change under
+    test. The takeoff mass is NOT held: more power means a heavier engine and a heavier,
+    larger airplane. Per unit weight that changes only (a) the span, which grows, lowering the
+    ground-effect induced drag and K (both help), and (b) the propeller: with D ~ P^0.25 the
+    static thrust per weight goes as (P/W)^(5/6) W^(-1/6), so for a power-per-weight ratio r
+    and a mass ratio q it is not lower when q <= r^5. Under that condition (checked below) the
+    property is physically guaranteed; outside it a mass spiral could overturn it."""
+    study = STUDIES[name]
+    ws_v, ld_v, ar_v = study.variables
+    n = 10
+    ws = np.full(n, ws_v.lower + u[0] * (ws_v.upper - ws_v.lower))
+    ar = np.full(n, ar_v.lower + u[1] * (ar_v.upper - ar_v.lower))
+    flap = study.spec.high_lift_names.index(study.flaps[flap_pick % len(study.flaps)])
+    idx = np.full(n, flap)
+    if study.spec.uses_power_loading:
+        loading = np.linspace(ld_v.upper, ld_v.lower, n)   # W/P falling: more power
+        per_weight = 1.0 / loading
+    else:
+        loading = np.linspace(ld_v.lower, ld_v.upper, n)   # T/W rising: more thrust
+        per_weight = loading
+    out = size_designs(study.spec, ws, loading, ar, idx)
+    roll = out["takeoff_ground_roll_m"]
+    mass = out["takeoff_mass_kg"]
+    ok = (out["margin_mass_closure"] >= 0) & (out["margin_runway_acceleration"] > 0)
+    for i in range(n - 1):
+        if not (ok[i] and ok[i + 1]):
+            continue
+        r, q = per_weight[i + 1] / per_weight[i], mass[i + 1] / mass[i]
+        if study.spec.uses_power_loading and q > r**5:
+            continue
+        assert roll[i + 1] <= roll[i] * (1 + 1e-9), (i, roll, mass)
+
+
+def test_more_power_shortens_the_sized_roll_on_a_grid():
+    """The same property over a dense seeded grid of the default study: 2000 (W/S, A, flap)
+    points x 12 power loadings; neighbours that both close and accelerate are compared, under
+    the same mass-ratio condition q <= r^5 as above (it removes under 5 % of the pairs)."""
+    study = STUDIES["high_strip_utility"]
+    rng = np.random.default_rng(7)
+    ws_v, ld_v, ar_v = study.variables
+    n, k = 2000, 12
+    ws = np.repeat(rng.uniform(ws_v.lower, ws_v.upper, n), k)
+    ar = np.repeat(rng.uniform(ar_v.lower, ar_v.upper, n), k)
+    idx = np.repeat(rng.integers(0, len(study.spec.high_lift), n), k)
+    loading = np.tile(np.linspace(ld_v.upper, ld_v.lower, k), n)
+    out = size_designs(study.spec, ws, loading, ar, idx)
+    roll = out["takeoff_ground_roll_m"].reshape(n, k)
+    ok = ((out["margin_mass_closure"] >= 0) & (out["margin_runway_acceleration"] > 0)
+          ).reshape(n, k)
+    mass = out["takeoff_mass_kg"].reshape(n, k)
+    per_weight = 1.0 / loading.reshape(n, k)
+    guaranteed = (mass[:, 1:] / mass[:, :-1]) <= (per_weight[:, 1:] / per_weight[:, :-1]) ** 5
+    pair = ok[:, 1:] & ok[:, :-1]
+    assert pair.sum() > 0.8 * pair.size
+    assert (pair & ~guaranteed).sum() < 0.05 * pair.sum()
+    pair &= guaranteed
+    assert (np.diff(roll, axis=1)[pair] <= 1e-9 * roll[:, 1:][pair]).all()
+    # and the gain is real: halving-ish the power loading shortens the roll a lot
+    both = ok[:, 0] & ok[:, -1]
+    assert (roll[both, -1] < 0.8 * roll[both, 0]).all()
+
+
+# --- more CLmax never raises the stall speed ------------------------------------------------
+
+@pytest.mark.parametrize("name", NAMES)
+@settings(**SETTINGS)
+@given(u=st.floats(0, 1), f=st.floats(0, 1), ar=st.floats(0, 1))
+def test_more_clmax_never_raises_the_stall_speed(name, u, f, ar):
+    study = STUDIES[name]
+    ws_v, ld_v, ar_v = study.variables
+    names = study.spec.high_lift_names   # every catalogue entry, with and without slats
+    n = len(names)
+    ws = np.full(n, ws_v.lower + u * (ws_v.upper - ws_v.lower))
+    out = size_designs(study.spec, ws, np.full(n, ld_v.lower + f * (ld_v.upper - ld_v.lower)),
+                       np.full(n, ar_v.lower + ar * (ar_v.upper - ar_v.lower)), np.arange(n))
+    cl = out["cl_max_landing"]
+    vs = out["stall_speed_m_s"]
+    inc = np.array([h.cl_increment_landing for h in study.spec.high_lift])
+    np.testing.assert_allclose(cl, study.spec.aerodynamics.cl_max_clean + inc, rtol=1e-12)
+    order = np.argsort(cl, kind="stable")
+    assert (np.diff(vs[order]) <= 1e-12 * vs[order][1:]).all()
+    # V_s ~ CLmax^(-1/2) at equal W/S (V_s = sqrt(2 (W/S) / (rho CLmax)), definition)
+    np.testing.assert_allclose(vs * np.sqrt(cl), vs[0] * np.sqrt(cl[0]), rtol=1e-12)
+    # the ordering of the catalogue itself (Arnedo Table 3.1 section increments): none <
+    # plain = split < single slotted < Fowler and double slotted; slats add
+    by = dict(zip(names, cl))
+    assert by["none"] < by["plain"] == by["split"] < by["single_slotted"] < by["fowler"]
+    assert by["single_slotted"] < by["double_slotted"]
+    assert all(by[f"{b}+slats"] > by[b] for b in ("none", "plain", "fowler"))
+
+
+# --- aspect ratio: lower K, heavier wing ------------------------------------------------------
+
+@settings(**SETTINGS)
+@given(a1=st.floats(4.0, 12.0), more=st.floats(0.05, 4.0), area=st.floats(8.0, 60.0),
+       mass=st.floats(800.0, 8000.0), fuselage=st.floats(1.0, 2.2),
+       taper=st.floats(0.3, 1.0), sweep=st.floats(0.0, 0.4), mach=st.floats(0.1, 0.7))
+def test_higher_aspect_ratio_lowers_k_and_raises_wing_mass(a1, more, area, mass, fuselage,
+                                                          taper, sweep, mach):
+    """At fixed wing area and takeoff mass; the span follows, b = sqrt(A S)."""
+    a2 = min(a1 + more, 12.0)
+    if a2 <= a1:
+        return
+    a = np.array([a1, a2])
+    span = np.sqrt(a * area)
+    # Nita & Scholz 2012 (valid A 4 to 12): pi A e = pi A k / (1 + f A) grows with A, and
+    # k_eF = 1 - 2 (d/b)^2 grows with the span, so K = 1 / (pi A e) falls
+    e = aerodynamics.oswald_factor("nita_scholz2012", a, taper, sweep, fuselage / span, mach,
+                                   0.804)
+    k = aerodynamics.induced_drag_factor(a, e)
+    assert k[1] < k[0]
+    # Obert 2009: K = (1.05 + 0.007 pi A) / (pi A) = 1.05 / (pi A) + 0.007
+    e_o = aerodynamics.oswald_factor("obert2009", a, taper, sweep, fuselage / span, mach, 0.804)
+    k_o = aerodynamics.induced_drag_factor(a, e_o)
+    np.testing.assert_allclose(k_o, 1.05 / (np.pi * a) + 0.007, rtol=1e-12)
+    assert k_o[1] < k_o[0]
+    # USAF wing-mass equation (Nicolai & Carichner 2010 ch. 20, from memory):
+    # W_w ~ [A^0.57 ...]^0.993 at fixed mass, area, taper, t/c, sweep, speed
+    mw = weights.wing_mass_usaf(mass, 5.7, a, area, taper, 0.15, sweep, 70.0)
+    assert mw[1] > mw[0]
+    assert mw[1] / mw[0] == pytest.approx((a2 / a1) ** (0.57 * 0.993), rel=1e-9)
+
+
+# --- never a NaN or inf, over and far beyond the bounds ------------------------------------
+
+_EXTREME = np.array([1e-9, 1e-6, 1e-3, 0.1, 1.0, 3.0, 50.0, 1e3, 1e5, 1e7, 1e9, 1e12])
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_100000_random_designs_give_no_nan_or_inf(name):
+    study = STUDIES[name]
+    rng = np.random.default_rng(2024)
+    n = 100_000
+    ws_v, ld_v, ar_v = study.variables
+
+    def across(v, n, decades):
+        """Half log-uniform over `decades` around the bounds, half uniform in the bounds."""
+        lo, hi = math.log10(v.lower) - decades, math.log10(v.upper) + decades
+        x = np.where(rng.random(n) < 0.5, 10 ** rng.uniform(lo, hi, n),
+                     rng.uniform(v.lower, v.upper, n))
+        return x
+
+    d = {"wing_loading_N_m2": across(ws_v, n, 3), study.loading_column: across(ld_v, n, 3),
+         "aspect_ratio": across(ar_v, n, 3),
+         "flap": rng.choice(study.spec.high_lift_names, n)}
+    # the first rows: every combination of extreme values, each flap
+    grid = np.array(np.meshgrid(_EXTREME, _EXTREME, _EXTREME)).reshape(3, -1)
+    m = grid.shape[1]
+    d["wing_loading_N_m2"][:m], d[study.loading_column][:m], d["aspect_ratio"][:m] = grid
+    d["flap"][:m] = np.resize(np.asarray(study.spec.high_lift_names, dtype=object), m)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # overflow inside, cleaned at the end
+        frame = optimiser.evaluate(study, pd.DataFrame(d))
+    assert len(frame) == n
+    numeric = frame.select_dtypes(include="number")
+    assert numeric.shape[1] > 40
+    bad = [c for c in numeric.columns if not np.isfinite(numeric[c].to_numpy()).all()]
+    assert not bad, bad
+    assert frame["feasible"].dtype == bool
+    # infeasible is a flag: absurd designs are evaluated and refused, never NaN
+    absurd = (frame["wing_loading_N_m2"] > 1e5) | (frame["aspect_ratio"] < 0.1)
+    assert absurd.sum() > 1000
+    assert not frame.loc[absurd, "feasible"].any()
+    assert (frame.loc[frame["wing_loading_N_m2"] > 1e5, "margin_stall_speed"] < 0).all()
+    assert (frame.loc[~frame["feasible"], "most_violated"] != "").all()
+    assert (~frame.loc[absurd, "within_bounds"]).all()
+    # the in-bounds half still gives feasible designs
+    assert frame.loc[frame["within_bounds"], "feasible"].mean() > 0.05
+
+
+# --- facts of the trade ---------------------------------------------------------------------
+
+@pytest.fixture(scope="module")
+def feasible():
+    """Feasible designs of 20 000 seeded random in-bounds designs per demo study."""
+    rng = np.random.default_rng(11)
+    out = {}
+    for name, study in STUDIES.items():
+        d = {v.column: rng.uniform(v.lower, v.upper, 20_000) for v in study.variables}
+        d["flap"] = rng.choice(study.flaps, 20_000)
+        frame = optimiser.evaluate(study, pd.DataFrame(d))
+        out[name] = frame[frame["feasible"]]
+    return out
+
+
+def _power_loading_lb_hp(frame):
+    return frame["power_loading_N_kW"] / LB_PER_HP
+
+
+# (study, quantity, low, high). Observed on this sample (min - max of the feasible designs):
+#   piston (2950 feasible): L/D 7.42 - 14.9, empty fraction 0.58 - 0.80, e 0.76 - 0.79,
+#     7.5 - 14.5 lb/hp, takeoff mass 1860 - 8340 kg
+#   turboprop (6899): L/D 9.3 - 16.9, empty fraction 0.53 - 0.695 (0.708 on another seed),
+#     e 0.74 - 0.78, 4.2 - 12.1 lb/hp, takeoff mass 6070 - 16400 kg
+#   jet (1974): L/D 9.6 - 15.9, empty fraction 0.60 - 0.65, e 0.80 - 0.84 (cruise 0.77 -
+#     0.81), T/W 0.42 - 0.60, takeoff mass 5210 - 16700 kg
+SPIRAL = ("feasible mass-spiral designs: heavy engines at low W/P snowball the takeoff mass "
+          "(2.7 to 4.5 x the lightest feasible design) and no constraint refuses them; "
+          "reported, band not widened")
+BANDS = [
+    # cruise L/D roughly 8 to 17 (common practice; Raymer ch. 3 wetted-aspect-ratio chart,
+    # from memory). Lower edge 7: the single piston's fixed gear, strut-braced wing at a low
+    # W/S (cruise CL 0.24) sits well below its best L/D; observed minimum 7.46.
+    *[(n, "cruise_lift_to_drag", 7.0, 17.0) for n in NAMES],
+    # empty-mass fraction 0.5 to 0.7 (Roskam Pt I Table 2.15 and Raymer Table 3.1, from memory)
+    pytest.param("high_strip_utility", "empty_mass_fraction", 0.5, 0.7,
+                 marks=pytest.mark.xfail(strict=True, reason="observed up to 0.80; " + SPIRAL)),
+    ("twin_turboprop_commuter", "empty_mass_fraction", 0.5, 0.7),  # at the edge: max 0.695
+    ("light_twin_jet", "empty_mass_fraction", 0.5, 0.7),
+    # Oswald e 0.7 to 0.85 (common practice) at low speed and in cruise
+    *[(n, "oswald_e", 0.7, 0.85) for n in NAMES],
+    *[(n, "oswald_e_cruise", 0.7, 0.85) for n in NAMES],
+    # clean CD0 0.017 to 0.035 (common practice; Roskam Pt I ch. 3, from memory)
+    *[(n, "cd0", 0.017, 0.035) for n in NAMES],
+    # power loading: single piston about 6 to 20 lb/hp, twin turboprop 4 to 10 lb/hp;
+    # jet T/W 0.25 to 0.6 (Raymer Tables 5.3 / 5.1, from memory; common practice)
+    ("high_strip_utility", "lb_per_hp", 6.0, 20.0),
+    pytest.param("twin_turboprop_commuter", "lb_per_hp", 4.0, 10.0,
+                 marks=pytest.mark.xfail(strict=True, reason=(
+                     "observed up to 12.1 lb/hp (72.4 N/kW) feasible, 6.3 t on 2 x 440 kW: "
+                     "A 11 to 13 wings (cruise L/D 15 to 17) need little cruise power and the "
+                     "model's Part 23 rules have no one-engine-inoperative takeoff "
+                     "(accelerate-go) requirement to size the engines; reported, band not "
+                     "widened"))),
+    ("light_twin_jet", "thrust_to_weight", 0.25, 0.6),
+]
+
+
+@pytest.mark.parametrize("name, quantity, low, high", BANDS)
+def test_feasible_designs_land_in_their_class_ranges(feasible, name, quantity, low, high):
+    frame = feasible[name]
+    assert len(frame) > 500
+    x = _power_loading_lb_hp(frame) if quantity == "lb_per_hp" else frame[quantity]
+    assert x.min() >= low, f"{name} {quantity}: min {x.min():.4g} below {low}"
+    assert x.max() <= high, f"{name} {quantity}: max {x.max():.4g} above {high}"
+
+
+@pytest.mark.parametrize("name", [
+    pytest.param("high_strip_utility", marks=pytest.mark.xfail(
+        strict=True, reason="90th percentile 0.73; " + SPIRAL)),
+    "twin_turboprop_commuter", "light_twin_jet"])
+def test_typical_feasible_designs_are_in_the_empty_fraction_band(feasible, name):
+    """The central 80 % of the feasible designs (10th to 90th percentile) of every demo,
+    against the empty-mass fraction band 0.5 to 0.7 (Roskam Pt I Table 2.15, from memory)."""
+    p10, p90 = np.percentile(feasible[name]["empty_mass_fraction"], [10, 90])
+    assert p10 >= 0.5, p10
+    assert p90 <= 0.7, p90
+
+
+# --- lift-off speed -------------------------------------------------------------------------
+
+@pytest.mark.parametrize("name", NAMES)
+def test_liftoff_speed_is_the_study_factor_times_the_takeoff_stall_speed(name):
+    study = STUDIES[name]
+    factor = study.spec.speeds.liftoff_speed_factor
+    assert factor == 1.2                       # the study default (spec.Speeds)
+    assert 1.1 <= factor <= 1.3                # common practice: V_LO = 1.1 to 1.3 V_s,TO
+    rng = np.random.default_rng(3)
+    d = {v.column: rng.uniform(v.lower, v.upper, 500) for v in study.variables}
+    d["flap"] = rng.choice(study.flaps, 500)
+    frame = optimiser.evaluate(study, pd.DataFrame(d))
+    np.testing.assert_allclose(frame["liftoff_speed_m_s"] / frame["stall_speed_takeoff_m_s"],
+                               1.2, rtol=1e-9)
+    # V_s,TO = sqrt(2 (W/S) / (rho_TO CLmax,TO)) with rho_TO from the ISA by hand (ICAO Doc
+    # 7488): T = 288.15 - 0.0065 h + dT, p = 101325 (1 - 0.0065 h / 288.15)^5.25588
+    dep = study.spec.departure
+    h = dep.elevation_m
+    p = 101325.0 * (1 - 0.0065 * h / 288.15) ** (G0 / (0.0065 * 287.05287))
+    rho = p / (287.05287 * (288.15 - 0.0065 * h + dep.temperature_offset_K))
+    np.testing.assert_allclose(frame["density_takeoff_kg_m3"], rho, rtol=1e-9)
+    np.testing.assert_allclose(
+        frame["stall_speed_takeoff_m_s"],
+        np.sqrt(2 * frame["wing_loading_N_m2"] / (rho * frame["cl_max_takeoff"])), rtol=1e-9)
+
+
+def test_default_study_takeoff_density_value():
+    # 1900 m, ISA+20: T = 275.80 + 20 = 295.80 K, p = 80 487 Pa -> rho = 0.9479 kg/m^3 (by hand)
+    frame = optimiser.evaluate(STUDIES["high_strip_utility"], {
+        "wing_loading_N_m2": [1000.0], "power_loading_N_kW": [70.0], "aspect_ratio": [8.0],
+        "flap": ["fowler"]})
+    assert frame["density_takeoff_kg_m3"].iloc[0] == pytest.approx(0.9479, abs=1e-4)
