@@ -29,20 +29,20 @@ def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.Dat
     spec = study.spec
     out = size_designs(spec, wing_loading, loading, aspect_ratio, flap_index)
     names = active_constraints(spec)
-    frame = pd.DataFrame({
+    feasible = out.pop("feasible")
+    limiting = np.asarray(names, dtype=object)[out.pop("limiting_index")]
+    columns = {
         "wing_loading_N_m2": np.asarray(wing_loading, float),
         study.loading_column: np.asarray(loading, float),
         "aspect_ratio": np.asarray(aspect_ratio, float),
         "flap": np.asarray(spec.high_lift_names, dtype=object)[np.asarray(flap_index, int)],
-    })
-    feasible = out.pop("feasible")
-    limiting = np.asarray(names, dtype=object)[out.pop("limiting_index")]
-    sized = pd.DataFrame(out)
-    frame = pd.concat([frame, sized], axis=1)
-    frame["feasible"] = feasible
-    frame["limiting_constraint"] = limiting
-    frame["most_violated"] = np.where(feasible, "", limiting)
-    return frame
+    }
+    columns.update(out)
+    columns["feasible"] = feasible
+    columns["limiting_constraint"] = limiting
+    columns["most_violated"] = np.where(feasible, "", limiting).astype(object)
+    # one block per dtype, built once (cheaper than concatenating frames per generation)
+    return pd.DataFrame(columns, copy=False)
 
 
 def evaluate(study, designs) -> pd.DataFrame:
