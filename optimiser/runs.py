@@ -12,15 +12,26 @@ Resume is exact: the checkpoint holds every per-option algorithm (with its rando
 and the byte lengths of ``evaluations.csv`` and ``history.csv`` when it was taken; resume
 truncates both files to those lengths, so a resumed run ends with the same files as an
 uninterrupted one.
+
+Faults: before anything is created, the free space must hold an estimate of the run's output
+(:func:`estimate_output_bytes`) and the folder must take a probe file; a write that fails
+during the run (a full disk) ends it with a :class:`RunError` and the last checkpoint kept.
+``run.json`` is written last: a run killed after its final checkpoint but before ``run.json``
+is finished by :func:`resume`. Stale temporary files of killed atomic writes are removed on
+resume and on ``--force``. ``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` is a test hook (see
+:data:`TEST_PAUSE_ENV`), not a user option.
 """
 
 from __future__ import annotations
 
+import errno
 import json
 import math
 import os
 import pickle
 import platform
+import re
+import shutil
 import signal
 import sys
 import time
@@ -123,8 +134,9 @@ def _fsync_dir(folder: Path):
         os.close(fd)
 
 
-def write_atomic(path: Path, data: bytes):
-    """Write ``data`` to ``path`` atomically: temp file in the same folder, fsync, replace."""
+def write_atomic(path: Path, data: bytes, before_replace=None):
+    """Write ``data`` to ``path`` atomically: temp file in the same folder, fsync, replace.
+    ``before_replace()`` (if given) is called between the fsync and the replace."""
     path = Path(path)
     tmp = path.with_name(f".{path.name}.tmp-{os.getpid()}")
     try:
@@ -132,11 +144,20 @@ def write_atomic(path: Path, data: bytes):
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
+        if before_replace is not None:
+            before_replace()
         os.replace(tmp, path)
+    except OSError as exc:
+        raise _named(exc, path) from None
     finally:
         if tmp.exists():
             tmp.unlink()
     _fsync_dir(path.parent)
+
+
+def _named(exc: OSError, path) -> OSError:
+    """The error with the file it concerns (a failed write() names none)."""
+    return exc if exc.filename else OSError(exc.errno, exc.strerror, str(path))
 
 
 def _csv_text(frame) -> str:
@@ -144,10 +165,13 @@ def _csv_text(frame) -> str:
 
 
 def _append(path: Path, text: str) -> int:
-    with open(path, "a", encoding="utf-8", newline="") as fh:
-        fh.write(text)
-        fh.flush()
-        return fh.tell()
+    try:
+        with open(path, "a", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            return fh.tell()
+    except OSError as exc:
+        raise _named(exc, path) from None
 
 
 def _sync(path: Path):
@@ -155,10 +179,29 @@ def _sync(path: Path):
         os.fsync(fh.fileno())
 
 
+TEST_PAUSE_ENV = "OPTIMISER_TEST_PAUSE_IN_CHECKPOINT"
+"""Test hook, not a user option: when this environment variable holds a number of seconds,
+every checkpoint write sleeps that long after the temporary file is complete and before it
+replaces ``checkpoint.pkl``, so that tests/test_kill_resume.py can kill the process inside
+the write deterministically."""
+
+
+def _test_pause():
+    text = os.environ.get(TEST_PAUSE_ENV)
+    if not text:
+        return None
+    try:
+        seconds = float(text)
+    except ValueError:
+        return None
+    return (lambda: time.sleep(seconds)) if math.isfinite(seconds) and seconds > 0 else None
+
+
 def save_checkpoint(run_dir: Path, state: RunState):
     for name in ("evaluations.csv", "history.csv"):
         _sync(run_dir / name)
-    write_atomic(run_dir / CHECKPOINT, pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL))
+    write_atomic(run_dir / CHECKPOINT, pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL),
+                 before_replace=_test_pause())
 
 
 def load_checkpoint(run_dir: Path) -> RunState:
@@ -184,8 +227,14 @@ def utc_now() -> str:
 
 
 def default_run_dir(study, root="results") -> Path:
+    """``results/<study-name>-<UTC timestamp>`` (with ``-2``, ``-3`` ... if taken)."""
+    return timestamped_dir(study.name, root)
+
+
+def timestamped_dir(name: str, root="results") -> Path:
+    """A new folder path ``<root>/<name>-<UTC timestamp>`` (``-2``, ``-3`` ... if taken)."""
     stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%SZ")
-    base = Path(root) / f"{study.name}-{stamp}"
+    base = Path(root) / f"{name}-{stamp}"
     candidate, k = base, 2
     while candidate.exists():
         candidate = Path(f"{base}-{k}")
@@ -193,9 +242,65 @@ def default_run_dir(study, root="results") -> Path:
     return candidate
 
 
-def prepare_run_dir(out, study, force: bool) -> Path:
+def _size_text(n) -> str:
+    n = float(n)
+    for unit in ("bytes", "kB", "MB", "GB", "TB"):
+        if n < 1000 or unit == "TB":
+            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
+        n /= 1000
+
+
+def _existing_ancestor(path: Path) -> Path:
+    p = Path(os.path.abspath(path))
+    while not p.exists() and p != p.parent:
+        p = p.parent
+    return p
+
+
+def _check_free_space(run_dir: Path, need_bytes, need_text=""):
+    """Refuse a run whose estimated output does not fit in the free space (before writing)."""
+    if not need_bytes:
+        return
+    where = _existing_ancestor(run_dir)
+    if not where.is_dir():
+        raise RunError(f"--out {run_dir}: {where} is a file, not a folder; expected a path "
+                       "inside a writable folder")
+    try:
+        free = shutil.disk_usage(where).free
+    except OSError as exc:
+        raise RunError(f"--out {run_dir}: cannot read the free space of {where} "
+                       f"({exc.strerror}); expected a writable folder") from None
+    if free < need_bytes:
+        raise RunError(f"--out {run_dir}: only {_size_text(free)} free on {where}; the run "
+                       f"needs an estimated {_size_text(need_bytes)}{need_text}; expected at "
+                       "least that much free space (free some, or lower --gens, --pop or "
+                       "--evals)")
+
+
+def _probe_writable(run_dir: Path, label="--out "):
+    """Create, fsync and remove a small file in ``run_dir``: a read-only or full folder fails
+    here, before the search starts."""
+    probe = run_dir / f".write-probe-{os.getpid()}"
+    try:
+        with open(probe, "wb") as fh:
+            fh.write(b"0" * 4096)
+            fh.flush()
+            os.fsync(fh.fileno())
+    except OSError as exc:
+        raise RunError(f"{label}{run_dir}: cannot write in the folder ({exc.strerror}); "
+                       "expected a writable folder") from None
+    finally:
+        try:
+            probe.unlink()
+        except OSError:
+            pass
+
+
+def prepare_run_dir(out, study, force: bool, need_bytes=None, need_text="") -> Path:
     """The run folder, created empty. A non-empty folder is refused unless ``force``; with
-    ``force`` only this tool's run files in it are replaced."""
+    ``force`` only this tool's run files in it are replaced. Before anything is created or
+    replaced, the free space must hold ``need_bytes`` (the run's estimated output) and the
+    folder must take a probe file."""
     run_dir = Path(out) if out is not None else default_run_dir(study)
     if run_dir.exists() and not run_dir.is_dir():
         raise RunError(f"--out {run_dir}: is a file; expected a folder for the run")
@@ -203,6 +308,28 @@ def prepare_run_dir(out, study, force: bool) -> Path:
         if not force:
             raise RunError(f"--out {run_dir}: folder exists and is not empty; expected a new "
                            "or empty folder (use --force to replace the run files in it)")
+    _check_free_space(run_dir, need_bytes, need_text)
+    created = []
+    if not run_dir.is_dir():
+        p = Path(os.path.abspath(run_dir))
+        while not p.exists() and p != p.parent:
+            created.append(p)
+            p = p.parent
+    try:
+        run_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise RunError(f"--out {run_dir}: cannot create the folder ({exc.strerror}); "
+                       "expected a path inside a writable folder") from None
+    try:
+        _probe_writable(run_dir)
+    except RunError:
+        for p in created:  # innermost first: remove only the empty folders made here
+            try:
+                p.rmdir()
+            except OSError:
+                break
+        raise
+    if force:
         for name in RUN_FILES:
             (run_dir / name).unlink(missing_ok=True)
         plots = run_dir / "plots"
@@ -210,11 +337,15 @@ def prepare_run_dir(out, study, force: bool) -> Path:
             for p in plots.iterdir():
                 if p.suffix in (".png", ".svg"):
                     p.unlink()
-    try:
-        run_dir.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise RunError(f"--out {run_dir}: cannot create the folder ({exc.strerror})") from None
+        _remove_stale_temporaries(run_dir)
     return run_dir
+
+
+def _remove_stale_temporaries(run_dir: Path):
+    """Temporary files of an atomic write that a killed process left behind."""
+    for name in RUN_FILES:
+        for p in Path(run_dir).glob(f".{name}.tmp-*"):
+            p.unlink(missing_ok=True)
 
 
 def versions() -> dict:
@@ -375,11 +506,13 @@ class _Printer:
             self.dirty = False
 
 
-def run_loop(study, state: RunState, run_dir: Path, progress=None):
+def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
     """Run generations until a stop rule holds. ``progress(row, state)`` is called after each
     generation. Ctrl-C or SIGTERM (or a KeyboardInterrupt raised by ``progress``) ends the
-    generation in hand, saves a checkpoint and raises :class:`RunInterrupted`."""
+    generation in hand, saves a checkpoint and raises :class:`RunInterrupted`. ``saved``
+    (a dict, optional) gets the generation of each checkpoint written, under "generation"."""
     stop = {"signal": None}
+    saved = {} if saved is None else saved
 
     def handler(signum, frame):
         if stop["signal"] is not None:  # a second signal: stop now (last checkpoint stands)
@@ -414,11 +547,13 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None):
                 raise RunInterrupted(run_dir)
             if since_ckpt >= state.budget.checkpoint_every:
                 save_checkpoint(run_dir, state)
+                saved["generation"] = state.generation
                 since_ckpt = 0
     finally:
         for sig, h in previous.items():
             signal.signal(sig, h)
     save_checkpoint(run_dir, state)
+    saved["generation"] = state.generation
     return state.termination
 
 
@@ -465,10 +600,19 @@ def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
         write_atomic(run_dir / "least_violating.csv", _csv_text(least).encode())
         (run_dir / "front.csv").unlink(missing_ok=True)
         worst = min(state.best_margin, key=state.best_margin.get)
-        message = (f"no feasible design found in {state.n_evaluations} evaluations: the "
-                   f"requirements cannot all be met within the variable bounds (hardest: "
-                   f"{worst}, best margin reached {state.best_margin[worst]:+.1%}); the "
-                   "designs closest to feasible are in least_violating.csv")
+        closure = state.best_margin.get("mass_closure", 0.0)
+        if closure < 0:  # not one design closed: the mission itself is out of reach
+            message = (f"no feasible design found in {state.n_evaluations} evaluations: the "
+                       "mission cannot close - for every design tried, payload, crew, fuel "
+                       "and empty mass exceed the takeoff mass up to the mass limit "
+                       f"(mass_closure, best margin reached {closure:+.1%}); shorten the "
+                       "range, lighten the payload or widen the bounds; the designs closest "
+                       "to feasible are in least_violating.csv")
+        else:
+            message = (f"no feasible design found in {state.n_evaluations} evaluations: the "
+                       f"requirements cannot all be met within the variable bounds (hardest: "
+                       f"{worst}, best margin reached {state.best_margin[worst]:+.1%}); the "
+                       "designs closest to feasible are in least_violating.csv")
     b = state.budget
     info = {
         "study": study.name, "study_file": state.study_path, "study_sha256": study.sha256,
@@ -495,10 +639,11 @@ def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
                                 "reference point is fixed before the search and never changes"},
         "message": message, "caution": CAUTION,
     }
-    write_atomic(run_dir / "run.json", (json.dumps(info, indent=2) + "\n").encode())
     if plots:
         from .report.plots import write_plots
         write_plots(study, run_dir, front, history, scales=state.scales)
+    # run.json last: its presence marks a finished run (resume finishes a run killed before)
+    write_atomic(run_dir / "run.json", (json.dumps(info, indent=2) + "\n").encode())
     return RunResult(front=front, history=history, run_dir=run_dir, message=message,
                      n_evaluations=state.n_evaluations, termination=state.termination,
                      least_violating=least, best_margin=dict(state.best_margin))
@@ -517,6 +662,49 @@ def summary_text(study, result: RunResult) -> str:
 
 
 # ----------------------------------------------------------------------------- entry points
+
+SPACE_SAFETY_FACTOR = 1.5      # common practice: head-room over an estimate of the output
+PLOTS_ALLOWANCE_BYTES = 5e6    # the plots of a run measured about 1.1 MB; rounded up (ours)
+
+
+def estimate_output_bytes(study, state: RunState, frame0) -> tuple[int, str]:
+    """What a run will write at most (bytes, with the safety factor) and a short account.
+
+    Rows of evaluations.csv: generations x designs per generation, fewer if --evals stops it
+    earlier; with --time, also at most the time budget x the measured sizing rate (an upper
+    bound: the search adds its own time). Bytes per row: one sized row written as CSV, plus
+    the generation. Checkpoints: the initial pickle plus the front and least-violating tables
+    it will carry (up to 20 x population rows, ours), twice (temporary file and old file).
+    """
+    b = state.budget
+    per_gen = b.option_population * len(study.flaps)
+    gens = b.generations
+    if b.evaluations is not None:
+        gens = min(gens, math.ceil(b.evaluations / per_gen))
+    rows = gens * per_gen
+    if b.time_s is not None:
+        from .evaluation import size_frame
+        from .search import design_arrays, flap_indices, free_variables
+        free = free_variables(study)
+        t = np.linspace(0.0, 1.0, per_gen)[:, None]
+        X = np.array([v.lower for v in free]) + t * np.array([v.upper - v.lower for v in free])
+        flaps = np.asarray(flap_indices(study))[np.resize(np.arange(len(study.flaps)), per_gen)]
+        t0 = time.perf_counter()
+        size_frame(study, *design_arrays(study, X), flaps)
+        rate = per_gen / max(time.perf_counter() - t0, 1e-6)
+        rows = min(rows, math.ceil(b.time_s * rate))
+        gens = min(gens, math.ceil(rows / per_gen))
+    row_bytes = len(frame0.to_csv(index=False, header=False).encode()) + 8
+    front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS
+    checkpoint = len(pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL)) \
+        + front_rows * row_bytes
+    history = (gens + 1) * 40 * (8 + len(_objective_cols(study)))
+    total = (rows * row_bytes + history + 2 * checkpoint + front_rows * row_bytes
+             + PLOTS_ALLOWANCE_BYTES) * SPACE_SAFETY_FACTOR
+    text = (f" ({rows} rows of evaluations.csv of about {row_bytes} bytes, checkpoints, "
+            f"front and plots, x{SPACE_SAFETY_FACTOR:g} head-room)")
+    return int(total), text
+
 
 def _check_positive(name, value, integer=True):
     if value is None:
@@ -550,22 +738,23 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     pop = population or study.search["population"]
     gens = generations or study.search["generations"]
     per, run_gens = plan_budget(len(study.flaps), pop, gens)
-    run_dir = prepare_run_dir(out, study, force)
     budget = Budget(generations=run_gens, population=pop, option_population=per,
                     evaluations=evaluations, time_s=time_budget_s,
                     stall_generations=stall_generations, checkpoint_every=checkpoint_every)
-    write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
     state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
                      budget=budget, algos=make_algorithms(study, seed, per, run_gens),
                      scales=reference_scales(study), started_utc=utc_now())
-    import pandas as pd
     from .evaluation import size_frame
     from .search import design_arrays, free_variables
     # Headers: the archive's columns are those of size_frame, with the generation first.
     x0 = np.array([[v.lower for v in free_variables(study)]])
-    cols = ["generation"] + list(size_frame(study, *design_arrays(study, x0), [0]).columns)
-    state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")
+    frame0 = size_frame(study, *design_arrays(study, x0), [0])
+    cols = ["generation"] + list(frame0.columns)
     hist_cols = list(_history_row(study, state, 0, 0.0))
+    need, need_text = estimate_output_bytes(study, state, frame0)
+    run_dir = prepare_run_dir(out, study, force, need_bytes=need, need_text=need_text)
+    write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
+    state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")
     state.history_bytes = _append(run_dir / "history.csv", ",".join(hist_cols) + "\n")
     save_checkpoint(run_dir, state)
     return state, run_dir
@@ -602,12 +791,23 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
 
 
 def _drive(study, state, run_dir, progress, plots):
+    # the generation of the last checkpoint on disk, for the message if a write fails
+    saved = {"generation": state.generation}
     try:
-        run_loop(study, state, run_dir, progress)
+        run_loop(study, state, run_dir, progress, saved=saved)
+        return finish(study, state, run_dir, plots=plots)
+    except OSError as exc:  # a full disk, a folder made read-only or removed under the run
+        what = exc.strerror or type(exc).__name__
+        name = Path(exc.filename).name if exc.filename else "a run file"
+        name = re.sub(r"^\.(.+)\.tmp-\d+$", r"\1", name)  # an atomic write's temporary file
+        space = " (the disk is full)" if exc.errno in (errno.ENOSPC, errno.EDQUOT) else ""
+        raise RunError(f"{run_dir}: cannot write {name} ({what}){space}; the run stopped and "
+                       f"its last checkpoint (generation {saved['generation']}) is kept; "
+                       f"expected a writable folder with free space: fix it, then run: "
+                       f"optimiser resume {run_dir}") from None
     finally:
         if isinstance(progress, _Printer):
             progress.close()
-    return finish(study, state, run_dir, plots=plots)
 
 
 def resume(run_dir, *, progress=False, plots=True) -> RunResult:
@@ -616,9 +816,13 @@ def resume(run_dir, *, progress=False, plots=True) -> RunResult:
     from .study import parse_study
     run_dir = Path(run_dir)
     state = load_checkpoint(run_dir)
-    if state.termination is not None:
+    # A run killed after its last checkpoint but before run.json (written last) is finished
+    # here: the loop stops at once and the outputs are written again.
+    if state.termination is not None and (run_dir / "run.json").exists():
         raise RunError(f"{run_dir}: the run already finished ({state.termination}); expected "
                        "an interrupted run (start a new one with 'optimiser run')")
+    _probe_writable(run_dir, label="")
+    _remove_stale_temporaries(run_dir)
     study = parse_study(state.study_text, state.study_path)
     for name, length in (("evaluations.csv", state.archive_bytes),
                          ("history.csv", state.history_bytes)):
