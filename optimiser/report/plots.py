@@ -240,3 +240,135 @@ def constraint_diagram(study, design, n=120, ax=None):
     ax.grid(alpha=0.3)
     fig.tight_layout()
     return fig
+
+
+def constraint_grid(study, design, n=80):
+    """Wing loading and loading axes of a constraint diagram for ``design`` (the study's
+    bounds, widened to include the design) and the sized grid at its aspect ratio and flap.
+
+    Returns (wing loading [N/m^2] 1-D, loading 1-D, frame of n x n sized designs, row-major
+    with loading as the slow axis)."""
+    from ..evaluation import size_frame
+    wv, lv = study.variable("wing_loading_N_m2"), study.variable(study.loading_column)
+    x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
+
+    def axis(v, x):
+        lo, hi = (v.lower, v.upper) if not v.fixed else (0.8 * v.lower, 1.2 * v.lower)
+        lo, hi = min(lo, x), max(hi, x)
+        pad = 0.04 * (hi - lo)
+        return np.linspace(lo - pad if lo - pad > 0 else lo, hi + pad, n)
+
+    ws, ld = axis(wv, x0), axis(lv, y0)
+    W, L = np.meshgrid(ws, ld)
+    flap = study.spec.high_lift_names.index(design["flap"])
+    frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, float(design["aspect_ratio"])),
+                       np.full(W.size, flap))
+    return ws, ld, frame
+
+
+def design_constraint_diagram(study, design, label="chosen design", n=120, ax=None):
+    """Constraint diagram for one sized design: at its aspect ratio and flap type, over wing
+    loading and power loading (or thrust-to-weight), the line where each constraint's margin
+    is zero (every grid point a completely sized airplane), the region meeting all of them
+    shaded, binding constraints drawn thicker, and the design marked where it was sized, with
+    its takeoff mass. At the marked point the grid airplane is the design itself."""
+    from ..sizing import CONSTRAINT_LABELS, active_constraints
+    from .sheet import BINDING_MARGIN
+    plt = _plt()
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(10.5, 5.4))
+    fig = ax.figure
+    ws, ld, frame = constraint_grid(study, design, n)
+    W, L = np.meshgrid(ws, ld)
+    colours = plt.get_cmap("tab10")
+    handles = []
+    for k, c in enumerate(active_constraints(study.spec)):
+        M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
+        binding = float(design[f"margin_{c}"]) < BINDING_MARGIN
+        if np.nanmin(M) < 0 < np.nanmax(M):
+            ax.contour(W, L, M, levels=[0.0], colors=[colours(k % 10)],
+                       linewidths=3.0 if binding else 1.4)
+            handles.append(plt.Line2D([], [], color=colours(k % 10), lw=3.0 if binding else 1.4,
+                                      label=CONSTRAINT_LABELS.get(c, c)
+                                      + (" (binding)" if binding else "")))
+    feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
+    if feas.max() > 0:
+        ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=["tab:green"], alpha=0.15)
+    handles.append(plt.Rectangle((0, 0), 1, 1, color="tab:green", alpha=0.15,
+                                 label="all constraints met"))
+    x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
+    ax.plot(x0, y0, "k*", ms=15, zorder=5)
+    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=11,
+                              label=f"{label}: takeoff mass {float(design['takeoff_mass_kg']):.0f} kg"))
+    ax.annotate(f"{label}\n{x0:.0f} N/m², {y0:.3g}", (x0, y0), xytext=(10, 10),
+                textcoords="offset points", fontsize=8)
+    ax.set_xlabel(LABELS["wing_loading_N_m2"])
+    ax.set_ylabel(LABELS[study.loading_column])
+    ax.legend(handles=handles, fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+              title="zero-margin lines", title_fontsize=7)
+    ax.set_title(f"{study.name}: constraints at aspect ratio {float(design['aspect_ratio']):.2f}, "
+                 f"flap {design['flap']}\n(each line: margin = 0; every point an airplane sized "
+                 "there; the star is the design at its own sized mass)", fontsize=9)
+    ax.grid(alpha=0.3)
+    fig.tight_layout()
+    return fig
+
+
+def flap_fronts(study, fronts, table, ax=None):
+    """Per-flap-option fronts overlaid: trip fuel against engine size (the 2-objective
+    non-dominated subset of each option's front as a line, all its front designs as dots),
+    and, beside it, the best of each objective per option. Options with no feasible design
+    are named in the legend with the failing constraint."""
+    from ..decide import lower_envelope
+    plt = _plt()
+    eng = study.engine_size_column
+    if ax is None:
+        fig, (ax, ax2) = plt.subplots(1, 2, figsize=(12.5, 5.0),
+                                      gridspec_kw={"width_ratios": [1.5, 1]})
+    else:
+        fig, ax2 = ax.figure, None
+    colours = _colours(study.flaps)
+    rows = {r["flap"]: r for _, r in table.iterrows()}
+    for flap in study.flaps:
+        fr = fronts[flap]
+        r = rows[flap]
+        if len(fr) == 0:
+            ax.plot([], [], ls="", marker="x", color=colours[flap],
+                    label=f"{flap}: no feasible design ({r['failing_constraint']} "
+                          f"{r['best_margin_failing']:+.0%} at best)")
+            continue
+        env = lower_envelope(fr[eng], fr["trip_fuel_kg"])
+        ax.scatter(fr[eng], fr["trip_fuel_kg"], s=10, color=colours[flap], alpha=0.45)
+        ref = " (reference)" if r["reference_option"] else ""
+        ax.plot(env[:, 0], env[:, 1], "-o", ms=4, lw=1.8, color=colours[flap],
+                label=f"{flap}{ref}: HV {r['hypervolume']:.3f}, "
+                      f"{r['share_of_combined_front']:.0%} of combined front")
+    ax.set_xlabel(LABELS.get(eng, eng))
+    ax.set_ylabel(LABELS["trip_fuel_kg"])
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, title="flap type (line: trip fuel vs engine size front)",
+              title_fontsize=7, loc="best")
+    ax.set_title("fronts per flap option, same constraints and budget", fontsize=9)
+    if ax2 is not None:
+        flaps = list(study.flaps)
+        y = np.arange(len(flaps))
+        mi = [rows[f]["best_maintenance_index"] if "best_maintenance_index" in rows[f] else
+              rows[f]["mean_maintenance_index"] for f in flaps]
+        ax2.barh(y, mi, color=[colours[f] for f in flaps])
+        for yi, f in zip(y, flaps):
+            r = rows[f]
+            txt = ("no feasible design" if not r["feasible_found"] else
+                   f"trip fuel {r['extra_trip_fuel_at_equal_engine_kg']:+.1f} kg at equal engine"
+                   if not r["reference_option"] and np.isfinite(
+                       r["extra_trip_fuel_at_equal_engine_kg"]) else
+                   "reference" if r["reference_option"] else "no common engine size")
+            ax2.text(0.02, yi, txt, va="center", fontsize=7,
+                     transform=ax2.get_yaxis_transform())
+        ax2.set_yticks(y, flaps, fontsize=8)
+        ax2.invert_yaxis()
+        ax2.set_xlabel("best maintenance index on the option's front [-]")
+        ax2.set_title("maintenance and trip-fuel penalty against the reference", fontsize=9)
+        ax2.grid(alpha=0.3, axis="x")
+    fig.suptitle(f"{study.name}: flap options compared")
+    fig.tight_layout()
+    return fig

@@ -1,0 +1,247 @@
+"""The design sheet of one sized design (CSV and Markdown) and the flap-comparison tables.
+
+A sheet lists every number of the design's row: the design variables, the objectives, every
+sized number with its unit and meaning (from :data:`optimiser.evaluation.COLUMN_DOCS`), and
+every constraint margin with its status (``binding`` when below
+:data:`BINDING_MARGIN`, ``limiting`` for the smallest, ``met`` or
+``violated``). Every Markdown text ends with the caution.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+BINDING_MARGIN = 0.01
+"""A constraint whose margin is below 1 % of its limit counts as binding (a convention of
+this tool: the search pushes designs against their active constraints)."""
+
+_UNIT = re.compile(r"\[([^\]]*)\]")
+
+
+def label_of(column: str) -> tuple[str, str]:
+    """(plain name, unit) of a column: ``trip_fuel_kg`` -> ("trip fuel", "kg")."""
+    from ..evaluation import COLUMN_DOCS
+    special = {"engine_power_kW": ("engine power", "kW"), "engine_thrust_kN": ("engine thrust", "kN"),
+               "maintenance_index": ("maintenance index", ""), "trip_fuel_kg": ("trip fuel", "kg"),
+               "takeoff_mass_kg": ("takeoff mass", "kg"),
+               "wing_loading_N_m2": ("wing loading", "N/m²"),
+               "power_loading_N_kW": ("power loading", "N/kW"),
+               "thrust_to_weight": ("thrust-to-weight", ""), "aspect_ratio": ("aspect ratio", "")}
+    if column in special:
+        return special[column]
+    doc = COLUMN_DOCS.get(column, "")
+    m = _UNIT.search(doc)
+    unit = m.group(1) if m else ""
+    unit = "" if unit == "-" else unit.replace("^2", "²").replace("^3", "³")
+    name = column
+    for suffix in _NAME_SUFFIXES:
+        if name.endswith(suffix):
+            name = name[: -len(suffix)]
+            break
+    return name.replace("_", " "), unit
+
+
+_NAME_SUFFIXES = ("_kg_m3", "_m_s2", "_N_m2", "_N_kW", "_m_s", "_kg", "_m2", "_kW", "_kN", "_N",
+                  "_m")
+
+
+def binding_constraints(study, design) -> list[str]:
+    """Constraints of ``design`` with a margin below :data:`BINDING_MARGIN`."""
+    from ..sizing import active_constraints
+    return [c for c in active_constraints(study.spec)
+            if float(design[f"margin_{c}"]) < BINDING_MARGIN]
+
+
+def design_sheet(study, design):
+    """Long table of every number of one design: section, quantity, value, unit, status,
+    meaning. ``design`` is a row of front.csv (or of :func:`optimiser.evaluate`)."""
+    import pandas as pd
+    from ..evaluation import COLUMN_DOCS
+    from ..sizing import CONSTRAINT_LABELS, active_constraints
+    rows = []
+    inputs = ["flap", "wing_loading_N_m2", study.loading_column, "aspect_ratio"]
+    objectives = list(study.objective_columns())
+    for c in inputs:
+        v = design[c]
+        rows.append(("design variable", c, v, label_of(c)[1] if c != "flap" else "", "",
+                     COLUMN_DOCS.get(c, "")))
+    for c in objectives:
+        rows.append(("objective (minimised)", c, float(design[c]), label_of(c)[1], "",
+                     COLUMN_DOCS.get(c, "")))
+    skip = set(inputs) | set(objectives) | {"generation", "score", "front_row", "feasible",
+                                            "limiting_constraint", "most_violated",
+                                            "within_bounds", "outside_bounds"}
+    margins = {f"margin_{c}" for c in active_constraints(study.spec)}
+    for c in design.index:
+        if c in skip or c in margins or c.startswith("margin_") or c not in COLUMN_DOCS:
+            continue
+        rows.append(("sized", c, float(design[c]), label_of(c)[1], "", COLUMN_DOCS[c]))
+    limiting = str(design.get("limiting_constraint", ""))
+    for c in active_constraints(study.spec):
+        m = float(design[f"margin_{c}"])
+        status = "violated" if m < 0 else "binding" if m < BINDING_MARGIN else "met"
+        if c == limiting:
+            status += " (limiting)"
+        rows.append(("margin", f"margin_{c}", m, "fraction of the limit", status,
+                     CONSTRAINT_LABELS.get(c, c) + " (positive = met)"))
+    rows.append(("verdict", "feasible", bool(design.get("feasible", True)), "", "",
+                 COLUMN_DOCS["feasible"]))
+    return pd.DataFrame(rows, columns=["section", "quantity", "value", "unit", "status",
+                                       "meaning"])
+
+
+def _fmt(v):
+    if isinstance(v, (bool, np.bool_)):
+        return "yes" if v else "no"
+    if isinstance(v, str):
+        return v
+    v = float(v)
+    if math.isnan(v):
+        return "–"
+    if v == 0:
+        return "0"
+    a = abs(v)
+    if a >= 1e5 or a < 1e-3:
+        return f"{v:.4g}"
+    return f"{v:.4g}" if a < 10 else f"{v:,.1f}" if a < 1e4 else f"{v:,.0f}"
+
+
+def _md_table(header, rows):
+    out = ["| " + " | ".join(header) + " |", "|" + "|".join("---" for _ in header) + "|"]
+    for r in rows:
+        out.append("| " + " | ".join(str(x).replace("|", "/") for x in r) + " |")
+    return "\n".join(out)
+
+
+def sheet_markdown(study, design, title, how="", runners=None) -> str:
+    """The design sheet as Markdown: summary, objectives, margins (binding first), every sized
+    number, the runners-up with their trades, and the caution."""
+    from ..evaluation import CAUTION
+    table = design_sheet(study, design)
+    lines = [f"# {title}", ""]
+    if how:
+        lines += [f"Picked by {how}.", ""]
+    lines += [f"Study **{study.name}** — {study.description}.", "",
+              f"> **Caution.** {CAUTION}", ""]
+    var = table[table["section"] == "design variable"]
+    lines += ["## Design", "", _md_table(["quantity", "value", "unit"],
+                                         [(label_of(q)[0], _fmt(v), u) for q, v, u in
+                                          zip(var["quantity"], var["value"], var["unit"])]), ""]
+    obj = table[table["section"].str.startswith("objective")]
+    lines += ["## Objectives (all minimised)", "",
+              _md_table(["objective", "value", "unit"],
+                        [(label_of(q)[0], _fmt(v), u) for q, v, u in
+                         zip(obj["quantity"], obj["value"], obj["unit"])]), ""]
+    mar = table[table["section"] == "margin"].copy()
+    mar["order"] = mar["value"].astype(float)
+    mar = mar.sort_values("order")
+    bind = binding_constraints(study, design)
+    lines += ["## Constraint margins", "",
+              "Positive = met, as a fraction of the limit; a margin below "
+              f"{BINDING_MARGIN:.0%} counts as binding. Binding: "
+              + (", ".join(b.replace("_", " ") for b in bind) if bind else "none") + ".", "",
+              _md_table(["constraint", "margin", "status"],
+                        [(m, f"{float(v):+.1%}", s) for m, v, s in
+                         zip(mar["meaning"], mar["value"], mar["status"])]), ""]
+    sized = table[table["section"] == "sized"]
+    lines += ["## Every sized number", "",
+              _md_table(["column", "value", "unit", "meaning"],
+                        [(f"`{q}`", _fmt(v), u, m) for q, v, u, m in
+                         zip(sized["quantity"], sized["value"], sized["unit"],
+                             sized["meaning"])]), ""]
+    if runners is not None and len(runners):
+        cols = list(study.objective_columns())
+        head = ["rank", "flap"] + [f"{label_of(c)[0]} [{label_of(c)[1] or '-'}]" for c in cols] \
+            + ["what it trades against the choice"]
+        lines += ["## Runners-up", "",
+                  _md_table(head, [[r["rank"], r["flap"], *[_fmt(r[c]) for c in cols],
+                                    r["trade"]] for _, r in runners.iterrows()]), ""]
+    lines += ["---", "", f"*{CAUTION}*", ""]
+    return "\n".join(lines)
+
+
+FLAP_COLUMNS_DOC = {
+    "feasible_found": "at least one design of this option met every constraint",
+    "failing_constraint": "when none was feasible: the constraint whose best margin over the "
+                          "option's designs is lowest",
+    "best_margin_failing": "that best margin (negative = short by this fraction of the limit)",
+    "best_stall_margin_in_bounds": "landing-stall margin at the lowest wing loading of the bounds "
+                                   "(the best the option can do)",
+    "share_of_combined_front": "fraction of the designs of the combined (all options) front that "
+                               "are this option's",
+    "hypervolume": "hypervolume of the option's own front, normalised objectives, the run's "
+                   "fixed reference point",
+    "reference_option": "the option with the largest hypervolume, against which penalties are "
+                        "measured",
+    "extra_trip_fuel_at_equal_engine_kg": "mean, over engine sizes E from where both options "
+                                          "have a design to the larger of their largest, of the "
+                                          "smallest trip fuel this option reaches with an engine "
+                                          "no larger than E minus the reference's (trip fuel vs "
+                                          "engine size fronts, linear between points); _pct: "
+                                          "as a percentage of the reference's",
+    "extra_engine_at_equal_trip_fuel_<unit>": "the same with engine size and trip fuel swapped: "
+                                              "extra engine size at equal trip fuel",
+    "compared_engine_from/to, compared_trip_fuel_from/to": "the ranges those means cover",
+}
+
+
+def flaps_text_table(study, table) -> str:
+    """A plain-text table of the flap comparison for the terminal."""
+    eng = study.engine_size_column
+    unit = eng.rsplit("_", 1)[1]
+    head = (f"{'flap':<22}{'feasible':>9}{'best fuel kg':>13}{'best eng ' + unit:>12}"
+            f"{'best MI':>8}{'front %':>8}{'HV':>7}{'+fuel @eng kg':>14}"
+            f"{'+eng @fuel ' + unit:>14}")
+    lines = [head]
+    for _, r in table.iterrows():
+        ref = " (reference)" if r["reference_option"] else ""
+        lines.append(f"{r['flap']:<22}{'yes' if r['feasible_found'] else 'NO':>9}"
+                     f"{_fmt(r['best_trip_fuel_kg']):>13}{_fmt(r[f'best_{eng}']):>12}"
+                     f"{_fmt(r['best_maintenance_index']) if 'best_maintenance_index' in r else '':>8}"
+                     f"{100 * r['share_of_combined_front']:>8.0f}{r['hypervolume']:>7.3f}"
+                     f"{_fmt(r['extra_trip_fuel_at_equal_engine_kg']):>14}"
+                     f"{_fmt(r[f'extra_engine_at_equal_trip_fuel_{unit}']):>14}{ref}")
+        if r["note"]:
+            lines.append(f"    {r['flap']}: {r['note']}")
+    lines.append("+fuel @eng: mean extra trip fuel against the reference option at equal engine "
+                 "size (smallest trip fuel reachable with an engine no larger than E, over the "
+                 "engine sizes from where both options have a design); +eng @fuel: the same "
+                 "with engine size and trip fuel swapped; both along the trip fuel vs engine "
+                 "size fronts, linear between front points")
+    return "\n".join(lines)
+
+
+def flaps_markdown(study, table) -> str:
+    """The flap comparison as Markdown with the meaning of each column and the caution."""
+    from ..evaluation import CAUTION
+    eng = study.engine_size_column
+    unit = eng.rsplit("_", 1)[1]
+    cols = list(study.objective_columns())
+    head = ["flap", "feasible", *[f"best {label_of(c)[0]} [{label_of(c)[1] or '-'}]"
+                                  for c in cols],
+            "share of combined front", "hypervolume",
+            "extra trip fuel at equal engine size [kg]",
+            f"extra engine size at equal trip fuel [{unit}]", "note"]
+    rows = []
+    for _, r in table.iterrows():
+        name = r["flap"] + (" (reference)" if r["reference_option"] else "")
+        feas = "yes" if r["feasible_found"] else \
+            f"no: {r['failing_constraint']} {r['best_margin_failing']:+.1%} at best"
+        pen_f = _fmt(r["extra_trip_fuel_at_equal_engine_kg"])
+        if not math.isnan(r["extra_trip_fuel_at_equal_engine_pct"]) and not r["reference_option"]:
+            pen_f += f" ({r['extra_trip_fuel_at_equal_engine_pct']:+.1f} %)"
+        pen_e = _fmt(r[f"extra_engine_at_equal_trip_fuel_{unit}"])
+        if not math.isnan(r["extra_engine_at_equal_trip_fuel_pct"]) and not r["reference_option"]:
+            pen_e += f" ({r['extra_engine_at_equal_trip_fuel_pct']:+.1f} %)"
+        rows.append([name, feas, *[_fmt(r[f"best_{c}"]) for c in cols],
+                     f"{r['share_of_combined_front']:.0%}", f"{r['hypervolume']:.3f}",
+                     pen_f, pen_e, r["note"]])
+    doc = "\n".join(f"- `{k}`: {v}" for k, v in FLAP_COLUMNS_DOC.items())
+    return "\n".join([f"# {study.name}: flap options compared", "",
+                      "Every option had its own NSGA-II with the same population, generations "
+                      "and seed stream, under the same constraints.", "",
+                      f"> **Caution.** {CAUTION}", "", _md_table(head, rows), "",
+                      "Columns of flaps.csv:", "", doc, "", "---", "", f"*{CAUTION}*", ""])
