@@ -35,6 +35,54 @@ CONSTRAINT_LABELS = {
 
 _MIN_ACCEL = 0.01  # [m s^-2] acceleration floor of the ground roll
 
+OVERRIDE_KEYS = {
+    "cd0_clean": "clean zero-lift drag coefficient [-] (replaces the study's value)",
+    "oswald_factor_scale": "multiplies the Oswald factor of the study's method [-]",
+    "propeller_efficiency_cruise": "cruise propeller efficiency [-] (propeller studies)",
+    "propeller_efficiency_climb": "takeoff and climb propeller efficiency [-] (propeller studies)",
+    "sfc_cruise": "power-specific fuel consumption in cruise [kg/J] (propeller studies)",
+    "tsfc_cruise": "thrust-specific fuel consumption in cruise [kg/(N s)] (turbofan studies)",
+    "empty_mass_factor": "multiplies the whole empty mass [-]",
+}
+"""Spec values that :func:`size_designs` accepts per design (``overrides``), e.g. for a
+Monte Carlo over uncertain assumptions."""
+
+
+def _check_overrides(spec, overrides, n):
+    """Per-design override arrays (float, shape ``(n,)``); raises ValueError on a bad one."""
+    if not overrides:
+        return {}
+    is_jet = spec.propulsion.family == "turbofan"
+    out = {}
+    for key, value in overrides.items():
+        if key not in OVERRIDE_KEYS:
+            raise ValueError(f"overrides: unknown key {key!r}; expected one of: "
+                             + ", ".join(OVERRIDE_KEYS))
+        if is_jet and key in ("propeller_efficiency_cruise", "propeller_efficiency_climb",
+                              "sfc_cruise"):
+            raise ValueError(f"overrides: {key!r} given for a turbofan study; expected it only "
+                             "for propeller studies")
+        if not is_jet and key == "tsfc_cruise":
+            raise ValueError("overrides: 'tsfc_cruise' given for a propeller study; expected "
+                             "it only for turbofan studies")
+        a = np.asarray(value, dtype=float)
+        if a.ndim == 0:
+            a = np.full(n, float(a))
+        a = a.ravel()
+        if a.shape != (n,):
+            raise ValueError(f"overrides: {key!r} has {a.size} values; expected one per design "
+                             f"({n}) or a single value")
+        if not (np.isfinite(a).all() and (a > 0.0).all()):
+            raise ValueError(f"overrides: {key!r} holds values that are not finite and "
+                             "positive; expected positive numbers")
+        out[key] = a
+    return out
+
+
+def _at(x, ix):
+    """``x[ix]`` for a per-design array, ``x`` itself for a study-wide scalar."""
+    return x if np.ndim(x) == 0 else x[ix]
+
 
 def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     """Names of the constraints that apply to this study, in a fixed order."""
@@ -96,8 +144,8 @@ class _Propulsor:
             mach = speed / _col(self.sound, speed)
             return _col(self.thrust_sl, speed) * propulsion.turbofan_thrust_lapse_mattingly(
                 _col(self.temperature, speed), _col(self.pressure, speed), mach, self.tr)
-        return propulsion.propeller_thrust(speed, _col(self.power, speed), efficiency,
-                                           _col(self.static, speed))
+        return propulsion.propeller_thrust(speed, _col(self.power, speed),
+                                           _col(efficiency, speed), _col(self.static, speed))
 
 
 def _finite(values, shape):
@@ -116,7 +164,8 @@ def _col(x, like):
     return x
 
 
-def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index):
+def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
+                 overrides=None):
     """Size every design of a batch.
 
     Parameters
@@ -132,6 +181,10 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         [-].
     high_lift_index : array_like of int
         Index into ``spec.high_lift``.
+    overrides : dict of str -> array_like, optional
+        Per-design values of a few spec numbers (keys of :data:`OVERRIDE_KEYS`), each one
+        value per design or a single value; they replace the study-wide scalar wherever it is
+        used. Without ``overrides`` the results are those of the spec alone, bit for bit.
 
     Returns
     -------
@@ -156,6 +209,8 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         pw = 1e3 / np.clip(np.nan_to_num(ld_in, nan=1e4), 5.0, 1e4)  # [W/N]
         tw = None
     hl = _high_lift_arrays(spec, np.clip(idx, 0, len(spec.high_lift) - 1))
+    ov = _check_overrides(spec, overrides, ws.size)
+    e_scale = ov.get("oswald_factor_scale")  # None: the method's factor unchanged
 
     pr, ad, wt, ms, rq, sp = (spec.propulsion, spec.aerodynamics, spec.weights, spec.mission,
                               spec.requirements, spec.speeds)
@@ -177,7 +232,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     mach_cr = v_cr / a_cr
     q_cr = 0.5 * rho_cr * v_cr**2
 
-    cd0 = ad.cd0_clean
+    cd0 = ov.get("cd0_clean", ad.cd0_clean)
     gear = ad.gear_drag_increment if ad.landing_gear == "retractable" else 0.0
     cd0_cruise = cd0 + float(aero.wave_drag_lock(mach_cr, ad.drag_divergence_mach))
     cl_to = ad.cl_max_clean + hl["cl_increment_takeoff"]
@@ -188,9 +243,11 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         ms.fraction_startup, ms.fraction_taxi, ms.fraction_takeoff, ms.fraction_climb,
         ms.fraction_descent, ms.fraction_landing)
     f_pre = f_start * f_taxi * f_to * f_climb
-    eta_cr = pr.propeller_efficiency_cruise if not is_jet else 1.0
-    sfc_p = pr.sfc_cruise if not is_jet else 1.0
-    sfc_t = pr.tsfc_cruise if is_jet else 1.0
+    eta_cr = ov.get("propeller_efficiency_cruise", pr.propeller_efficiency_cruise) \
+        if not is_jet else 1.0
+    sfc_p = ov.get("sfc_cruise", pr.sfc_cruise) if not is_jet else 1.0
+    sfc_t = ov.get("tsfc_cruise", pr.tsfc_cruise) if is_jet else 1.0
+    emf = ov.get("empty_mass_factor", wt.empty_mass_factor)
     v_h_eas = v_cr * np.sqrt(rho_cr / atm.RHO0)
 
     fixed_kg = wt.payload_kg + wt.crew_kg
@@ -204,22 +261,27 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         e_cr = aero.oswald_factor(ad.oswald_method, ar_i, ad.taper_ratio,
                                   ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span,
                                   mach_cr, ad.oswald_k_ed0)
+        if e_scale is not None:
+            e_cr = e_cr * e_scale[ix]
         k_cr = aero.induced_drag_factor(ar_i, e_cr)
+        cd0_i, eta_i = _at(cd0_cruise, ix), _at(eta_cr, ix)
+        sfc_p_i, sfc_t_i = _at(sfc_p, ix), _at(sfc_t, ix)
         w_i = w * f_pre
-        ld_i = aero.lift_to_drag(w_i / (q_cr * s_ref), cd0_cruise, k_cr)
-        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_i, eta_cr, sfc_p, sfc_t, is_jet)
+        ld_i = aero.lift_to_drag(w_i / (q_cr * s_ref), cd0_i, k_cr)
+        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_i, eta_i, sfc_p_i, sfc_t_i,
+                                            is_jet)
         w_mid = w_i / np.sqrt(ratio)
-        ld_mid = aero.lift_to_drag(w_mid / (q_cr * s_ref), cd0_cruise, k_cr)
-        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_mid, eta_cr, sfc_p, sfc_t,
+        ld_mid = aero.lift_to_drag(w_mid / (q_cr * s_ref), cd0_i, k_cr)
+        ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_mid, eta_i, sfc_p_i, sfc_t_i,
                                             is_jet)
         w_end_cruise = w_i / ratio
         w_end = w_end_cruise * f_desc * f_land
         trip = (w - w_end) / G0
-        ld_res = aero.lift_to_drag(w_end / (q_cr * s_ref), cd0_cruise, k_cr)
-        res_ratio = (mission.endurance_weight_ratio(ms.reserve_time_s, v_cr, ld_res, eta_cr,
-                                                    sfc_p, sfc_t, is_jet)
-                     * mission.cruise_weight_ratio(ms.reserve_range_m, v_cr, ld_res, eta_cr,
-                                                   sfc_p, sfc_t, is_jet))
+        ld_res = aero.lift_to_drag(w_end / (q_cr * s_ref), cd0_i, k_cr)
+        res_ratio = (mission.endurance_weight_ratio(ms.reserve_time_s, v_cr, ld_res, eta_i,
+                                                    sfc_p_i, sfc_t_i, is_jet)
+                     * mission.cruise_weight_ratio(ms.reserve_range_m, v_cr, ld_res, eta_i,
+                                                   sfc_p_i, sfc_t_i, is_jet))
         reserve = w_end * (1.0 - 1.0 / res_ratio) / G0
         fuel = trip + reserve + ms.trapped_fuel_fraction * m_to
         m_wing = wt.wing_mass_factor * weights.wing_mass_usaf(
@@ -237,7 +299,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
                                       hl["slat_area_ratio"][ix], hl["slat_mass_per_area_kg_m2"][ix],
                                       hl["actuator_mass_kg"][ix])
         m_rest = wt.structure_systems_fraction * m_to + wt.fixed_equipment_kg
-        empty = wt.empty_mass_factor * (m_wing + m_eng + m_hl + m_rest)
+        empty = _at(emf, ix) * (m_wing + m_eng + m_hl + m_rest)
         residual = m_to - (fixed_kg + fuel + empty)
         residual = np.where(fuel >= 0.0, residual, np.nan)  # negative fuel (L/D < 0) is no closure
         return dict(residual=residual, s_ref=s_ref, span=span, e_cr=e_cr, k_cr=k_cr,
@@ -279,9 +341,12 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
 
     w = m_to * G0
     s_ref, span = pc["s_ref"], pc["span"]
-    k_low = aero.induced_drag_factor(ar_c, aero.oswald_factor(
-        ad.oswald_method, ar_c, ad.taper_ratio, ad.sweep_quarter_chord_rad,
-        ad.fuselage_diameter_m / span, 0.2, ad.oswald_k_ed0))
+    e_low = aero.oswald_factor(ad.oswald_method, ar_c, ad.taper_ratio,
+                               ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span, 0.2,
+                               ad.oswald_k_ed0)
+    if e_scale is not None:
+        e_low = e_low * e_scale
+    k_low = aero.induced_drag_factor(ar_c, e_low)
     e_low = 1.0 / (np.pi * ar_c * k_low)
     rated = pc["rated"]
     if is_jet:
@@ -289,7 +354,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         eta_climb = 1.0
     else:
         diameter = propulsion.propeller_diameter(rated / n_eng, pr.propeller_diameter_coefficient)
-        eta_climb = pr.propeller_efficiency_climb
+        eta_climb = ov.get("propeller_efficiency_climb", pr.propeller_efficiency_climb)
 
     # --- stall ---
     vs_landing_sl = performance.stall_speed(ws_c, atm.RHO0, cl_l)
@@ -362,20 +427,21 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         """Best all-engines rate of climb [m/s] (clean, climb power) at altitude h for ``ix``."""
         rho, _, t_h = atm._density_unchecked(h, dt)
         p_h = atm.isa_pressure(np.clip(h, atm.H_MIN, atm.H_MAX))
-        ws_i, w_i, k_i = ws_c[ix], w[ix], k_low[ix]
+        ws_i, w_i, k_i, cd0_h = ws_c[ix], w[ix], k_low[ix], _at(cd0, ix)
         eng = _Propulsor(spec, rated[ix], None if diameter is None else diameter[ix], rho, t_h,
                          p_h, pr.climb_power_fraction)
         v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho, ad.cl_max_clean)
         if is_jet:
             tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
             for _ in range(2):
-                v = np.sqrt(ws_i / (3.0 * rho * cd0) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0 * k_i)))
+                v = np.sqrt(ws_i / (3.0 * rho * cd0_h) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0_h
+                                                                          * k_i)))
                 tw_h = eng.thrust(v, 1.0) / w_i
         else:
-            v = np.sqrt(2.0 * ws_i / (rho * np.sqrt(3.0 * cd0 / k_i)))
+            v = np.sqrt(2.0 * ws_i / (rho * np.sqrt(3.0 * cd0_h / k_i)))
         v = np.maximum(v, v_floor)
-        roc = v * (eng.thrust(v, eta_climb) / w_i
-                   - performance.drag_to_weight(v, ws_i, rho, cd0, k_i))
+        roc = v * (eng.thrust(v, _at(eta_climb, ix)) / w_i
+                   - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_i))
         return roc, v
 
     climb_rate, v_climb = best_climb(np.full_like(ws_c, dep.elevation_m), dep.temperature_offset_K)
@@ -409,13 +475,14 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         """Thrust minus drag over weight [-] in level flight at cruise altitude."""
         mach = v / a_cr
         d_w = performance.drag_to_weight(
-            v, ws_cr[ix], rho_cr, cd0 + aero.wave_drag_lock(mach, ad.drag_divergence_mach),
-            k_cr[ix])
+            v, ws_cr[ix], rho_cr,
+            _at(cd0, ix) + aero.wave_drag_lock(mach, ad.drag_divergence_mach), k_cr[ix])
         if is_jet:
             thrust = eng_cr.thrust_sl[ix] * propulsion.turbofan_thrust_lapse_mattingly(
                 t_cr, p_cr, mach, pr.turbofan_throttle_ratio)
         else:
-            thrust = propulsion.propeller_thrust(v, eng_cr.power[ix], eta_cr, eng_cr.static[ix])
+            thrust = propulsion.propeller_thrust(v, eng_cr.power[ix], _at(eta_cr, ix),
+                                                 eng_cr.static[ix])
         return thrust / w_cr[ix] - d_w
 
     v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
@@ -459,7 +526,9 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     margin_matrix = np.column_stack([margins[c] for c in names])
     margin_matrix = np.nan_to_num(margin_matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
     feasible = np.all(margin_matrix >= 0.0, axis=1)
-    limiting = np.argmin(margin_matrix, axis=1)
+    # a design whose mass does not close is reported as such: its other margins were computed
+    # at the capped mass and mean little (mass_closure is always the first constraint)
+    limiting = np.where(margin_matrix[:, 0] < 0.0, 0, np.argmin(margin_matrix, axis=1))
 
     out = {
         "takeoff_mass_kg": m_to,
@@ -470,10 +539,10 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         "payload_kg": np.full_like(ws_c, wt.payload_kg),
         "crew_kg": np.full_like(ws_c, wt.crew_kg),
         "empty_mass_fraction": pc["empty"] / m_to,
-        "wing_mass_kg": pc["m_wing"] * wt.empty_mass_factor,
-        "engine_mass_kg": pc["m_eng"] * wt.empty_mass_factor,
-        "high_lift_mass_kg": pc["m_hl"] * wt.empty_mass_factor,
-        "structure_systems_mass_kg": pc["m_rest"] * wt.empty_mass_factor,
+        "wing_mass_kg": pc["m_wing"] * emf,
+        "engine_mass_kg": pc["m_eng"] * emf,
+        "high_lift_mass_kg": pc["m_hl"] * emf,
+        "structure_systems_mass_kg": pc["m_rest"] * emf,
         "wing_area_m2": s_ref,
         "span_m": span,
     }

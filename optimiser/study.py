@@ -55,7 +55,7 @@ _SECTIONS = {
     "departure": S.Airfield, "destination": S.Airfield,
 }
 _TOP_KEYS = {"name", "description", "certification", "variables", "objectives", "flap_catalogue",
-             "slats", "search", *_SECTIONS}
+             "slats", "search", "uncertainty", *_SECTIONS}
 _REQUIRED_SECTIONS = ("propulsion", "aerodynamics", "weights", "mission", "requirements",
                       "departure", "variables")
 
@@ -118,6 +118,7 @@ class Study:
     objectives: tuple[str, ...]
     search: dict
     sha256: str
+    uncertainty: dict | None = None  # [uncertainty] table, read by optimiser.robust
 
     @property
     def loading_column(self) -> str:
@@ -462,9 +463,14 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
     objectives = _read_objectives(rd, raw.get("objectives", {}))
     search = _read_search(rd, raw.get("search", {}))
+    uncertainty = None
+    if "uncertainty" in raw:
+        from .robust import read_uncertainty
+        uncertainty = read_uncertainty(rd.fail, raw["uncertainty"], family)
     return Study(name=name, description=description, path=path, text=text, spec=spec,
                  variables=variables, flaps=flaps, objectives=objectives, search=search,
-                 sha256=hashlib.sha256(text.encode("utf-8")).hexdigest())
+                 sha256=hashlib.sha256(text.encode("utf-8")).hexdigest(),
+                 uncertainty=uncertainty)
 
 
 def _airfield(rd, section, raw, default_obstacle):
@@ -540,25 +546,35 @@ def _read_search(rd, raw):
     return out
 
 
-def load_study(path) -> Study:
-    """Read and validate a study file. Raises :class:`StudyError` (one line) when it cannot."""
+def read_text_file(path, what: str, max_bytes: int, error=StudyError) -> str:
+    """The UTF-8 text of a study-like file; one-line ``error`` when it cannot be used.
+
+    ``what`` names the file in messages ("study", "campaign").
+    """
     p = Path(path)
     try:
         size = p.stat().st_size
     except OSError as exc:
-        raise StudyError(f"{path}: cannot read the study file ({exc.strerror})") from None
+        raise error(f"{path}: cannot read the {what} file ({exc.strerror})") from None
     if p.is_dir():
-        raise StudyError(f"{path}: is a folder; expected a study file (.toml)")
-    if size > MAX_STUDY_BYTES:
-        raise StudyError(f"{path}: the file is {size} bytes; expected a study of at most "
-                         f"{MAX_STUDY_BYTES} bytes")
-    data = p.read_bytes()
+        raise error(f"{path}: is a folder; expected a {what} file (.toml)")
+    if size > max_bytes:
+        raise error(f"{path}: the file is {size} bytes; expected a {what} of at most "
+                    f"{max_bytes} bytes")
     try:
-        text = data.decode("utf-8")
+        data = p.read_bytes()
+    except OSError as exc:
+        raise error(f"{path}: cannot read the {what} file ({exc.strerror})") from None
+    try:
+        return data.decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise StudyError(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 text "
-                         "file") from None
-    return parse_study(text, str(path))
+        raise error(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 text "
+                    "file") from None
+
+
+def load_study(path) -> Study:
+    """Read and validate a study file. Raises :class:`StudyError` (one line) when it cannot."""
+    return parse_study(read_text_file(path, "study", MAX_STUDY_BYTES), str(path))
 
 
 def bundled_study_path(name: str | None = None) -> Path:

@@ -1,0 +1,376 @@
+"""Robustness of one design: a vectorised Monte Carlo over uncertain assumptions.
+
+A study may hold an ``[uncertainty]`` table. Each entry names an assumption and a distribution
+of a *factor* that multiplies the study's own value of it (so ``1.0`` is the study's value)::
+
+    [uncertainty]
+    samples = 10000                       # default number of samples (optional)
+    seed = 1                              # default random seed (optional)
+    cd0_clean = { distribution = "normal", std = 0.08 }                  # mean 1 by default
+    oswald_factor = { distribution = "uniform", low = 0.95, high = 1.03 }
+    propeller_efficiency = { distribution = "triangular", low = 0.96, mode = 1.0, high = 1.02 }
+    sfc = { distribution = "normal", mean = 1.02, std = 0.04 }
+    empty_mass_factor = { distribution = "normal", std = 0.03 }
+
+The assumptions (:data:`UNCERTAIN_ASSUMPTIONS`): ``cd0_clean`` (clean zero-lift drag),
+``oswald_factor`` (the Oswald factor of the study's method, cruise and low speed),
+``propeller_efficiency`` (cruise and climb efficiency together, one draw per sample; propeller
+studies), ``sfc`` (cruise power-specific or thrust-specific fuel consumption, whichever the
+study uses) and ``empty_mass_factor``. Draws are independent. Efficiencies are capped at 0.95
+(the spec's upper limit; the cap and the share of capped draws are reported).
+
+The design keeps its wing loading, power loading (or thrust-to-weight), aspect ratio and flap;
+every sample is sized completely, so takeoff mass, wing area and engine size follow the
+perturbed assumptions. All samples go through ONE call of
+:func:`optimiser.sizing.size_designs` with per-design ``overrides`` (no loop over samples).
+
+The probability that a constraint is met is the share of samples with a margin >= 0, with its
+binomial standard error sqrt(p (1 - p) / N) and the Wilson score interval at 95 %
+(E. B. Wilson, "Probable inference, the law of succession, and statistical inference",
+J. Am. Stat. Assoc. 22, 1927).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+UNCERTAIN_ASSUMPTIONS = {
+    "cd0_clean": "clean zero-lift drag coefficient",
+    "oswald_factor": "Oswald factor (cruise and low speed)",
+    "propeller_efficiency": "propeller efficiency, cruise and climb (propeller studies)",
+    "sfc": "cruise specific fuel consumption (power- or thrust-specific)",
+    "empty_mass_factor": "empty-mass factor",
+}
+"""Assumptions an ``[uncertainty]`` table may perturb, with a plain description."""
+
+DISTRIBUTIONS = {
+    "normal": ("mean", "std"),
+    "uniform": ("low", "high"),
+    "triangular": ("low", "mode", "high"),
+}
+"""Distribution of the factor on the study's value, with its parameters (factors, not values)."""
+
+MAX_STD = 0.2
+FACTOR_RANGE = (0.5, 2.0)
+EFFICIENCY_CAP = 0.95
+FACTOR_FLOOR = 0.01
+DEFAULT_SAMPLES = 10000
+MAX_SAMPLES = 2_000_000
+Z95 = 1.959963984540054  # standard normal quantile at 0.975
+
+
+def read_uncertainty(fail, raw, family):
+    """Validate an ``[uncertainty]`` table (the parsed TOML dict).
+
+    ``fail(where, message)`` raises the study layer's one-line error; ``family`` is the
+    propulsion family. Returns ``{"samples": int, "seed": int | None, "assumptions": {key:
+    {"distribution": str, <parameters>: float}}}``.
+    """
+    if not isinstance(raw, dict):
+        fail("[uncertainty]", f"got {raw!r}; expected a table ([uncertainty])")
+    out = {"samples": DEFAULT_SAMPLES, "seed": None, "assumptions": {}}
+    for key, value in raw.items():
+        where = f"[uncertainty] {key}"
+        if key in ("samples", "seed"):
+            hi = MAX_SAMPLES if key == "samples" else 2**32 - 1
+            lo = 1 if key == "samples" else 0
+            if isinstance(value, bool) or not isinstance(value, int) or not lo <= value <= hi:
+                fail(where, f"got {value!r}; expected a whole number from {lo} to {hi}")
+            out[key] = value
+            continue
+        if key not in UNCERTAIN_ASSUMPTIONS:
+            fail("[uncertainty]", f"unknown key {key!r}; expected 'samples', 'seed' or one of: "
+                 + ", ".join(UNCERTAIN_ASSUMPTIONS))
+        if key == "propeller_efficiency" and family == "turbofan":
+            fail(where, "given for a turbofan study; expected it only for propeller studies")
+        if not isinstance(value, dict):
+            fail(where, f"got {value!r}; expected a table such as "
+                 "{ distribution = \"normal\", std = 0.05 }")
+        dist = value.get("distribution")
+        if dist not in DISTRIBUTIONS:
+            fail(f"{where} distribution", f"got {dist!r}; expected one of: "
+                 + ", ".join(repr(d) for d in DISTRIBUTIONS))
+        params = DISTRIBUTIONS[dist]
+        entry = {"distribution": dist}
+        for p, v in value.items():
+            if p == "distribution":
+                continue
+            if p not in params:
+                fail(where, f"unknown key {p!r} for a {dist} distribution; expected: "
+                     + ", ".join(params))
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                fail(f"{where} {p}", f"got {v!r}; expected a number (a factor on the study's "
+                     "value, 1 = unchanged)")
+            entry[p] = float(v)
+        lo, hi = FACTOR_RANGE
+        if dist == "normal":
+            entry.setdefault("mean", 1.0)
+            if "std" not in entry:
+                fail(where, "missing key 'std' (standard deviation of the factor, e.g. 0.05)")
+            if not 0.0 <= entry["std"] <= MAX_STD:
+                fail(f"{where} std", f"got {entry['std']:g}; expected 0 to {MAX_STD:g} (a "
+                     "fraction of the study's value)")
+            if not lo <= entry["mean"] <= hi:
+                fail(f"{where} mean", f"got {entry['mean']:g}; expected {lo:g} to {hi:g}")
+        else:
+            for p in params:
+                if p not in entry:
+                    fail(where, f"missing key {p!r} (a factor on the study's value)")
+                if not lo <= entry[p] <= hi:
+                    fail(f"{where} {p}", f"got {entry[p]:g}; expected {lo:g} to {hi:g}")
+            order = [entry[p] for p in params]
+            if order != sorted(order) or entry["low"] == entry["high"]:
+                fail(where, "expected " + " <= ".join(params) + " with low < high; got "
+                     + ", ".join(f"{p} = {entry[p]:g}" for p in params))
+        out["assumptions"][key] = entry
+    return out
+
+
+def sample_factors(assumptions: dict, n: int, rng) -> dict:
+    """Draw ``n`` factors per assumption (in :data:`UNCERTAIN_ASSUMPTIONS` order)."""
+    out = {}
+    for key in UNCERTAIN_ASSUMPTIONS:
+        if key not in assumptions:
+            continue
+        a = assumptions[key]
+        if a["distribution"] == "normal":
+            x = rng.normal(a["mean"], a["std"], n) if a["std"] > 0 else np.full(n, a["mean"])
+        elif a["distribution"] == "uniform":
+            x = rng.uniform(a["low"], a["high"], n)
+        else:
+            x = rng.triangular(a["low"], a["mode"], a["high"], n)
+        out[key] = np.maximum(x, FACTOR_FLOOR)
+    return out
+
+
+def overrides_from_factors(spec, factors: dict) -> tuple[dict, dict]:
+    """Per-sample spec values for :func:`optimiser.sizing.size_designs` from factors.
+
+    Returns ``(overrides, capped)`` where ``capped`` gives, per override key, the share of
+    samples whose efficiency was capped at :data:`EFFICIENCY_CAP`.
+    """
+    pr, ad, wt = spec.propulsion, spec.aerodynamics, spec.weights
+    ov, capped = {}, {}
+    if "cd0_clean" in factors:
+        ov["cd0_clean"] = ad.cd0_clean * factors["cd0_clean"]
+    if "oswald_factor" in factors:
+        ov["oswald_factor_scale"] = factors["oswald_factor"]
+    if "propeller_efficiency" in factors:
+        for key, nominal in (("propeller_efficiency_cruise", pr.propeller_efficiency_cruise),
+                             ("propeller_efficiency_climb", pr.propeller_efficiency_climb)):
+            raw = nominal * factors["propeller_efficiency"]
+            capped[key] = float(np.mean(raw > EFFICIENCY_CAP))
+            ov[key] = np.minimum(raw, EFFICIENCY_CAP)
+    if "sfc" in factors:
+        if pr.family == "turbofan":
+            ov["tsfc_cruise"] = pr.tsfc_cruise * factors["sfc"]
+        else:
+            ov["sfc_cruise"] = pr.sfc_cruise * factors["sfc"]
+    if "empty_mass_factor" in factors:
+        ov["empty_mass_factor"] = wt.empty_mass_factor * factors["empty_mass_factor"]
+    return ov, capped
+
+
+def wilson_interval(p, n, z=Z95):
+    """Wilson score interval of a binomial proportion ``p`` from ``n`` trials (Wilson 1927)."""
+    p = np.asarray(p, dtype=float)
+    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
+    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
+    return np.clip(centre - half, 0.0, 1.0), np.clip(centre + half, 0.0, 1.0)
+
+
+@dataclass(frozen=True)
+class RobustResult:
+    """Outcome of :func:`monte_carlo`.
+
+    ``design``: the design (one-row frame, every evaluate column at the study's values);
+    ``constraints``: per constraint (and ``all``) the nominal margin, probability met,
+    standard error, Wilson 95 % interval and margin percentiles; ``trip_fuel``: one-row frame
+    of nominal, mean, std and 5/50/95 percentiles [kg]; ``samples``: per sample the factors,
+    trip fuel, takeoff mass, engine size, margins and ``feasible``; ``capped``: share of
+    capped efficiency draws.
+    """
+
+    design: object
+    constraints: object
+    trip_fuel: object
+    samples: object
+    n_samples: int
+    seed: int
+    assumptions: dict
+    capped: dict
+
+
+def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> RobustResult:
+    """Monte Carlo of one design over the study's uncertain assumptions.
+
+    Parameters
+    ----------
+    study : Study
+    design : DataFrame or dict
+        One design: ``wing_loading_N_m2``, the loading column, ``aspect_ratio``, ``flap``.
+    samples, seed : int, optional
+        Default: the study's ``[uncertainty]`` values (10000 samples; seed 1).
+    uncertainty : dict, optional
+        ``{"assumptions": {...}}`` as returned by :func:`read_uncertainty`; default the
+        study's. A study with no uncertain assumption is refused (ValueError).
+    """
+    import pandas as pd
+    from .evaluation import evaluate
+    from .sizing import CONSTRAINT_LABELS, active_constraints, size_designs
+    unc = uncertainty if uncertainty is not None else (study.uncertainty or {})
+    assumptions = unc.get("assumptions", {})
+    if not assumptions:
+        raise ValueError(f"{study.path}: no uncertain assumptions; expected an [uncertainty] "
+                         "table with at least one of: " + ", ".join(UNCERTAIN_ASSUMPTIONS))
+    n = int(samples if samples is not None else unc.get("samples", DEFAULT_SAMPLES))
+    seed = int(seed if seed is not None else (unc.get("seed") if unc.get("seed") is not None
+                                              else 1))
+    table = pd.DataFrame(design)
+    if len(table) != 1:
+        raise ValueError(f"design: got {len(table)} rows; expected exactly one design")
+    nominal = evaluate(study, table)
+    spec = study.spec
+    flap_index = spec.high_lift_names.index(nominal["flap"].iloc[0])
+    rng = np.random.default_rng(seed)
+    factors = sample_factors(assumptions, n, rng)
+    overrides, capped = overrides_from_factors(spec, factors)
+    row = nominal.iloc[0]
+    out = size_designs(spec, np.full(n, row["wing_loading_N_m2"]),
+                       np.full(n, row[study.loading_column]), np.full(n, row["aspect_ratio"]),
+                       np.full(n, flap_index), overrides=overrides)
+    names = active_constraints(spec)
+    size_col = study.engine_size_column
+    frame = pd.DataFrame({f"factor_{k}": v for k, v in factors.items()})
+    for col in ("trip_fuel_kg", "takeoff_mass_kg", size_col):
+        frame[col] = out[col]
+    for c in names:
+        frame[f"margin_{c}"] = out[f"margin_{c}"]
+    frame["feasible"] = out["feasible"]
+    frame["limiting_constraint"] = np.asarray(names, dtype=object)[out["limiting_index"]]
+
+    rows = []
+    for c in (*names, "all"):
+        met = frame["feasible"].to_numpy(bool) if c == "all" else \
+            frame[f"margin_{c}"].to_numpy(float) >= 0.0
+        p = float(met.mean())
+        lo, hi = wilson_interval(p, n)
+        m = None if c == "all" else frame[f"margin_{c}"].to_numpy(float)
+        rows.append({
+            "constraint": c,
+            "description": "every constraint at once" if c == "all" else CONSTRAINT_LABELS[c],
+            "nominal_margin": float("nan") if c == "all" else float(row[f"margin_{c}"]),
+            "nominal_met": bool(row["feasible"]) if c == "all" else bool(row[f"margin_{c}"] >= 0),
+            "probability_met": p,
+            "standard_error": math.sqrt(p * (1.0 - p) / n),
+            "probability_low_95": float(lo), "probability_high_95": float(hi),
+            "margin_p5": float("nan") if m is None else float(np.percentile(m, 5)),
+            "margin_p50": float("nan") if m is None else float(np.percentile(m, 50)),
+            "margin_p95": float("nan") if m is None else float(np.percentile(m, 95)),
+            "limiting_share": float(np.mean(frame["limiting_constraint"].to_numpy(object) == c))
+            if c != "all" else float("nan"),
+        })
+    trip = frame["trip_fuel_kg"].to_numpy(float)
+    p5, p50, p95 = np.percentile(trip, [5, 50, 95])
+    trip_stats = pd.DataFrame([{
+        "nominal_kg": float(row["trip_fuel_kg"]), "mean_kg": float(trip.mean()),
+        "std_kg": float(trip.std(ddof=1)) if n > 1 else 0.0,
+        "p5_kg": float(p5), "p50_kg": float(p50), "p95_kg": float(p95),
+        "samples": n, "seed": seed}])
+    return RobustResult(design=nominal, constraints=pd.DataFrame(rows), trip_fuel=trip_stats,
+                        samples=frame, n_samples=n, seed=seed, assumptions=dict(assumptions),
+                        capped=capped)
+
+
+def design_label(study, design_row) -> str:
+    """A one-line description of a design (inputs only)."""
+    load = study.loading_column
+    unit = "N/kW" if load == "power_loading_N_kW" else ""
+    return (f"W/S {design_row['wing_loading_N_m2']:.0f} N/m², "
+            f"{'W/P' if unit else 'T/W'} {design_row[load]:.4g}{' ' + unit if unit else ''}, "
+            f"AR {design_row['aspect_ratio']:.3g}, flap {design_row['flap']}")
+
+
+def summary_text(study, result: RobustResult) -> str:
+    """The printed report, ending with the caution text."""
+    from .evaluation import CAUTION
+    d = result.design.iloc[0]
+    lines = [f"study {study.name}: robustness of {design_label(study, d)}",
+             f"  {result.n_samples} samples, seed {result.seed}; uncertain: "
+             + ", ".join(f"{k} ({_dist_text(v)})" for k, v in result.assumptions.items())]
+    for k, share in result.capped.items():
+        if share > 0:
+            lines.append(f"  note: {share:.1%} of the {k} draws were capped at "
+                         f"{EFFICIENCY_CAP}")
+    lines.append(f"  {'constraint':<22}{'nominal':>10}{'P(met)':>9}{'std err':>9}"
+                 f"{'95 % interval':>17}")
+    for _, r in result.constraints.iterrows():
+        nom = "" if r["constraint"] == "all" else f"{r['nominal_margin']:+.1%}"
+        lines.append(f"  {r['constraint']:<22}{nom:>10}{r['probability_met']:>9.3f}"
+                     f"{r['standard_error']:>9.3f}   {r['probability_low_95']:.3f}-"
+                     f"{r['probability_high_95']:.3f}")
+    t = result.trip_fuel.iloc[0]
+    lines.append(f"  trip fuel [kg]: nominal {t['nominal_kg']:.1f}, mean {t['mean_kg']:.1f}, "
+                 f"std {t['std_kg']:.1f}, 5/50/95 % {t['p5_kg']:.1f} / {t['p50_kg']:.1f} / "
+                 f"{t['p95_kg']:.1f}")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def _dist_text(a):
+    if a["distribution"] == "normal":
+        return f"normal, mean {a['mean']:g}, std {a['std']:g}"
+    if a["distribution"] == "uniform":
+        return f"uniform {a['low']:g} to {a['high']:g}"
+    return f"triangular {a['low']:g} / {a['mode']:g} / {a['high']:g}"
+
+
+def plot_robustness(study, result: RobustResult, folder: Path):
+    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``."""
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    folder = Path(folder)
+    trip = result.samples["trip_fuel_kg"].to_numpy(float)
+    t = result.trip_fuel.iloc[0]
+    fig, ax = plt.subplots(figsize=(7, 4.4))
+    ax.hist(trip, bins=60, color="#7a9cc6", edgecolor="white", linewidth=0.4,
+            label=f"{result.n_samples} samples")
+    ax.axvline(t["nominal_kg"], color="k", lw=1.5, label=f"study's values {t['nominal_kg']:.1f} kg")
+    ax.axvline(t["mean_kg"], color="#c0392b", lw=1.2, ls="--", label=f"mean {t['mean_kg']:.1f} kg")
+    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
+        ax.axvline(t[q], color="#555555", lw=1.0, ls=ls)
+    ax.plot([], [], color="#555555", ls=":", label=f"5 % and 95 %: {t['p5_kg']:.1f}, "
+            f"{t['p95_kg']:.1f} kg")
+    ax.set_xlabel("trip fuel [kg]")
+    ax.set_ylabel("number of samples")
+    ax.set_title(f"{study.name}: trip fuel spread\n{design_label(study, result.design.iloc[0])}",
+                 fontsize=10)
+    ax.legend(fontsize=8)
+    fig.tight_layout()
+    for ext in ("png", "svg"):
+        fig.savefig(folder / f"trip_fuel_spread.{ext}", dpi=130)
+    plt.close(fig)
+
+    c = result.constraints
+    fig, ax = plt.subplots(figsize=(7, 0.45 * len(c) + 1.4))
+    y = np.arange(len(c))[::-1]
+    p = c["probability_met"].to_numpy(float)
+    err = np.vstack([p - c["probability_low_95"].to_numpy(float),
+                     c["probability_high_95"].to_numpy(float) - p])
+    colours = ["#2e8b57" if v >= 0.95 else ("#e0a030" if v >= 0.5 else "#c0392b") for v in p]
+    ax.barh(y, p, color=colours, xerr=err, capsize=3)
+    ax.set_yticks(y, c["constraint"])
+    ax.set_xlim(0, 1.05)
+    ax.set_xlabel("probability the constraint is met [-] (whiskers: Wilson 95 % interval)")
+    ax.set_title(f"{study.name}: probability each constraint is met", fontsize=10)
+    for yi, v in zip(y, p):
+        ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
+    fig.tight_layout()
+    for ext in ("png", "svg"):
+        fig.savefig(folder / f"constraint_probability.{ext}", dpi=130)
+    plt.close(fig)
