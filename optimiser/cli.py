@@ -144,16 +144,49 @@ def cmd_run(args):
 
 
 def cmd_resume(args):
-    from .runs import resume, summary_text
+    from .runs import load_checkpoint, resume, summary_text
     from .study import parse_study
 
     def go():
         result = resume(args.run_dir, progress=True)
-        study = parse_study((Path(args.run_dir) / "study.toml").read_text("utf-8"),
-                            str(Path(args.run_dir) / "study.toml"))
+        state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
+        study = parse_study(state.study_text, state.study_path)
         print(summary_text(study, result))
         return 0
     return _run_errors(go)
+
+
+def _decide_errors(fn, args):
+    from .decide import DecideError
+    try:
+        return fn(args)
+    except DecideError as exc:
+        raise UserError(str(exc)) from None
+
+
+def cmd_pick(args):
+    from .cli_decide import run_pick
+    return _decide_errors(run_pick, args)
+
+
+def cmd_flaps(args):
+    from .cli_decide import run_flaps
+    return _decide_errors(run_flaps, args)
+
+
+def cmd_report(args):
+    from .cli_decide import run_report
+    return _decide_errors(run_report, args)
+
+
+def cmd_sweep(args):
+    from .cli_campaign import cmd_sweep as run_sweep
+    return _run_errors(lambda: run_sweep(args))
+
+
+def cmd_robust(args):
+    from .cli_campaign import cmd_robust as run_robust
+    return run_robust(args)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -195,6 +228,11 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")
     s.add_argument("run_dir", metavar="RUN_DIR", help="the run folder")
     s.set_defaults(func=cmd_resume)
+    from .cli_decide import add_parsers
+    add_parsers(sub, cmd_pick, cmd_flaps, cmd_report)
+    from .cli_campaign import add_robust_parser, add_sweep_parser
+    add_sweep_parser(sub).set_defaults(func=cmd_sweep)
+    add_robust_parser(sub).set_defaults(func=cmd_robust)
     return p
 
 
