@@ -210,3 +210,24 @@ def test_front_reaches_dense_reference_and_beats_random(study, tmp_path):
     # 0.9 of a dense enumeration's hypervolume: the threshold set for this project
     assert hv >= 0.9 * hv_ref
     assert hv > hv_random
+
+
+def test_readme_first_command_on_a_small_budget(tmp_path):
+    # the README's quick start runs `optimiser run` on the bundled default study; here the
+    # same command with a 3-generation budget, from an empty folder, as a user would
+    import subprocess
+    import sys
+
+    from optimiser.evaluation import CAUTION
+    proc = subprocess.run([sys.executable, "-m", "optimiser", "run", "--gens", "3"],
+                          cwd=tmp_path, capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    runs = list((tmp_path / "results").glob("high-strip-utility-*"))
+    assert len(runs) == 1
+    front = pd.read_csv(runs[0] / "front.csv")
+    assert len(front) >= 1 and front["feasible"].all()
+    assert CAUTION in proc.stdout
+    # 3 generations of the default study's budget: population 120 split over its 6 flap
+    # options (20 each, the study's own numbers)
+    info = json.loads((runs[0] / "run.json").read_text())
+    assert info["n_evaluations"] == 3 * 120
