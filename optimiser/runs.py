@@ -164,6 +164,27 @@ def _csv_text(frame) -> str:
     return frame.to_csv(index=False)  # full-precision floats: values read back exactly
 
 
+def _csv_body(frame) -> str:
+    """CSV rows of ``frame`` without a header, byte-identical to ``frame.to_csv(index=False,
+    header=False)`` (floats by repr, exact on read-back) but about twice as fast; falls back
+    to pandas when a text cell would need quoting."""
+    cols = []
+    for name in frame.columns:
+        v = frame[name].to_numpy()
+        if v.dtype.kind == "f":
+            cols.append(["" if x != x else repr(x) for x in v.tolist()])
+        elif v.dtype.kind == "b":
+            cols.append(["True" if x else "False" for x in v.tolist()])
+        elif v.dtype.kind in "iu":
+            cols.append([str(x) for x in v.tolist()])
+        else:
+            cells = [str(x) for x in v.tolist()]
+            if any(("," in c) or ('"' in c) or ("\n" in c) for c in cells):
+                return frame.to_csv(index=False, header=False)
+            cols.append(cells)
+    return "".join(",".join(row) + "\n" for row in zip(*cols))
+
+
 def _append(path: Path, text: str) -> int:
     try:
         with open(path, "a", encoding="utf-8", newline="") as fh:
@@ -439,7 +460,7 @@ def _one_generation(study, state, run_dir):
     elif state.best_hv > 0:
         state.stall += 1
     state.archive_bytes = _append(run_dir / "evaluations.csv",
-                                  frame.to_csv(index=False, header=False))
+                                  _csv_body(frame))
     row = _history_row(study, state, int(feas.sum()), hv)
     state.history_bytes = _append(run_dir / "history.csv",
                                   pd.DataFrame([row]).to_csv(index=False, header=False))
