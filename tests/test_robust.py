@@ -108,8 +108,14 @@ def test_bad_overrides_are_refused(overrides, message):
                      overrides=overrides)
 
 
+def _without_uncertainty(path) -> str:
+    """The study text with its own [uncertainty] table (if any) taken out."""
+    import re
+    return re.sub(r"(?ms)^\[uncertainty\][^\n]*\n.*?(?=^\[)", "", path.read_text("utf-8"))
+
+
 def _study_with(table: str, path=STRIP):
-    return parse_study(path.read_text("utf-8") + "\n[uncertainty]\n" + table, str(path))
+    return parse_study(_without_uncertainty(path) + "\n[uncertainty]\n" + table, str(path))
 
 
 def test_zero_spread_gives_the_deterministic_answer():
@@ -187,7 +193,7 @@ def test_propeller_efficiency_refused_for_a_turbofan():
 
 def test_robust_command_writes_its_files_and_refuses_bad_input(tmp_path):
     study = tmp_path / "strip.toml"
-    study.write_text(STRIP.read_text("utf-8") + """
+    study.write_text(_without_uncertainty(STRIP) + """
 [uncertainty]
 samples = 3000
 seed = 5
