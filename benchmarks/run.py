@@ -40,7 +40,7 @@ os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 import numpy as np  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
-STUDIES = ("high_strip_utility", "twin_turboprop_commuter", "light_twin_jet")
+STUDIES = ["high_strip_utility", "twin_turboprop_commuter", "light_twin_jet"]
 ROWS: list[dict] = []
 
 
@@ -271,11 +271,16 @@ def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="fewer repeats and budgets")
     ap.add_argument("--parts", default="model,overhead,quality,scaling,memory")
+    ap.add_argument("--studies", default=",".join(STUDIES),
+                    help="demo studies for the model and quality parts")
     args = ap.parse_args()
     repeats = 3 if args.quick else 5
+    STUDIES[:] = args.studies.split(",")
     parts = args.parts.split(",")
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, python "
           f"{platform.python_version()}, numpy {np.__version__}; {time.strftime('%Y-%m-%d')}")
+    if "memory" in parts:  # first: a child process inherits its parent's peak memory figure
+        part_memory()
     if "model" in parts:
         part_model(repeats)
     if "overhead" in parts:
@@ -285,10 +290,13 @@ def main():
                      40 if args.quick else 60)
     if "scaling" in parts:
         part_scaling(1 if args.quick else 3)
-    if "memory" in parts:
-        part_memory()
     import csv
     out = ROOT / "benchmarks" / "results.csv"
+    kept = []
+    if out.exists():  # keep the rows of the parts not run this time
+        with open(out, newline="") as fh:
+            kept = [r for r in csv.DictReader(fh) if r["part"] not in parts]
+    ROWS[:0] = kept
     with open(out, "w", newline="") as fh:
         w = csv.DictWriter(fh, fieldnames=["part", "item", "value", "unit", "goal", "met"])
         w.writeheader()

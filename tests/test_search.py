@@ -227,10 +227,10 @@ def test_readme_first_command_on_a_small_budget(tmp_path):
     front = pd.read_csv(runs[0] / "front.csv")
     assert len(front) >= 1 and front["feasible"].all()
     assert CAUTION in proc.stdout
-    # 3 generations of the default study's budget: population 120 split over its 6 flap
-    # options (20 each, the study's own numbers)
+    # 3 generations of the default study's budget: population 240 split over its 6 flap
+    # options (40 each, the study's own numbers)
     info = json.loads((runs[0] / "run.json").read_text())
-    assert info["n_evaluations"] == 3 * 120
+    assert info["n_evaluations"] == 3 * 240
 
 
 def test_archive_rows_are_byte_identical_to_pandas(study):
