@@ -400,11 +400,14 @@ def _update_least(study, state, frame):
     import pandas as pd
     from .search import total_violation
     from .sizing import active_constraints
-    f = frame.copy()
-    f.insert(0, "total_violation", total_violation(frame, study))
-    cand = f if state.least is None else pd.concat([state.least, f], ignore_index=True)
-    state.least = cand.sort_values("total_violation", kind="stable").head(
-        LEAST_VIOLATING_ROWS).reset_index(drop=True)
+    # the least-violating table is only written when nothing feasible is found: once a
+    # feasible front exists it is no longer kept up to date (it is never read again)
+    if state.front is None or len(state.front) == 0:
+        f = frame.copy()
+        f.insert(0, "total_violation", total_violation(frame, study))
+        cand = f if state.least is None else pd.concat([state.least, f], ignore_index=True)
+        state.least = cand.sort_values("total_violation", kind="stable").head(
+            LEAST_VIOLATING_ROWS).reset_index(drop=True)
     for c in active_constraints(study.spec):
         m = float(np.nanmax(frame[f"margin_{c}"].to_numpy(float)))
         state.best_margin[c] = max(state.best_margin.get(c, -math.inf), m)
