@@ -359,7 +359,6 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # --- stall ---
     vs_landing_sl = performance.stall_speed(ws_c, atm.RHO0, cl_l)
     vs_to = performance.stall_speed(ws_c, rho_to, cl_to)
-    vs_clean_to = performance.stall_speed(ws_c, rho_to, ad.cl_max_clean)
 
     # --- takeoff ---
     eng_to = _Propulsor(spec, rated, diameter, rho_to, t_to, p_to)

@@ -1,5 +1,11 @@
 """Campaigns: campaign files, study texts per combination, picking, price arithmetic, a small
-campaign on a Dask LocalCluster of 2 workers, and resume after an interruption."""
+campaign on a Dask LocalCluster of 2 workers, and resume after an interruption.
+
+Sources of the expected values: the price of a requirement is a finite difference along a sweep
+axis, checked against the same difference worked by hand here (definition); the epsilon-
+constraint picking rule follows Haimes, Lasdon & Wismer (1971) (from memory); the weighted-sum
+rule and the expected signs of the prices (a shorter field needs more engine, a faster cruise
+more fuel) are common practice."""
 
 import json
 import subprocess
@@ -10,7 +16,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from optimiser.campaign import (CampaignError, load_campaign, parse_campaign, pick_compromise,
+from optimiser.campaign import (CampaignError, load_campaign, pick_compromise,
                                 price_table, run_campaign, toml_text)
 from optimiser.evaluation import CAUTION, evaluate
 from optimiser.study import load_study, parse_study

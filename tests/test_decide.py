@@ -1,5 +1,11 @@
 """Decision support: the picking methods against hand-worked values and pymoo, hard limits,
-the pick and flaps commands, the design sheet and the HTML report file."""
+the pick and flaps commands, the design sheet and the HTML report file.
+
+Sources: pseudo-weights, Deb, "Multi-Objective Optimization Using Evolutionary Algorithms",
+Wiley, 2001 (from memory); the trade-off/knee measure, Deb & Gupta (2011) (from memory); the
+achievement scalarising function, Wierzbicki (1980) (from memory); each is also cross-checked
+against pymoo's implementation. The 1 % binding threshold is this tool's own convention
+(common practice)."""
 
 from __future__ import annotations
 
@@ -20,11 +26,6 @@ from optimiser.sizing import active_constraints
 from optimiser.study import bundled_study_path, load_study, parse_study
 
 TINY = dict(population=24, generations=5, plots=False)
-
-
-@pytest.fixture(scope="module")
-def study():
-    return load_study(bundled_study_path())
 
 
 @pytest.fixture(scope="module")

@@ -1,4 +1,8 @@
-"""Meta-tests: layer rule, documentation coverage, and the caution text."""
+"""Meta-tests: layer rule, documentation coverage, and the caution text.
+
+Source of the rules checked: the project's own DEVELOPERS.md (layers, documented keys and
+columns) and README caution; the method names dispatch as published (Nita & Scholz 2012,
+Obert 2009, McCormick 1995, Wieselsberger; from memory where DEVELOPERS.md says so)."""
 
 import subprocess
 import sys

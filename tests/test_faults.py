@@ -7,6 +7,10 @@ The hostile study cases themselves live in tests/test_study.py (``BAD``); here t
 Real full and read-only file systems are small tmpfs mounts (needs root and mount rights;
 those tests are skipped where mounting is not allowed, and the same code paths are also
 driven by monkeypatched functions that always run).
+
+Source of the expectations: the project's own rules (one-line errors, exit status 2, nothing
+saved is lost); the physics of the impossible designs (thrust below drag and friction cannot
+accelerate; a structure-plus-fuel fraction above one cannot close) is common practice.
 """
 
 from __future__ import annotations
@@ -35,11 +39,6 @@ from test_study import BAD, BAD_IDS, materialise  # noqa: E402  (the hostile cas
 
 PROBLEMS = Path(__file__).resolve().parents[1] / "problems"
 TINY = dict(population=8, generations=5, checkpoint_every=1)
-
-
-@pytest.fixture(scope="module")
-def study():
-    return load_study(bundled_study_path())
 
 
 @pytest.fixture(scope="module")

@@ -7,6 +7,10 @@ The kill inside a checkpoint write is made deterministic by the test hook
 ``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` (optimiser.runs.TEST_PAUSE_ENV): the child process
 sleeps after the temporary checkpoint file is complete and before it replaces checkpoint.pkl,
 and the test kills it while the temporary file is there.
+
+Source of the expectation: exact resume is this project's own requirement (same seed, same
+front); pymoo's per-algorithm random generator is pickled with it (common practice, measured
+in shared/PYMOO-NOTES.md).
 """
 
 from __future__ import annotations

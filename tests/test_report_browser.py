@@ -4,7 +4,11 @@ flap filters narrow the front to exactly the designs that pass them, and clickin
 shows its sheet and marks it on its constraint diagram.
 
 Skipped, with the reason, only where no browser can be started (.ci/run installs chromium,
-chromium-driver and selenium)."""
+chromium-driver and selenium).
+
+Source of the expected values: the designs that pass each filter and the numbers of the clicked
+design are computed in Python from the run's front.csv here (the report must show exactly those;
+common practice for an end-to-end check)."""
 
 from __future__ import annotations
 

@@ -3,6 +3,10 @@
 Expected values are computed independently here: the deterministic model with the spec value
 replaced (dataclasses.replace), root finding on a margin for the probability of a uniform
 factor, and the Wilson interval formula.
+
+Source: E. B. Wilson, "Probable inference, the law of succession, and statistical inference",
+J. Amer. Statist. Assoc. 22 (1927) 209-212 (from memory); the binomial standard error
+sqrt(p (1 - p) / n) is common practice.
 """
 
 import dataclasses as dc

@@ -15,14 +15,9 @@ from optimiser.cli import main
 from optimiser.evaluation import design_columns, size_frame
 from optimiser.runs import RunInterrupted, resume
 from optimiser.search import flap_indices, hypervolume, nondominated_mask, reference_scales
-from optimiser.study import bundled_study_path, load_study, parse_study
+from optimiser.study import bundled_study_path, parse_study
 
 TINY = dict(population=16, generations=6)
-
-
-@pytest.fixture(scope="module")
-def study():
-    return load_study(bundled_study_path())
 
 
 @pytest.fixture(scope="module")

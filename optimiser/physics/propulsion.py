@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .atmosphere import P0, RHO0, T0
+from .atmosphere import P0, T0
 
 
 def piston_power_lapse_gagg_ferrar(density_ratio):

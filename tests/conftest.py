@@ -1,0 +1,11 @@
+"""Shared fixtures."""
+
+import pytest
+
+from optimiser.study import bundled_study_path, load_study
+
+
+@pytest.fixture(scope="session")
+def study():
+    """The bundled default study (problems/high_strip_utility.toml)."""
+    return load_study(bundled_study_path())
