@@ -278,21 +278,21 @@ def _existing_ancestor(path: Path) -> Path:
     return p
 
 
-def _check_free_space(run_dir: Path, need_bytes, need_text=""):
+def _check_free_space(run_dir: Path, need_bytes, need_text="", label="--out "):
     """Refuse a run whose estimated output does not fit in the free space (before writing)."""
     if not need_bytes:
         return
     where = _existing_ancestor(run_dir)
     if not where.is_dir():
-        raise RunError(f"--out {run_dir}: {where} is a file, not a folder; expected a path "
+        raise RunError(f"{label}{run_dir}: {where} is a file, not a folder; expected a path "
                        "inside a writable folder")
     try:
         free = shutil.disk_usage(where).free
     except OSError as exc:
-        raise RunError(f"--out {run_dir}: cannot read the free space of {where} "
+        raise RunError(f"{label}{run_dir}: cannot read the free space of {where} "
                        f"({exc.strerror}); expected a writable folder") from None
     if free < need_bytes:
-        raise RunError(f"--out {run_dir}: only {_size_text(free)} free on {where}; the run "
+        raise RunError(f"{label}{run_dir}: only {_size_text(free)} free on {where}; the run "
                        f"needs an estimated {_size_text(need_bytes)}{need_text}; expected at "
                        "least that much free space (free some, or lower --gens, --pop or "
                        "--evals)")
@@ -323,13 +323,14 @@ def prepare_run_dir(out, study, force: bool, need_bytes=None, need_text="") -> P
     replaced, the free space must hold ``need_bytes`` (the run's estimated output) and the
     folder must take a probe file."""
     run_dir = Path(out) if out is not None else default_run_dir(study)
+    label = "--out " if out is not None else "run folder "
     if run_dir.exists() and not run_dir.is_dir():
-        raise RunError(f"--out {run_dir}: is a file; expected a folder for the run")
+        raise RunError(f"{label}{run_dir}: is a file; expected a folder for the run")
     if run_dir.is_dir() and any(run_dir.iterdir()):
         if not force:
-            raise RunError(f"--out {run_dir}: folder exists and is not empty; expected a new "
+            raise RunError(f"{label}{run_dir}: folder exists and is not empty; expected a new "
                            "or empty folder (use --force to replace the run files in it)")
-    _check_free_space(run_dir, need_bytes, need_text)
+    _check_free_space(run_dir, need_bytes, need_text, label)
     created = []
     if not run_dir.is_dir():
         p = Path(os.path.abspath(run_dir))
@@ -339,10 +340,10 @@ def prepare_run_dir(out, study, force: bool, need_bytes=None, need_text="") -> P
     try:
         run_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise RunError(f"--out {run_dir}: cannot create the folder ({exc.strerror}); "
+        raise RunError(f"{label}{run_dir}: cannot create the folder ({exc.strerror}); "
                        "expected a path inside a writable folder") from None
     try:
-        _probe_writable(run_dir)
+        _probe_writable(run_dir, label)
     except RunError:
         for p in created:  # innermost first: remove only the empty folders made here
             try:
