@@ -268,7 +268,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
             "<section id='flaps'><h2>Flap options compared</h2>"
             "<p>Each flap option had its own NSGA-II with the same population, generations and "
             "seed stream, under the same constraints. Penalties are against the option with the "
-            "largest hypervolume (the reference), along the trip fuel vs engine size fronts: "
+            "best trip fuel vs engine size front (the reference), along those fronts: "
             "the mean, over the engine sizes from where both options have a design, of the "
             "smallest trip fuel each reaches with an engine no larger than that (and the same "
             "with the roles swapped); positive = worse than the reference.</p>"

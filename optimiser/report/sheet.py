@@ -174,8 +174,10 @@ FLAP_COLUMNS_DOC = {
                                "are this option's",
     "hypervolume": "hypervolume of the option's own front, normalised objectives, the run's "
                    "fixed reference point",
-    "reference_option": "the option with the largest hypervolume, against which penalties are "
-                        "measured",
+    "reference_option": "the option with the best trip fuel vs engine size front (largest "
+                        "hypervolume in that plane), against which penalties are measured",
+    "fuel_engine_hypervolume": "hypervolume of the option's trip fuel vs engine size front, "
+                               "normalised over all options (reference point 1.1, 1.1)",
     "extra_trip_fuel_at_equal_engine_kg": "mean, over engine sizes E from where both options "
                                           "have a design to the larger of their largest, of the "
                                           "smallest trip fuel this option reaches with an engine "
