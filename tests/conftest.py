@@ -1,4 +1,7 @@
-"""Shared fixtures."""
+"""Shared fixtures.
+
+Source: none needed here; this file asserts no values (each test module names the
+sources of the values it checks)."""
 
 import pytest
 

@@ -412,14 +412,19 @@ def test_damaged_checkpoint_is_one_line(reference, tmp_path, capsys):
     assert {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()} == before
 
 
-def test_archive_shorter_than_the_checkpoint_is_one_line(study, tmp_path, capsys):
+def _interrupted_at_generation_2(study, out):
+    """A tiny run of ``study`` stopped (as by Ctrl-C) after its second generation."""
     def stop(row, state):
         if row["generation"] == 2:
             raise KeyboardInterrupt
 
-    out = tmp_path / "run"
     with pytest.raises(runs.RunInterrupted):
         optimiser.optimise(study, out=out, plots=False, progress=stop, **TINY)
+    return out
+
+
+def test_archive_shorter_than_the_checkpoint_is_one_line(study, tmp_path, capsys):
+    out = _interrupted_at_generation_2(study, tmp_path / "run")
     data = (out / "evaluations.csv").read_bytes()
     (out / "evaluations.csv").write_bytes(data[:-10])
     assert main(["resume", str(out)]) == 2
@@ -430,13 +435,7 @@ def test_archive_shorter_than_the_checkpoint_is_one_line(study, tmp_path, capsys
 
 def test_study_in_the_checkpoint_is_used_not_a_later_edit(study, reference, tmp_path):
     # editing study.toml in the run folder after an interruption does not change the run
-    def stop(row, state):
-        if row["generation"] == 2:
-            raise KeyboardInterrupt
-
-    out = tmp_path / "run"
-    with pytest.raises(runs.RunInterrupted):
-        optimiser.optimise(study, out=out, plots=False, progress=stop, **TINY)
+    out = _interrupted_at_generation_2(study, tmp_path / "run")
     (out / "study.toml").write_text("this is not a study\n")
     resume(out, plots=False)
     same_run_outputs(out, reference)
