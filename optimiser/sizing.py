@@ -424,8 +424,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # --- climb (clean, gear up, climb power) ---
     def best_climb(h, dt, ix=slice(None)):
         """Best all-engines rate of climb [m/s] (clean, climb power) at altitude h for ``ix``."""
-        rho, _, t_h = atm._density_unchecked(h, dt)
-        p_h = atm.isa_pressure(np.clip(h, atm.H_MIN, atm.H_MAX))
+        rho, p_h, t_h = atm._density_unchecked(h, dt)
         ws_i, w_i, k_i, cd0_h = ws_c[ix], w[ix], k_low[ix], _at(cd0, ix)
         eng = _Propulsor(spec, rated[ix], None if diameter is None else diameter[ix], rho, t_h,
                          p_h, pr.climb_power_fraction)
