@@ -3,7 +3,8 @@
 A run folder holds ``study.toml`` (the study text), ``run.json`` (versions, seed, budget,
 termination, counts, the hypervolume reference, the caution), ``front.csv`` (the feasible
 non-dominated designs over all flap options, every evaluate column), ``evaluations.csv``
-(every evaluated design with its generation and flap option, appended each generation),
+(every evaluated design: generation, inputs, flap, objectives, a summary, margins and
+feasibility, appended each generation; see :func:`archive_columns`),
 ``history.csv`` (per generation: evaluations, feasible count, hypervolume, best of each
 objective), ``checkpoint.pkl`` (the whole run state) and ``plots/``. When no design is
 feasible, ``least_violating.csv`` replaces ``front.csv``.
@@ -47,7 +48,7 @@ CHECKPOINT = "checkpoint.pkl"
 RUN_FILES = ("study.toml", "run.json", "front.csv", "evaluations.csv", "history.csv",
              "least_violating.csv", CHECKPOINT)
 LEAST_VIOLATING_ROWS = 20
-CHECKPOINT_FORMAT = 1
+CHECKPOINT_FORMAT = 2
 
 
 class RunError(Exception):
@@ -94,6 +95,36 @@ class Budget:
 
 
 @dataclass
+class DesignSet:
+    """Designs kept by the loop as plain arrays: the inputs (``designs``: wing loading,
+    loading, aspect ratio per row), flap index, generation, objectives ``F`` and a ``key``
+    (the total violation of the least-violating set; unused for the front). Every other
+    column is sized again from the inputs when the run's tables are written (the model is
+    deterministic per design, so the numbers are those of the loop)."""
+
+    designs: np.ndarray
+    flap: np.ndarray
+    generation: np.ndarray
+    F: np.ndarray
+    key: np.ndarray
+
+    def __len__(self):
+        return len(self.flap)
+
+    def take(self, index) -> "DesignSet":
+        return DesignSet(self.designs[index], self.flap[index], self.generation[index],
+                         self.F[index], self.key[index])
+
+    def joined(self, other: "DesignSet | None") -> "DesignSet":
+        """This set followed by ``other`` (rows in that order)."""
+        if other is None:
+            return self
+        return DesignSet(*(np.concatenate([a, b]) for a, b in zip(
+            (self.designs, self.flap, self.generation, self.F, self.key),
+            (other.designs, other.flap, other.generation, other.F, other.key))))
+
+
+@dataclass
 class RunState:
     """Everything a run needs to continue; pickled whole as the checkpoint."""
 
@@ -107,8 +138,8 @@ class RunState:
     generation: int = 0
     n_evaluations: int = 0
     n_feasible: int = 0
-    front: object = None             # DataFrame of the merged feasible non-dominated designs
-    least: object = None             # DataFrame of the least-violating designs so far
+    front: object = None             # DesignSet: the merged feasible non-dominated designs
+    least: object = None             # DesignSet: the least-violating designs so far
     best_margin: dict = field(default_factory=dict)
     best_hv: float = 0.0
     stall: int = 0
@@ -164,25 +195,60 @@ def _csv_text(frame) -> str:
     return frame.to_csv(index=False)  # full-precision floats: values read back exactly
 
 
-def _csv_body(frame) -> str:
-    """CSV rows of ``frame`` without a header, byte-identical to ``frame.to_csv(index=False,
-    header=False)`` (floats by repr, exact on read-back) but about twice as fast; falls back
-    to pandas when a text cell would need quoting."""
-    cols = []
-    for name in frame.columns:
-        v = frame[name].to_numpy()
-        if v.dtype.kind == "f":
-            cols.append(["" if x != x else repr(x) for x in v.tolist()])
-        elif v.dtype.kind == "b":
-            cols.append(["True" if x else "False" for x in v.tolist()])
-        elif v.dtype.kind in "iu":
-            cols.append([str(x) for x in v.tolist()])
-        else:
-            cells = [str(x) for x in v.tolist()]
-            if any(("," in c) or ('"' in c) or ("\n" in c) for c in cells):
-                return frame.to_csv(index=False, header=False)
-            cols.append(cells)
-    return "".join(",".join(row) + "\n" for row in zip(*cols))
+ARCHIVE_SUMMARY_COLUMNS = (
+    "takeoff_mass_kg", "empty_mass_kg", "fuel_mass_kg", "trip_fuel_kg", "wing_area_m2",
+    "span_m", "engine_power_kW", "engine_thrust_kN", "maintenance_index", "stall_speed_m_s",
+    "takeoff_field_required_m", "landing_distance_m", "climb_rate_m_s", "cruise_speed_m_s",
+    "service_ceiling_m")
+"""Sized numbers the archive keeps beside the inputs, objectives and margins (those the
+model gives for the study's propulsion family)."""
+
+ARCHIVE_DIGITS = 10
+"""Significant digits of the archive's derived numbers; inputs and objectives are written
+exactly (shortest repr that reads back to the same float)."""
+
+
+def archive_columns(study, sized_keys) -> tuple[list[str], list[str]]:
+    """Columns of ``evaluations.csv`` and their printf formats, for a study whose
+    :func:`~optimiser.sizing.size_designs` output has the keys ``sized_keys``.
+
+    generation, the inputs, flap, the objectives, a summary of the sized design, one margin
+    per active constraint, feasible and the limiting constraint. Every other column of the
+    evaluate table follows from the inputs: ``optimiser evaluate STUDY --designs
+    evaluations.csv`` sizes them again (the model is deterministic)."""
+    from .evaluation import design_columns
+    from .sizing import active_constraints
+    inputs = list(design_columns(study)[:3])
+    objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
+    summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c in sized_keys and c not in objectives]
+    margins = [f"margin_{c}" for c in active_constraints(study.spec)]
+    cols = ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
+            "limiting_constraint"]
+    formats = ["%d", *["%r"] * 3, "%s", *["%r"] * len(objectives),
+               *[f"%.{ARCHIVE_DIGITS}g"] * (len(summary) + len(margins)), "%s", "%s"]
+    return cols, formats
+
+
+def archive_text(study, generation, ws, load, ar, flap, sized) -> str:
+    """Rows of ``evaluations.csv`` (no header) for one generation of sized designs
+    (``sized``: the dict of :func:`~optimiser.sizing.size_designs`)."""
+    from .sizing import active_constraints
+    cols, formats = archive_columns(study, sized)
+    names = np.asarray(study.spec.high_lift_names, dtype=object)
+    limiting = np.asarray(active_constraints(study.spec), dtype=object)
+    n = len(ws)
+    source = {
+        "generation": [int(generation)] * n,
+        cols[1]: np.asarray(ws, float).tolist(),
+        cols[2]: np.asarray(load, float).tolist(),
+        cols[3]: np.asarray(ar, float).tolist(),
+        "flap": names[np.asarray(flap, int)].tolist(),
+        "feasible": ["True" if f else "False" for f in np.asarray(sized["feasible"]).tolist()],
+        "limiting_constraint": limiting[np.asarray(sized["limiting_index"], int)].tolist(),
+    }
+    values = [source[c] if c in source else np.asarray(sized[c], float).tolist() for c in cols]
+    row = ",".join(formats) + "\n"
+    return "".join([row % r for r in zip(*values)])
 
 
 def _append(path: Path, text: str) -> int:
@@ -387,30 +453,27 @@ def _objective_cols(study):
     return list(study.objective_columns())
 
 
-def _merge_front(study, front, new):
-    import pandas as pd
-    from .search import nondominated_mask
-    cand = new if front is None or len(front) == 0 else pd.concat([front, new], ignore_index=True)
-    if len(cand) == 0:
-        return cand
-    mask = nondominated_mask(cand[_objective_cols(study)].to_numpy(float))
-    return cand[mask].reset_index(drop=True)
+def _merge_front(front, new: DesignSet) -> DesignSet:
+    """The feasible non-dominated designs of ``front`` followed by ``new``."""
+    from .search import merge_nondominated, nondominated_mask
+    if front is None or len(front) == 0:
+        return new.take(nondominated_mask(new.F))
+    keep_old, keep_new = merge_nondominated(front.F, new.F)
+    return front.take(keep_old).joined(new.take(keep_new))
 
 
-def _update_least(study, state, frame):
-    import pandas as pd
-    from .search import total_violation
+def _update_least(study, state, gen_set: DesignSet, G):
+    """Keep the least-violating designs (until a front exists) and the best margin reached
+    per constraint."""
     from .sizing import active_constraints
     # the least-violating table is only written when nothing feasible is found: once a
     # feasible front exists it is no longer kept up to date (it is never read again)
     if state.front is None or len(state.front) == 0:
-        f = frame.copy()
-        f.insert(0, "total_violation", total_violation(frame, study))
-        cand = f if state.least is None else pd.concat([state.least, f], ignore_index=True)
-        state.least = cand.sort_values("total_violation", kind="stable").head(
-            LEAST_VIOLATING_ROWS).reset_index(drop=True)
-    for c in active_constraints(study.spec):
-        m = float(np.nanmax(frame[f"margin_{c}"].to_numpy(float)))
+        cand = gen_set if state.least is None else state.least.joined(gen_set)
+        order = np.argsort(cand.key, kind="stable")[:LEAST_VIOLATING_ROWS]
+        state.least = cand.take(order)
+    best = (-G).max(axis=0)
+    for c, m in zip(active_constraints(study.spec), best.tolist()):
         state.best_margin[c] = max(state.best_margin.get(c, -math.inf), m)
 
 
@@ -419,28 +482,37 @@ def _history_row(study, state, n_feasible_gen, hv):
            "feasible_in_generation": n_feasible_gen, "feasible_total": state.n_feasible,
            "front_size": 0 if state.front is None else len(state.front),
            "hypervolume": hv}
-    for c in _objective_cols(study):
-        row[f"best_{c}"] = (float(state.front[c].min()) if state.front is not None
-                            and len(state.front) else float("nan"))
+    have = state.front is not None and len(state.front)
+    best = state.front.F.min(axis=0).tolist() if have else None
+    for j, c in enumerate(_objective_cols(study)):
+        row[f"best_{c}"] = float(best[j]) if have else float("nan")
     row["elapsed_s"] = round(state.elapsed_s, 3)
     return row
 
 
+def _history_text(row) -> str:
+    """One history.csv row, as pandas writes it (floats by repr, NaN empty)."""
+    cells = []
+    for v in row.values():
+        if isinstance(v, float):
+            cells.append("" if v != v else repr(v))
+        else:
+            cells.append(str(v))
+    return ",".join(cells) + "\n"
+
+
 def _one_generation(study, state, run_dir):
     """Ask, evaluate and tell every option once; append the archive and the history."""
-    import pandas as pd
-    from .search import hypervolume
-    import numpy as np
-    from .evaluation import size_frame
-    from .search import design_arrays, objectives_and_constraints
+    from .search import design_arrays, hypervolume, objectives_and_constraints
+    from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
     pops = [algo.ask() for algo in state.algos]
     sizes = [len(p) for p in pops]
     X = np.vstack([p.get("X") for p in pops])
     flap = np.repeat([algo.problem.flap_index for algo in state.algos], sizes)
     ws, load, ar = design_arrays(study, X)
-    frame = size_frame(study, ws, load, ar, flap)
-    F, G = objectives_and_constraints(study, frame)
+    sized = size_designs(study.spec, ws, load, ar, flap)
+    F, G = objectives_and_constraints(study, sized)
     start = 0
     for algo, pop, n in zip(state.algos, pops, sizes):
         pop.set("F", F[start:start + n], "G", G[start:start + n])
@@ -448,15 +520,18 @@ def _one_generation(study, state, run_dir):
         algo.evaluator.n_eval += n
         algo.tell(infills=pop)
         start += n
-    frame.insert(0, "generation", state.generation + 1)
     state.generation += 1
-    state.n_evaluations += len(frame)
-    feas = frame["feasible"].to_numpy(bool)
-    state.n_feasible += int(feas.sum())
-    if feas.any():
-        state.front = _merge_front(study, state.front, frame[feas])
-    _update_least(study, state, frame)
-    hv = hypervolume(state.front[_objective_cols(study)].to_numpy(float), state.scales) \
+    n_gen = len(ws)
+    state.n_evaluations += n_gen
+    feas = np.asarray(sized["feasible"], bool)
+    n_feas = int(feas.sum())
+    state.n_feasible += n_feas
+    gen_set = DesignSet(np.column_stack([ws, load, ar]), flap,
+                        np.full(n_gen, state.generation), F, np.maximum(G, 0.0).sum(axis=1))
+    if n_feas:
+        state.front = _merge_front(state.front, gen_set.take(feas))
+    _update_least(study, state, gen_set, G)
+    hv = hypervolume(state.front.F, state.scales) \
         if state.front is not None and len(state.front) else 0.0
     if hv > state.best_hv * (1 + 1e-9) and hv > 0:
         state.best_hv = hv
@@ -464,10 +539,10 @@ def _one_generation(study, state, run_dir):
     elif state.best_hv > 0:
         state.stall += 1
     state.archive_bytes = _append(run_dir / "evaluations.csv",
-                                  _csv_body(frame))
-    row = _history_row(study, state, int(feas.sum()), hv)
-    state.history_bytes = _append(run_dir / "history.csv",
-                                  pd.DataFrame([row]).to_csv(index=False, header=False))
+                                  archive_text(study, state.generation, ws, load, ar, flap,
+                                               sized))
+    row = _history_row(study, state, n_feas, hv)
+    state.history_bytes = _append(run_dir / "history.csv", _history_text(row))
     return row
 
 
@@ -600,19 +675,37 @@ def _best_lines(study, front):
     return out
 
 
+def _designs_table(study, kept: DesignSet):
+    """The design inputs of ``kept`` as a designs table (flap by name)."""
+    import pandas as pd
+    from .evaluation import design_columns
+    names = np.asarray(study.spec.high_lift_names, dtype=object)
+    cols = design_columns(study)
+    return pd.DataFrame({cols[0]: kept.designs[:, 0], cols[1]: kept.designs[:, 1],
+                         cols[2]: kept.designs[:, 2], cols[3]: names[kept.flap]})
+
+
+def _least_table(study, least: DesignSet):
+    """The least-violating designs sized again, with their total violation and generation."""
+    from .evaluation import size_frame
+    d = least.designs
+    table = size_frame(study, d[:, 0], d[:, 1], d[:, 2], least.flap)
+    table.insert(0, "generation", least.generation)
+    table.insert(0, "total_violation", least.key)
+    return table
+
+
 def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
     """Write front.csv (or least_violating.csv), run.json and the plots; build the result."""
     import pandas as pd
-    from .evaluation import design_columns, evaluate
+    from .evaluation import evaluate
     history = pd.read_csv(run_dir / "history.csv")
     ended = utc_now()
     feasible_found = state.front is not None and len(state.front) > 0
     least = None
     if feasible_found:
-        front = state.front.copy()
-        check = evaluate(study, front[list(design_columns(study))])
-        front["within_bounds"] = check["within_bounds"].to_numpy()
-        front["outside_bounds"] = check["outside_bounds"].to_numpy()
+        front = evaluate(study, _designs_table(study, state.front))
+        front.insert(0, "generation", state.front.generation)
         front = front.sort_values(_objective_cols(study), kind="stable").reset_index(drop=True)
         write_atomic(run_dir / "front.csv", _csv_text(front).encode())
         (run_dir / "least_violating.csv").unlink(missing_ok=True)
@@ -620,8 +713,8 @@ def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
                    f"evaluations ({state.n_feasible} feasible); "
                    f"{TERMINATION_TEXT[state.termination]}")
     else:
-        front = pd.DataFrame(columns=list(state.least.columns[1:]))
-        least = state.least
+        least = _least_table(study, state.least)
+        front = pd.DataFrame(columns=list(least.columns[1:]))
         write_atomic(run_dir / "least_violating.csv", _csv_text(least).encode())
         (run_dir / "front.csv").unlink(missing_ok=True)
         worst = min(state.best_margin, key=state.best_margin.get)
@@ -692,14 +785,28 @@ SPACE_SAFETY_FACTOR = 1.5      # common practice: head-room over an estimate of 
 PLOTS_ALLOWANCE_BYTES = 5e6    # the plots of a run measured about 1.1 MB; rounded up (ours)
 
 
-def estimate_output_bytes(study, state: RunState, frame0) -> tuple[int, str]:
+def _archive_row_bytes(study, gens, sized0) -> int:
+    """An upper bound of the bytes of one evaluations.csv row: 24 per exact float (the
+    longest repr of a float), 17 per 10-digit number, the longest text of each text column."""
+    from .sizing import active_constraints
+    cols, formats = archive_columns(study, sized0)
+    longest = {"flap": max(map(len, study.spec.high_lift_names)),
+               "feasible": len("False"),
+               "limiting_constraint": max(map(len, active_constraints(study.spec)))}
+    width = {"%d": len(str(gens)), "%r": 24, f"%.{ARCHIVE_DIGITS}g": ARCHIVE_DIGITS + 7}
+    return sum(longest[c] if f == "%s" else width[f] for c, f in zip(cols, formats)) \
+        + len(cols)
+
+
+def estimate_output_bytes(study, state: RunState, frame0, sized0) -> tuple[int, str]:
     """What a run will write at most (bytes, with the safety factor) and a short account.
 
     Rows of evaluations.csv: generations x designs per generation, fewer if --evals stops it
     earlier; with --time, also at most the time budget x the measured sizing rate (an upper
-    bound: the search adds its own time). Bytes per row: one sized row written as CSV, plus
-    the generation. Checkpoints: the initial pickle plus the front and least-violating tables
-    it will carry (up to 20 x population rows, ours), twice (temporary file and old file).
+    bound: the search adds its own time). Bytes per row: :func:`_archive_row_bytes`.
+    Checkpoints: the initial pickle plus the designs of the front and least-violating sets it
+    will carry (up to 20 x population rows, ours), twice (temporary file and old file); the
+    front table: those rows with every evaluate column (``frame0``: one sized row).
     """
     b = state.budget
     per_gen = b.option_population * len(study.flaps)
@@ -719,12 +826,13 @@ def estimate_output_bytes(study, state: RunState, frame0) -> tuple[int, str]:
         rate = per_gen / max(time.perf_counter() - t0, 1e-6)
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))
-    row_bytes = len(frame0.to_csv(index=False, header=False).encode()) + 8
+    row_bytes = _archive_row_bytes(study, gens, sized0)
+    full_row_bytes = len(frame0.to_csv(index=False, header=False).encode()) + 8
     front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS
     checkpoint = len(pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL)) \
-        + front_rows * row_bytes
+        + front_rows * 8 * (6 + len(_objective_cols(study)))
     history = (gens + 1) * 40 * (8 + len(_objective_cols(study)))
-    total = (rows * row_bytes + history + 2 * checkpoint + front_rows * row_bytes
+    total = (rows * row_bytes + history + 2 * checkpoint + front_rows * full_row_bytes
              + PLOTS_ALLOWANCE_BYTES) * SPACE_SAFETY_FACTOR
     text = (f" ({rows} rows of evaluations.csv of about {row_bytes} bytes, checkpoints, "
             f"front and plots, x{SPACE_SAFETY_FACTOR:g} head-room)")
@@ -771,12 +879,13 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
                      scales=reference_scales(study), started_utc=utc_now())
     from .evaluation import size_frame
     from .search import design_arrays, free_variables
-    # Headers: the archive's columns are those of size_frame, with the generation first.
+    from .sizing import size_designs
     x0 = np.array([[v.lower for v in free_variables(study)]])
     frame0 = size_frame(study, *design_arrays(study, x0), [0])
-    cols = ["generation"] + list(frame0.columns)
+    sized0 = size_designs(study.spec, *design_arrays(study, x0), [0])
+    cols, _ = archive_columns(study, sized0)
     hist_cols = list(_history_row(study, state, 0, 0.0))
-    need, need_text = estimate_output_bytes(study, state, frame0)
+    need, need_text = estimate_output_bytes(study, state, frame0, sized0)
     run_dir = prepare_run_dir(out, study, force, need_bytes=need, need_text=need_text)
     write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
     state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")

@@ -62,10 +62,12 @@ def design_arrays(study, X):
 
 
 def objectives_and_constraints(study, frame):
-    """F (objectives, minimised) and G (= -margin, <= 0 is met) from a sized frame."""
+    """F (objectives, minimised) and G (= -margin, <= 0 is met) from a sized frame (a
+    DataFrame, or the dict of arrays of :func:`~optimiser.sizing.size_designs`)."""
     from .sizing import active_constraints
-    F = frame[list(study.objective_columns())].to_numpy(float)
-    G = -frame[[f"margin_{c}" for c in active_constraints(study.spec)]].to_numpy(float)
+    F = np.column_stack([np.asarray(frame[c], float) for c in study.objective_columns()])
+    G = -np.column_stack([np.asarray(frame[f"margin_{c}"], float)
+                          for c in active_constraints(study.spec)])
     # A non-finite number must not reach the sorting: treat it as a large violation / a bad
     # objective (the sizing model returns finite numbers; this is a guard, not a path).
     G = np.where(np.isfinite(G), G, 1e6)
@@ -126,6 +128,39 @@ def nondominated_mask(F, chunk=512) -> np.ndarray:
     keep[:] = False
     keep[np.flatnonzero(unique)[~dominated]] = True
     return keep
+
+
+def merge_nondominated(F_old, F_new, chunk=2048):
+    """Masks (old, new) of the rows of ``vstack([F_old, F_new])`` that
+    :func:`nondominated_mask` keeps, for ``F_old`` already mutually non-dominated with no
+    identical rows (a front): O(n_old x n_new) instead of O((n_old + n_new)^2).
+
+    A new row equal to or dominated by an old one goes; the new rows left are thinned among
+    themselves; an old row goes when a new survivor dominates it (dominance is transitive,
+    so the survivors suffice)."""
+    F_old = np.asarray(F_old, float)
+    F_new = np.asarray(F_new, float)
+    keep_old = np.ones(len(F_old), bool)
+    keep_new = np.ones(len(F_new), bool)
+    if len(F_new) == 0 or len(F_old) == 0:
+        keep_new[:] = nondominated_mask(F_new) if len(F_new) else keep_new
+        return keep_old, keep_new
+    for a in range(0, len(F_old), chunk):
+        block = F_old[a:a + chunk]
+        covered = np.all(block[:, None, :] <= F_new[None, :, :], axis=2)
+        keep_new &= ~covered.any(axis=0)
+    survivors = np.flatnonzero(keep_new)
+    if survivors.size:
+        S = F_new[survivors]
+        inner = nondominated_mask(S)
+        keep_new[survivors[~inner]] = False
+        S = S[inner]
+        for a in range(0, len(F_old), chunk):
+            block = F_old[a:a + chunk]
+            le = np.all(S[None, :, :] <= block[:, None, :], axis=2)
+            lt = np.any(S[None, :, :] < block[:, None, :], axis=2)
+            keep_old[a:a + chunk] = ~np.any(le & lt, axis=1)
+    return keep_old, keep_new
 
 
 def reference_scales(study):
