@@ -148,12 +148,18 @@ class _Propulsor:
                                            _col(efficiency, speed), _col(self.static, speed))
 
 
-def _finite(values, shape):
-    """A float array of ``shape`` with no NaN or inf (a safety net: the model avoids them)."""
-    a = np.broadcast_to(np.asarray(values, dtype=float), shape)
-    if np.isfinite(a).all():
-        return np.array(a)
-    return np.nan_to_num(a, nan=0.0, posinf=1e12, neginf=-1e12)
+def _finite(values, shape, seen):
+    """A float array of ``shape`` with no NaN or inf (a safety net: the model avoids them).
+
+    An array of the right shape is returned as it is (no copy) unless it was already
+    returned for another key (``seen``: ids so far), so no two outputs share memory."""
+    a = np.asarray(values, dtype=float)
+    if a.shape != shape or id(a) in seen:
+        a = np.array(np.broadcast_to(a, shape))
+    if not np.isfinite(a).all():
+        a = np.nan_to_num(a, nan=0.0, posinf=1e12, neginf=-1e12)
+    seen.add(id(a))
+    return a
 
 
 def _col(x, like):
@@ -307,31 +313,42 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
                     m_wing=m_wing, m_eng=m_eng, m_hl=m_hl, m_rest=m_rest, rated=rated,
                     w_mid=w_mid, w_i=w_i)
 
-    # --- takeoff-mass closure: safeguarded Newton on the residual, bracketed, iterating
-    # only over the designs not yet converged ---
+    # --- takeoff-mass closure: secant steps on the residual, kept inside a bracket
+    # (bisection when a step leaves it), iterating only over the designs not yet converged;
+    # the residual is nearly linear in the mass, so a few steps suffice ---
     cap_kg = fixed_kg * wt.mass_limit_ratio
     cap = np.full_like(ws_c, cap_kg)
     r_cap = pieces(cap)["residual"]
     closes = r_cap > 0.0
-    m = np.full_like(ws_c, min(fixed_kg / 0.45, 0.5 * cap_kg))
     ia = np.flatnonzero(closes)
     lo = np.full(ia.size, fixed_kg * 1.0001)
     hi = np.full(ia.size, cap_kg)
+    # bracket ends' residuals for the fallback step (at the low end the residual is taken as
+    # -fixed mass, its limit for a vanishing airplane: a weight for the step, not a value)
+    r_lo, r_hi = np.full(ia.size, -fixed_kg), r_cap[ia]
+    # the first step is the classic fixed-fraction update m = fixed / (1 - (fuel + empty)
+    # / m): a secant through that same point (0, -fixed); the next ones use the last two
+    m_prev, r_prev = np.zeros(ia.size), np.full(ia.size, -fixed_kg)
+    m = np.full_like(ws_c, min(fixed_kg / 0.45, 0.5 * cap_kg))
     for _ in range(60):
         if ia.size == 0:
             break
         mi = m[ia]
         r = pieces(mi, ia)["residual"]
-        lo = np.where(r >= 0.0, lo, mi)  # a NaN residual (e.g. span below the fuselage
-        hi = np.where(r >= 0.0, mi, hi)  # diameter at this mass) counts as not yet closed
+        up = r >= 0.0  # a NaN residual (e.g. span below the fuselage diameter at this mass)
+        lo, r_lo = np.where(up, lo, mi), np.where(up, r_lo, np.nan_to_num(r, nan=-fixed_kg))
+        hi, r_hi = np.where(up, mi, hi), np.where(up, r, r_hi)  # counts as not yet closed
         todo = ~(np.abs(r) <= 1e-9 * mi)
         ia, mi, r, lo, hi = ia[todo], mi[todo], r[todo], lo[todo], hi[todo]
-        dm = 1e-7 * mi
-        slope = (pieces(mi + dm, ia)["residual"] - r) / dm
-        ok = slope > 1e-6
-        step = mi - r / np.where(ok, slope, 1.0)
-        inside = ok & (step > lo) & (step < hi)
-        m[ia] = np.where(inside, step, 0.5 * (lo + hi))
+        r_lo, r_hi, m_prev, r_prev = r_lo[todo], r_hi[todo], m_prev[todo], r_prev[todo]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = mi - r * (mi - m_prev) / (r - r_prev)
+            inside = (step > lo) & (step < hi)  # False for NaN
+            # outside the bracket: the false-position step between its ends, else bisection
+            fp = lo - r_lo * (hi - lo) / (r_hi - r_lo)
+        fp = np.where((fp > lo) & (fp < hi), fp, 0.5 * (lo + hi))
+        m_prev, r_prev = mi, r
+        m[ia] = np.where(inside, step, fp)
     converged = np.ones_like(closes)
     converged[ia] = False
     closes &= converged
@@ -485,18 +502,61 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
 
     v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
     v_low_alt = 1.1 * performance.stall_speed(ws_cr, rho_cr, ad.cl_max_clean)
-    f_md = excess(v_md)
-    can_fly = (f_md >= 0.0) | (excess(v_low_alt) >= 0.0)
+    f_md, f_low_alt = excess(v_md), excess(v_low_alt)
+    can_fly = (f_md >= 0.0) | (f_low_alt >= 0.0)
     v_start = np.where(f_md >= 0.0, v_md, v_low_alt)
+    f_start = np.where(f_md >= 0.0, f_md, f_low_alt)
+    # drag without wave drag: D/W = a_d V^2 + b_d / V^2
+    a_d = 0.5 * rho_cr * cd0 / ws_cr
+    b_d = 2.0 * k_cr * ws_cr / rho_cr
     if is_jet:
         t_max = eng_cr.thrust(np.full_like(ws_c, 1.0), 1.0) / w_cr
-        v_hi = np.sqrt(2.0 * t_max * ws_cr / (rho_cr * cd0)) * 1.05
+        v_free = np.sqrt(t_max / a_d)  # the speed with thrust = zero-lift drag
     else:
         t_max = eta_cr * eng_cr.power / w_cr  # [W/N]: thrust x speed per weight
-        v_hi = (2.0 * t_max * ws_cr / (rho_cr * cd0)) ** (1.0 / 3.0) * 1.05
-    v_hi = np.maximum(np.minimum(v_hi, 0.98 * a_cr), v_start * 1.0001)
-    f_start, f_hi = excess(v_start), excess(v_hi)
-    v_max = performance.falling_root(excess, v_start, v_hi, f_start, f_hi, xtol=1e-3)
+        v_free = (t_max / a_d) ** (1.0 / 3.0)
+    v_hi = np.maximum(np.minimum(v_free * 1.05, 0.98 * a_cr), v_start * 1.0001)
+    f_hi = excess(v_hi)
+    # A prediction of the root, then two evaluations 0.8 of the tolerance apart around it
+    # narrow the bracket (to within the tolerance when the prediction holds, as it does
+    # without wave drag and above the propeller's blend speed): the root solve then has
+    # little or nothing left to do. Propellers: largest root of a_d V^4 - (eta P / W) V + b_d
+    # by Newton from v_free (convex, so it falls monotonically onto it); jets: thrust = drag
+    # at the thrust of the previous estimate's Mach number.
+    v_tol = 1e-3
+    v = v_free
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        if is_jet:
+            for _ in range(3):
+                t_w = eng_cr.thrust(v, 1.0) / w_cr
+                v = np.sqrt((t_w + np.sqrt(t_w * t_w - 4.0 * a_d * b_d)) / (2.0 * a_d))
+        else:
+            for _ in range(6):
+                v = v - (a_d * v**4 - t_max * v + b_d) / (4.0 * a_d * v**3 - t_max)
+    v_pred = np.clip(np.nan_to_num(v, nan=0.0), v_start, v_hi)
+    solve = can_fly & (f_hi < 0.0)
+    p_lo = np.maximum(v_pred - 0.4 * v_tol, v_start)
+    p_hi = np.minimum(p_lo + 0.8 * v_tol, v_hi)
+    f_plo = np.where(solve, excess(p_lo), -1.0)
+    f_phi = np.where(solve, excess(p_hi), -1.0)
+    past_lo, past_hi = f_plo >= 0.0, f_phi >= 0.0
+    a_v = np.where(past_lo, np.where(past_hi, p_hi, p_lo), v_start)
+    fa_v = np.where(past_lo, np.where(past_hi, f_phi, f_plo), f_start)
+    b_v = np.where(past_lo, np.where(past_hi, v_hi, p_hi), p_lo)
+    fb_v = np.where(past_lo, np.where(past_hi, f_hi, f_phi), f_plo)
+    # where the bracket spans the drag-divergence Mach number, split it there: above it the
+    # wave drag rises steeply, and one end far up that rise would slow the solve
+    v_knee = ad.drag_divergence_mach * a_cr
+    split = solve & (a_v < v_knee) & (v_knee < b_v) & (b_v - a_v > v_tol)
+    if split.any():
+        f_knee = np.where(split, excess(np.where(split, v_knee, a_v)), 0.0)
+        up = split & (f_knee >= 0.0)
+        down = split & (f_knee < 0.0)
+        a_v, fa_v = np.where(up, v_knee, a_v), np.where(up, f_knee, fa_v)
+        b_v, fb_v = np.where(down, v_knee, b_v), np.where(down, f_knee, fb_v)
+    v_max = performance.falling_root(excess, a_v, b_v, fa_v, fb_v, xtol=v_tol)
+    narrowed = (b_v - a_v <= v_tol) & solve
+    v_max = np.where(narrowed, 0.5 * (a_v + b_v), v_max)
     v_max = np.where(can_fly, np.where(f_hi >= 0.0, v_hi, v_max), 0.0)
 
     # --- maintenance ---
@@ -596,7 +656,8 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     })
     for k, c in enumerate(names):
         out[f"margin_{c}"] = margin_matrix[:, k]
-    out = {k: _finite(v, ws_c.shape) for k, v in out.items()}
+    seen = set()
+    out = {k: _finite(v, ws_c.shape, seen) for k, v in out.items()}
     out["feasible"] = feasible
     out["limiting_index"] = limiting
     return out

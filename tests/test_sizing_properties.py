@@ -357,3 +357,49 @@ def test_default_study_takeoff_density_value():
         "wing_loading_N_m2": [1000.0], "power_loading_N_kW": [70.0], "aspect_ratio": [8.0],
         "flap": ["fowler"]})
     assert frame["density_takeoff_kg_m3"].iloc[0] == pytest.approx(0.9479, abs=1e-4)
+
+
+# --- the cruise speed is the level-flight root, checked outside the model's solver ----------
+
+def test_piston_cruise_speed_is_where_thrust_equals_drag():
+    # Rebuilt from the physics functions alone: at the reported highest level speed the
+    # cruise thrust (Gagg-Ferrar lapse, propeller blend) equals the drag (parabolic polar +
+    # Lock wave drag) at the cruise weight, within the solver's 1e-3 m/s, and it is the top
+    # of the level-flight speed range (thrust below drag just above it).
+    from optimiser.physics import atmosphere
+    study = STUDIES["high_strip_utility"]
+    spec = study.spec
+    rng = np.random.default_rng(8)
+    n = 400
+    cols = [rng.uniform(v.lower, v.upper, n) for v in study.variables]
+    flap = rng.integers(0, len(spec.high_lift), n)
+    out = size_designs(spec, *cols, flap)
+    pr, ad, ms = spec.propulsion, spec.aerodynamics, spec.mission
+    h, dt = ms.cruise_altitude_m, ms.cruise_temperature_offset_K
+    rho = float(atmosphere.isa_density(h, dt))
+    sound = float(atmosphere.speed_of_sound(atmosphere.isa_temperature(h, dt)))
+    sigma = rho / atmosphere.RHO0
+    sigma_crit = atmosphere.density_ratio(pr.turbocharged_critical_altitude_m)
+    power = (out["engine_power_kW"] * 1e3 * pr.cruise_power_fraction
+             * propulsion.piston_power_lapse(sigma, sigma_crit))
+    disc = 0.25 * math.pi * out["propeller_diameter_m"] ** 2
+    static = propulsion.static_thrust_momentum(power / pr.engine_count, rho, disc,
+                                               pr.propeller_figure_of_merit) * pr.engine_count
+    f_pre = ms.fraction_startup * ms.fraction_taxi * ms.fraction_takeoff * ms.fraction_climb
+    weight = out["takeoff_mass_kg"] * G0 * f_pre
+    ws = weight / out["wing_area_m2"]
+    k = 1.0 / (math.pi * np.asarray(cols[2]) * out["oswald_e_cruise"])
+
+    v = out["cruise_speed_m_s"]
+    sel = v > 0
+    assert sel.sum() > 0.8 * n
+
+    def excess(speed):
+        cd0 = ad.cd0_clean + aerodynamics.wave_drag_lock(speed / sound, ad.drag_divergence_mach)
+        thrust = propulsion.propeller_thrust(speed, power[sel], pr.propeller_efficiency_cruise,
+                                             static[sel])
+        return thrust / weight[sel] - performance.drag_to_weight(speed, ws[sel], rho, cd0,
+                                                                 k[sel])
+
+    assert np.all(excess(v[sel] - 1e-3) >= 0.0)
+    assert np.all(excess(v[sel] + 1e-3) < 0.0)

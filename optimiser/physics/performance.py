@@ -301,39 +301,54 @@ unpaved surfaces is common practice."""
 
 def falling_root(f, low, high, f_low, f_high, xtol, max_iterations=60):
     """Root of f between ``low`` (f >= 0) and ``high`` (f < 0), vectorised, by the Illinois
-    variant of regula falsi (Dowell & Jarratt, BIT 11, 1971), iterating only over the elements
-    not yet converged.
+    variant of regula falsi (Dowell & Jarratt, BIT 11, 1971) with no step closer than half
+    the tolerance to an end (as in Dekker's and Brent's methods: R. P. Brent, "Algorithms for
+    Minimization without Derivatives", 1973, ch. 4; from memory), so that a root just past
+    the step closes the bracket. Only the elements not yet converged are iterated.
 
     ``f(x, ix)`` evaluates the function for the elements ``ix`` (an index array) at ``x``.
-    Elements without a sign change must be handled by the caller; they are returned as the
-    bracket end nearest the root after ``max_iterations``.
+    ``xtol`` (a number, or one per element) is the bracket width at which an element stops.
+    Elements without a sign change (f_low < 0 or f_high >= 0) are not iterated: they are
+    returned as the bracket's midpoint, for the caller to replace.
     """
-    a = np.array(low, dtype=float, copy=True)
-    b = np.array(high, dtype=float, copy=True)
-    fa = np.array(f_low, dtype=float, copy=True)
-    fb = np.array(f_high, dtype=float, copy=True)
+    a = np.asarray(low, dtype=float)
+    b = np.asarray(high, dtype=float)
+    fa = np.asarray(f_low, dtype=float)
+    fb = np.asarray(f_high, dtype=float)
     x = 0.5 * (a + b)
-    ix = np.flatnonzero((b - a) > xtol)
-    side = np.zeros(a.shape, dtype=int)
+    tol = np.broadcast_to(np.asarray(xtol, dtype=float), x.shape)
+    ix = np.flatnonzero(((b - a) > tol) & (fa >= 0.0) & (fb < 0.0))
+    # working copies of the elements still iterated (compressed as they converge)
+    ai, bi, fai, fbi, half = a[ix], b[ix], fa[ix], fb[ix], 0.5 * tol[ix]
+    side = np.zeros(ix.size)  # +1: the last step moved a, -1: it moved b
     for _ in range(max_iterations):
         if ix.size == 0:
             break
-        ai, bi, fai, fbi = a[ix], b[ix], fa[ix], fb[ix]
-        denom = fai - fbi
-        xi = np.where(np.abs(denom) > 0, (ai * (-fbi) + bi * fai) / np.where(denom == 0, 1, denom),
-                      0.5 * (ai + bi))
-        xi = np.clip(xi, np.minimum(ai, bi), np.maximum(ai, bi))
+        xi = ai + fai * (bi - ai) / (fai - fbi)  # fa >= 0 > fb: the denominator is positive
+        xi = np.clip(xi, ai + half, bi - half)  # width > 2 half: never an empty interval
         fx = f(xi, ix)
-        pos = fx >= 0.0
-        s = side[ix]
-        # Illinois: halve the retained end's value when the same end is kept twice
-        new_fa = np.where(pos, fx, np.where(s == -1, 0.5 * fai, fai))
-        new_fb = np.where(pos, np.where(s == 1, 0.5 * fbi, fbi), fx)
-        a[ix] = np.where(pos, xi, ai)
-        b[ix] = np.where(pos, bi, xi)
-        fa[ix], fb[ix] = new_fa, new_fb
-        side[ix] = np.where(pos, 1, -1)
-        x[ix] = xi
-        done = (np.abs(b[ix] - a[ix]) <= xtol) | (np.abs(fx) <= 1e-12)
-        ix = ix[~done]
+        pos = fx >= 0.0  # NaN counts as past the root
+        # Anderson-Bjorck: when the same end is kept twice, scale its value by
+        # m = 1 - f(new) / f(end replaced), or by 1/2 where m <= 0 (the Illinois factor);
+        # m is kept >= 0.1, since on a flat stretch m -> 0 throws the next step onto the far
+        # end (ours, measured on f = c - x^8)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            m = 1.0 - fx / np.where(pos, fai, fbi)
+        m = np.where(m > 0.0, np.maximum(m, 0.1), 0.5)  # also for NaN
+        fai = np.where(pos, fx, np.where(side < 0, m * fai, fai))
+        fbi = np.where(pos, np.where(side > 0, m * fbi, fbi), fx)
+        ai = np.where(pos, xi, ai)
+        bi = np.where(pos, bi, xi)
+        side = np.where(pos, 1.0, -1.0)
+        done = (bi - ai <= 2.0 * half) | (np.abs(fx) <= 1e-12)
+        if done.all():
+            x[ix] = xi
+            break
+        if done.any():
+            x[ix[done]] = xi[done]
+            keep = ~done
+            ix, xi, ai, bi, fai, fbi, half, side = (
+                v[keep] for v in (ix, xi, ai, bi, fai, fbi, half, side))
+    else:
+        x[ix] = xi  # not converged in max_iterations: the last point tried
     return x

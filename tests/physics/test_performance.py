@@ -450,3 +450,39 @@ def test_unpaved_brakes_worse_than_dry_paved():
     dry = perf.RUNWAY_SURFACES["paved_dry"][1]
     for name in ("hard_turf", "short_grass", "long_grass", "soft_ground"):
         assert perf.RUNWAY_SURFACES[name][1] < dry
+
+
+def test_falling_root_flat_then_steep_and_per_element_tolerance():
+    # f = c - x^8 on [0, 3]: nearly flat near the low end, steep near the high end (the shape
+    # of a jet's excess thrust against the wave-drag rise), where plain regula falsi creeps;
+    # roots c^(1/8) exactly, each element to its own tolerance
+    c = np.array([1e-6, 0.5, 40.0])
+    tol = np.array([1e-10, 1e-6, 1e-3])
+    calls = []
+
+    def f(x, ix):
+        calls.append(len(ix))
+        return c[ix] - x**8
+
+    low, high = np.zeros(3), np.full(3, 3.0)
+    ix = np.arange(3)
+    got = perf.falling_root(f, low, high, f(low, ix), f(high, ix), xtol=tol)
+    assert np.all(np.abs(got - c ** 0.125) <= tol)
+    # 39 iterations measured (the Anderson-Bjorck factor unbounded below never converged
+    # here: its m -> 0 on the flat stretch; hence the floor of 0.1)
+    assert len(calls) - 2 <= 45
+
+
+def test_falling_root_leaves_elements_without_a_sign_change():
+    seen = []
+
+    def f(x, ix):
+        seen.extend(ix.tolist())
+        return 1.0 - x
+
+    low = np.array([0.0, 2.0, 0.0])   # element 1: f < 0 at both ends
+    high = np.array([3.0, 3.0, 0.5])  # element 2: f > 0 at both ends
+    out = perf.falling_root(f, low, high, 1.0 - low, 1.0 - high, xtol=1e-9)
+    assert out[0] == pytest.approx(1.0, abs=1e-9)
+    assert out[1] == 2.5 and out[2] == 0.25  # the midpoints, for the caller to replace
+    assert set(seen) == {0}
