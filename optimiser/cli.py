@@ -222,8 +222,9 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--time", help="wall-clock budget, e.g. '90s', '45m', '8h'")
     r.add_argument("--stall-gens", type=int, dest="stall_gens", help="stop when the front's "
                    "hypervolume has not grown for this many generations")
-    r.add_argument("--checkpoint-every", type=int, default=10, dest="checkpoint_every",
-                   help="generations between checkpoints (default 10)")
+    r.add_argument("--checkpoint-every", type=int, default=None, dest="checkpoint_every",
+                   help="generations between checkpoints (default: one every 30 s of "
+                        "running)")
     r.set_defaults(func=cmd_run)
     s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")
     s.add_argument("run_dir", metavar="RUN_DIR", help="the run folder")

@@ -49,6 +49,10 @@ RUN_FILES = ("study.toml", "run.json", "front.csv", "evaluations.csv", "history.
              "least_violating.csv", CHECKPOINT)
 LEAST_VIOLATING_ROWS = 20
 CHECKPOINT_FORMAT = 2
+CHECKPOINT_INTERVAL_S = 30.0
+"""Seconds of running between checkpoints when no generation count is given (common
+practice for an autosave: a hard kill loses at most about this much work, and a fast run
+spends next to nothing on checkpoints)."""
 
 
 class RunError(Exception):
@@ -91,7 +95,7 @@ class Budget:
     evaluations: int | None = None
     time_s: float | None = None
     stall_generations: int | None = None
-    checkpoint_every: int = 10
+    checkpoint_every: int | None = None  # generations; None: every CHECKPOINT_INTERVAL_S
 
 
 @dataclass
@@ -203,58 +207,67 @@ ARCHIVE_SUMMARY_COLUMNS = (
 """Sized numbers the archive keeps beside the inputs, objectives and margins (those the
 model gives for the study's propulsion family)."""
 
-ARCHIVE_DIGITS = 10
-"""Significant digits of the archive's derived numbers; inputs and objectives are written
-exactly (shortest repr that reads back to the same float)."""
-
-
-def archive_columns(study, sized_keys) -> tuple[list[str], list[str]]:
-    """Columns of ``evaluations.csv`` and their printf formats, for a study whose
+def archive_columns(study, sized_keys) -> list[str]:
+    """Columns of ``evaluations.csv`` for a study whose
     :func:`~optimiser.sizing.size_designs` output has the keys ``sized_keys``.
 
     generation, the inputs, flap, the objectives, a summary of the sized design, one margin
-    per active constraint, feasible and the limiting constraint. Every other column of the
-    evaluate table follows from the inputs: ``optimiser evaluate STUDY --designs
-    evaluations.csv`` sizes them again (the model is deterministic)."""
+    per active constraint, feasible and the limiting constraint, every number exact (it reads
+    back to the same float). Every other column of the evaluate table follows from the
+    inputs: ``optimiser evaluate STUDY --designs evaluations.csv`` sizes them again (the model
+    is deterministic)."""
     from .evaluation import design_columns
     from .sizing import active_constraints
     inputs = list(design_columns(study)[:3])
     objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
     summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c in sized_keys and c not in objectives]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]
-    cols = ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
+    return ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
             "limiting_constraint"]
-    formats = ["%d", *["%r"] * 3, "%s", *["%r"] * len(objectives),
-               *[f"%.{ARCHIVE_DIGITS}g"] * (len(summary) + len(margins)), "%s", "%s"]
-    return cols, formats
 
 
-def archive_text(study, generation, ws, load, ar, flap, sized) -> str:
-    """Rows of ``evaluations.csv`` (no header) for one generation of sized designs
-    (``sized``: the dict of :func:`~optimiser.sizing.size_designs`)."""
+_TEXT_COLUMNS = ("flap", "limiting_constraint")
+
+
+def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
+    """Rows of ``evaluations.csv`` (no header, UTF-8) for one generation of sized designs
+    (``sized``: the dict of :func:`~optimiser.sizing.size_designs`).
+
+    Written by Apache Arrow's CSV writer: floats in their shortest exact form (about three
+    times faster than Python's repr for the same text); flap and constraint names are plain
+    identifiers, never quoted."""
+    import io
+
+    import pyarrow as pa
+    import pyarrow.csv as pa_csv
     from .sizing import active_constraints
-    cols, formats = archive_columns(study, sized)
+    cols = archive_columns(study, sized)
     names = np.asarray(study.spec.high_lift_names, dtype=object)
     limiting = np.asarray(active_constraints(study.spec), dtype=object)
     n = len(ws)
     source = {
-        "generation": [int(generation)] * n,
-        cols[1]: np.asarray(ws, float).tolist(),
-        cols[2]: np.asarray(load, float).tolist(),
-        cols[3]: np.asarray(ar, float).tolist(),
-        "flap": names[np.asarray(flap, int)].tolist(),
-        "feasible": ["True" if f else "False" for f in np.asarray(sized["feasible"]).tolist()],
-        "limiting_constraint": limiting[np.asarray(sized["limiting_index"], int)].tolist(),
+        "generation": np.full(n, int(generation), dtype=np.int64),
+        cols[1]: np.asarray(ws, float), cols[2]: np.asarray(load, float),
+        cols[3]: np.asarray(ar, float),
+        "flap": pa.array(names[np.asarray(flap, int)].tolist(), type=pa.string()),
+        "feasible": np.asarray(sized["feasible"], bool),
+        "limiting_constraint": pa.array(limiting[np.asarray(sized["limiting_index"], int)]
+                                        .tolist(), type=pa.string()),
     }
-    values = [source[c] if c in source else np.asarray(sized[c], float).tolist() for c in cols]
-    row = ",".join(formats) + "\n"
-    return "".join([row % r for r in zip(*values)])
+    table = pa.table({c: source[c] if c in source else np.asarray(sized[c], float)
+                      for c in cols})
+    buf = io.BytesIO()
+    pa_csv.write_csv(table, buf, pa_csv.WriteOptions(include_header=False,
+                                                     quoting_style="none"))
+    return buf.getvalue()
 
 
-def _append(path: Path, text: str) -> int:
+def _append(path: Path, text) -> int:
+    """Append ``text`` (str, written as UTF-8, or bytes) and return the file's length."""
+    data = text.encode("utf-8") if isinstance(text, str) else text
     try:
-        with open(path, "a", encoding="utf-8", newline="") as fh:
-            fh.write(text)
+        with open(path, "ab") as fh:
+            fh.write(data)
             fh.flush()
             return fh.tell()
     except OSError as exc:
@@ -539,7 +552,7 @@ def _one_generation(study, state, run_dir):
     elif state.best_hv > 0:
         state.stall += 1
     state.archive_bytes = _append(run_dir / "evaluations.csv",
-                                  archive_text(study, state.generation, ws, load, ar, flap,
+                                  archive_rows(study, state.generation, ws, load, ar, flap,
                                                sized))
     row = _history_row(study, state, n_feas, hv)
     state.history_bytes = _append(run_dir / "history.csv", _history_text(row))
@@ -626,6 +639,8 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
             previous[sig] = signal.signal(sig, handler)
     try:
         since_ckpt = 0
+        last_ckpt = time.monotonic()
+        every = state.budget.checkpoint_every
         while True:
             reason = _why_stop(state)
             if reason is not None:
@@ -645,10 +660,13 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
             if interrupted:
                 save_checkpoint(run_dir, state)
                 raise RunInterrupted(run_dir)
-            if since_ckpt >= state.budget.checkpoint_every:
+            due = since_ckpt >= every if every is not None else \
+                time.monotonic() - last_ckpt >= CHECKPOINT_INTERVAL_S
+            if due:
                 save_checkpoint(run_dir, state)
                 saved["generation"] = state.generation
                 since_ckpt = 0
+                last_ckpt = time.monotonic()
     finally:
         for sig, h in previous.items():
             signal.signal(sig, h)
@@ -742,7 +760,9 @@ def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
                    "flap_options": list(study.flaps),
                    "evaluations": b.evaluations, "time_s": b.time_s,
                    "stall_generations": b.stall_generations,
-                   "checkpoint_every": b.checkpoint_every},
+                   "checkpoint_every": b.checkpoint_every,
+                   "checkpoint_interval_s": (CHECKPOINT_INTERVAL_S if b.checkpoint_every is None
+                                             else None)},
         "method": "one NSGA-II (pymoo) per flap option, fronts merged (see optimiser.search)",
         "objectives": _objective_cols(study),
         "termination": state.termination,
@@ -786,16 +806,15 @@ PLOTS_ALLOWANCE_BYTES = 5e6    # the plots of a run measured about 1.1 MB; round
 
 
 def _archive_row_bytes(study, gens, sized0) -> int:
-    """An upper bound of the bytes of one evaluations.csv row: 24 per exact float (the
-    longest repr of a float), 17 per 10-digit number, the longest text of each text column."""
+    """An upper bound of the bytes of one evaluations.csv row: 24 per float (the longest
+    shortest-exact form of a double), the longest text of each text column."""
     from .sizing import active_constraints
-    cols, formats = archive_columns(study, sized0)
-    longest = {"flap": max(map(len, study.spec.high_lift_names)),
-               "feasible": len("False"),
+    longest = {"generation": len(str(gens)),
+               "flap": max(map(len, study.spec.high_lift_names)),
+               "feasible": len("false"),
                "limiting_constraint": max(map(len, active_constraints(study.spec)))}
-    width = {"%d": len(str(gens)), "%r": 24, f"%.{ARCHIVE_DIGITS}g": ARCHIVE_DIGITS + 7}
-    return sum(longest[c] if f == "%s" else width[f] for c, f in zip(cols, formats)) \
-        + len(cols)
+    cols = archive_columns(study, sized0)
+    return sum(longest.get(c, 24) for c in cols) + len(cols)
 
 
 def estimate_output_bytes(study, state: RunState, frame0, sized0) -> tuple[int, str]:
@@ -850,7 +869,7 @@ def _check_positive(name, value, integer=True):
 
 
 def start(study, *, out=None, force=False, seed=None, generations=None, population=None,
-          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=10):
+          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=None):
     """Validate the options, create the run folder and the initial state."""
     from .search import make_algorithms, plan_budget, reference_scales
     _check_positive("--gens", generations)
@@ -883,7 +902,7 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     x0 = np.array([[v.lower for v in free_variables(study)]])
     frame0 = size_frame(study, *design_arrays(study, x0), [0])
     sized0 = size_designs(study.spec, *design_arrays(study, x0), [0])
-    cols, _ = archive_columns(study, sized0)
+    cols = archive_columns(study, sized0)
     hist_cols = list(_history_row(study, state, 0, 0.0))
     need, need_text = estimate_output_bytes(study, state, frame0, sized0)
     run_dir = prepare_run_dir(out, study, force, need_bytes=need, need_text=need_text)
@@ -904,7 +923,7 @@ def _progress_fn(progress):
 
 def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
              evaluations=None, time_budget_s=None, stall_generations=None,
-             checkpoint_every=10, force=False, progress=False, plots=True) -> RunResult:
+             checkpoint_every=None, force=False, progress=False, plots=True) -> RunResult:
     """Search the study's variables for the Pareto front of its objectives.
 
     ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's

@@ -10,6 +10,8 @@ Margins are positive when a constraint is met, as a fraction of its limit:
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from .physics import G0
@@ -79,6 +81,21 @@ def _check_overrides(spec, overrides, n):
     return out
 
 
+@functools.lru_cache(maxsize=256)
+def _air(h_m: float, dt_K: float = 0.0):
+    """(density, temperature, pressure, speed of sound) of the ISA at ``h_m`` with a
+    temperature offset, as floats; cached (a study asks for the same few states on every
+    call)."""
+    rho = float(atm.isa_density(h_m, dt_K))
+    t = float(atm.isa_temperature(h_m, dt_K))
+    return rho, t, float(atm.isa_pressure(h_m)), float(atm.speed_of_sound(t))
+
+
+@functools.lru_cache(maxsize=64)
+def _density_ratio(h_m: float) -> float:
+    return float(atm.density_ratio(h_m))
+
+
 def _at(x, ix):
     """``x[ix]`` for a per-design array, ``x`` itself for a study-wide scalar."""
     return x if np.ndim(x) == 0 else x[ix]
@@ -100,14 +117,20 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
 
 
 def _high_lift_arrays(spec, index):
+    table = _high_lift_table(spec.high_lift)
+    return {f: v[index] for f, v in table.items()}
+
+
+@functools.lru_cache(maxsize=32)
+def _high_lift_table(options):
+    """Per-option arrays of the high-lift numbers (cached per tuple of options)."""
     fields = ("cl_increment_takeoff", "cl_increment_landing", "cd0_increment_takeoff",
               "cd0_increment_landing", "flap_area_ratio", "flap_mass_per_area_kg_m2",
               "slat_area_ratio", "slat_mass_per_area_kg_m2", "actuator_mass_kg", "flap_items",
               "flap_supports_min", "flap_support_spacing_m", "slat_items", "slat_supports_min",
               "slat_support_spacing_m", "flapped_span_fraction", "slat_span_fraction",
               "support_weight")
-    table = {f: np.array([getattr(h, f) for h in spec.high_lift], dtype=float) for f in fields}
-    return {f: v[index] for f, v in table.items()}
+    return {f: np.array([getattr(h, f) for h in options], dtype=float) for f in fields}
 
 
 class _Propulsor:
@@ -127,7 +150,7 @@ class _Propulsor:
             self.tr = p.turbofan_throttle_ratio
         else:
             if p.family == "piston":
-                sig_crit = atm.density_ratio(p.turbocharged_critical_altitude_m)
+                sig_crit = _density_ratio(p.turbocharged_critical_altitude_m)
                 lapse = propulsion.piston_power_lapse(sigma, sig_crit)
             else:
                 lapse = propulsion.turboprop_power_lapse(sigma, p.turboprop_lapse_exponent,
@@ -225,15 +248,10 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
 
     # --- air states (scalars for the whole study) ---
     dep, dst = spec.departure, spec.destination
-    rho_to = float(atm.isa_density(dep.elevation_m, dep.temperature_offset_K))
-    t_to = float(atm.isa_temperature(dep.elevation_m, dep.temperature_offset_K))
-    p_to = float(atm.isa_pressure(dep.elevation_m))
-    rho_ld = float(atm.isa_density(dst.elevation_m, dst.temperature_offset_K))
+    rho_to, t_to, p_to, _ = _air(dep.elevation_m, dep.temperature_offset_K)
+    rho_ld = _air(dst.elevation_m, dst.temperature_offset_K)[0]
     h_cr, dt_cr = ms.cruise_altitude_m, ms.cruise_temperature_offset_K
-    rho_cr = float(atm.isa_density(h_cr, dt_cr))
-    t_cr = float(atm.isa_temperature(h_cr, dt_cr))
-    p_cr = float(atm.isa_pressure(h_cr))
-    a_cr = float(atm.speed_of_sound(t_cr))
+    rho_cr, t_cr, p_cr, a_cr = _air(h_cr, dt_cr)
     v_cr = ms.cruise_speed_m_s
     mach_cr = v_cr / a_cr
     q_cr = 0.5 * rho_cr * v_cr**2
@@ -318,7 +336,10 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # the residual is nearly linear in the mass, so a few steps suffice ---
     cap_kg = fixed_kg * wt.mass_limit_ratio
     cap = np.full_like(ws_c, cap_kg)
-    r_cap = pieces(cap)["residual"]
+    m0 = min(fixed_kg / 0.45, 0.5 * cap_kg)
+    n = ws_c.size
+    r2 = pieces(np.concatenate([cap, np.full(n, m0)]), np.concatenate([np.arange(n)] * 2))
+    r_cap, r0 = r2["residual"][:n], r2["residual"][n:]  # at the mass limit and the first try
     closes = r_cap > 0.0
     ia = np.flatnonzero(closes)
     lo = np.full(ia.size, fixed_kg * 1.0001)
@@ -329,12 +350,12 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # the first step is the classic fixed-fraction update m = fixed / (1 - (fuel + empty)
     # / m): a secant through that same point (0, -fixed); the next ones use the last two
     m_prev, r_prev = np.zeros(ia.size), np.full(ia.size, -fixed_kg)
-    m = np.full_like(ws_c, min(fixed_kg / 0.45, 0.5 * cap_kg))
-    for _ in range(60):
+    m = np.full_like(ws_c, m0)
+    for step_no in range(60):
         if ia.size == 0:
             break
         mi = m[ia]
-        r = pieces(mi, ia)["residual"]
+        r = r0[ia] if step_no == 0 else pieces(mi, ia)["residual"]
         up = r >= 0.0  # a NaN residual (e.g. span below the fuselage diameter at this mass)
         lo, r_lo = np.where(up, lo, mi), np.where(up, r_lo, np.nan_to_num(r, nan=-fixed_kg))
         hi, r_hi = np.where(up, mi, hi), np.where(up, r, r_hi)  # counts as not yet closed
@@ -406,9 +427,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
             setting = 1.0
         else:  # Part 23: cruise configuration at the stated altitude, max continuous power
             h_oei = cert.oei_climb_altitude_m
-            rho_oei = float(atm.isa_density(h_oei, 0.0))
-            t_oei = float(atm.isa_temperature(h_oei, 0.0))
-            p_oei = float(atm.isa_pressure(h_oei))
+            rho_oei, t_oei, p_oei, _ = _air(h_oei)
             cl_oei_max = np.full_like(ws_c, ad.cl_max_clean)
             cd0_oei = np.full_like(ws_c, cd0)
             setting = pr.climb_power_fraction
@@ -459,25 +478,37 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
                    - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_i))
         return roc, v
 
-    climb_rate, v_climb = best_climb(np.full_like(ws_c, dep.elevation_m), dep.temperature_offset_K)
+    # the best climb at the departure airfield, at sea level, at the required ceiling and at
+    # H_MAX in one call (the latter three bracket the service ceiling below)
+    n = ws_c.size
+    h_req = min(max(rq.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
+    roc3, v3 = best_climb(
+        np.concatenate([np.full(n, dep.elevation_m), np.zeros(n), np.full(n, h_req),
+                        np.full(n, atm.H_MAX)]),
+        np.concatenate([np.full(n, dep.temperature_offset_K), np.full(3 * n, dt_cr)]),
+        np.concatenate([np.arange(n)] * 4))
+    climb_rate, v_climb = roc3[:n], v3[:n]
 
     # regulatory all-engines gradient (Part 23: sea level, TO flaps, gear up)
     h_aeo = cert.aeo_climb_altitude_m
-    rho_aeo = float(atm.isa_density(h_aeo, 0.0))
-    eng_aeo = _Propulsor(spec, rated, diameter, rho_aeo, float(atm.isa_temperature(h_aeo)),
-                         float(atm.isa_pressure(h_aeo)), pr.climb_power_fraction)
+    rho_aeo, t_aeo, p_aeo, _ = _air(h_aeo)
+    eng_aeo = _Propulsor(spec, rated, diameter, rho_aeo, t_aeo, p_aeo, pr.climb_power_fraction)
     v_aeo = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_aeo, cl_to)
     climb_gradient = eng_aeo.thrust(v_aeo, eta_climb) / w - performance.drag_to_weight(
         v_aeo, ws_c, rho_aeo, cd0 + hl["cd0_increment_takeoff"], k_low)
 
-    # --- service ceiling: ROC_max(h) = 0.508 m/s, solved over 0..20 km ---
+    # --- service ceiling: ROC_max(h) = 0.508 m/s, solved over 0..20 km, from the half of
+    # the range split at the required ceiling that holds it (designs near the requirement,
+    # the ones that matter, then start from a short, nearly linear bracket) ---
     target = performance.SERVICE_CEILING_CLIMB_RATE
-    zeros = np.zeros_like(ws_c)
-    top = np.full_like(ws_c, atm.H_MAX)
-    f_sl = best_climb(zeros, dt_cr)[0] - target
-    f_top = best_climb(top, dt_cr)[0] - target
-    ceiling = performance.falling_root(lambda h, ix: best_climb(h, dt_cr, ix)[0] - target,
-                                       zeros, top, f_sl, f_top, xtol=1.0)
+    f_sl = roc3[n:2 * n] - target
+    f_req = roc3[2 * n:3 * n] - target
+    f_top = roc3[3 * n:] - target
+    above = f_req >= 0.0
+    ceiling = performance.falling_root(
+        lambda h, ix: best_climb(h, dt_cr, ix)[0] - target,
+        np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req),
+        np.where(above, f_req, f_sl), np.where(above, f_top, f_req), xtol=1.0)
     ceiling = np.where(f_sl < 0.0, 0.0, np.where(f_top >= 0.0, atm.H_MAX, ceiling))
 
     # --- highest level speed at cruise altitude and cruise setting ---
@@ -502,7 +533,9 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
 
     v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
     v_low_alt = 1.1 * performance.stall_speed(ws_cr, rho_cr, ad.cl_max_clean)
-    f_md, f_low_alt = excess(v_md), excess(v_low_alt)
+    two = np.concatenate([np.arange(n)] * 2)
+    f_two = excess(np.concatenate([v_md, v_low_alt]), two)
+    f_md, f_low_alt = f_two[:n], f_two[n:]
     can_fly = (f_md >= 0.0) | (f_low_alt >= 0.0)
     v_start = np.where(f_md >= 0.0, v_md, v_low_alt)
     f_start = np.where(f_md >= 0.0, f_md, f_low_alt)
@@ -537,8 +570,9 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     solve = can_fly & (f_hi < 0.0)
     p_lo = np.maximum(v_pred - 0.4 * v_tol, v_start)
     p_hi = np.minimum(p_lo + 0.8 * v_tol, v_hi)
-    f_plo = np.where(solve, excess(p_lo), -1.0)
-    f_phi = np.where(solve, excess(p_hi), -1.0)
+    f_two = excess(np.concatenate([p_lo, p_hi]), two)
+    f_plo = np.where(solve, f_two[:n], -1.0)
+    f_phi = np.where(solve, f_two[n:], -1.0)
     past_lo, past_hi = f_plo >= 0.0, f_phi >= 0.0
     a_v = np.where(past_lo, np.where(past_hi, p_hi, p_lo), v_start)
     fa_v = np.where(past_lo, np.where(past_hi, f_phi, f_plo), f_start)

@@ -335,8 +335,9 @@ def test_disk_full_while_appending_ends_with_one_line_and_resumes(reference, tmp
     def append(path, text):
         calls["n"] += 1
         if calls["n"] == 2 + 2 * 3 + 1:  # 2 headers, 3 generations (archive + history) done
-            with open(path, "a", encoding="utf-8") as fh:
-                fh.write(text[: len(text) // 2])  # half a generation reached the disk
+            data = text if isinstance(text, bytes) else text.encode("utf-8")
+            with open(path, "ab") as fh:
+                fh.write(data[: len(data) // 2])  # half a generation reached the disk
             raise OSError(errno.ENOSPC, "No space left on device", str(path))
         return real_append(path, text)
 

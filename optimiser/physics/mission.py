@@ -50,6 +50,10 @@ def cruise_weight_ratio(distance, speed, lift_to_drag, efficiency, sfc_power, sf
     For propellers ln(W_i/W_f) = R g c_P / (eta L/D); for jets R g c_T / (V L/D).
     ``is_jet`` selects per design (or for the batch).
     """
+    if isinstance(is_jet, (bool, np.bool_)):  # one family for the whole batch
+        if is_jet:
+            return np.exp(distance * G0 * sfc_thrust / (speed * lift_to_drag))
+        return np.exp(distance * G0 * sfc_power / (efficiency * lift_to_drag))
     prop = distance * G0 * sfc_power / (efficiency * lift_to_drag)
     jet = distance * G0 * sfc_thrust / (speed * lift_to_drag)
     return np.exp(np.where(is_jet, jet, prop))
