@@ -35,6 +35,7 @@ import re
 import shutil
 import signal
 import sys
+import threading
 import time
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
@@ -262,16 +263,45 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     return buf.getvalue()
 
 
+_APPENDING = threading.local()
+"""Per thread (runs of a campaign may share a process): ``files``, the files the run loop
+appends to, kept open while it runs (see :func:`_close_appended`)."""
+
+
+def _open_files() -> dict:
+    files = getattr(_APPENDING, "files", None)
+    if files is None:
+        files = _APPENDING.files = {}
+    return files
+
+
 def _append(path: Path, text) -> int:
-    """Append ``text`` (str, written as UTF-8, or bytes) and return the file's length."""
+    """Append ``text`` (str, written as UTF-8, or bytes), flush it to the operating system
+    and return the file's length. The file stays open until :func:`_close_appended`."""
     data = text.encode("utf-8") if isinstance(text, str) else text
+    key = os.path.abspath(path)
+    files = _open_files()
     try:
-        with open(path, "ab") as fh:
-            fh.write(data)
-            fh.flush()
-            return fh.tell()
+        fh = files.get(key)
+        if fh is None:
+            fh = files[key] = open(path, "ab")
+        fh.write(data)
+        fh.flush()
+        return fh.tell()
     except OSError as exc:
+        _close_appended()
         raise _named(exc, path) from None
+
+
+def _close_appended():
+    """Close the files :func:`_append` keeps open (the end of a loop, or an error)."""
+    files = _open_files()
+    while files:
+        _, fh = files.popitem()
+        try:
+            fh.close()
+        except OSError:
+            pass
 
 
 def _sync(path: Path):
@@ -450,9 +480,16 @@ def _remove_stale_temporaries(run_dir: Path):
 
 
 def versions() -> dict:
+    """Versions of Python and the packages a run depends on (a package already imported
+    tells its own ``__version__``; the others are looked up in the installed metadata)."""
     from importlib import metadata
     out = {"python": platform.python_version()}
-    for pkg in ("optimiser", "pymoo", "numpy", "pandas", "scipy", "matplotlib", "pint"):
+    for pkg in ("optimiser", "pymoo", "numpy", "pandas", "scipy", "matplotlib", "pint",
+                "pyarrow"):
+        own = getattr(sys.modules.get(pkg), "__version__", None)
+        if isinstance(own, str) and pkg != "optimiser":
+            out[pkg] = own
+            continue
         try:
             out[pkg] = metadata.version(pkg)
         except metadata.PackageNotFoundError:
@@ -633,7 +670,6 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
         stop["signal"] = signum
 
     previous = {}
-    import threading
     if threading.current_thread() is threading.main_thread():
         for sig in (signal.SIGINT, signal.SIGTERM):
             previous[sig] = signal.signal(sig, handler)
@@ -668,6 +704,7 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
                 since_ckpt = 0
                 last_ckpt = time.monotonic()
     finally:
+        _close_appended()
         for sig, h in previous.items():
             signal.signal(sig, h)
     save_checkpoint(run_dir, state)
@@ -909,6 +946,7 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
     state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")
     state.history_bytes = _append(run_dir / "history.csv", ",".join(hist_cols) + "\n")
+    _close_appended()
     save_checkpoint(run_dir, state)
     return state, run_dir
 

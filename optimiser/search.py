@@ -174,18 +174,14 @@ def reference_scales(study):
     normalised as ``(f - ideal) / (nadir - ideal)`` and the reference point is
     :data:`REFERENCE_MARGIN` in every normalised objective.
     """
-    from .evaluation import size_frame
+    from .sizing import size_designs
     axes = [np.linspace(v.lower, v.upper, REFERENCE_GRID_POINTS) for v in free_variables(study)]
     X = np.array(list(itertools.product(*axes))) if axes else np.zeros((1, 0))
-    Fs, feas = [], []
-    for idx in flap_indices(study):
-        ws, load, ar = design_arrays(study, X)
-        frame = size_frame(study, ws, load, ar, np.full(len(ws), idx))
-        F, _ = objectives_and_constraints(study, frame)
-        Fs.append(F)
-        feas.append(frame["feasible"].to_numpy(bool))
-    F = np.vstack(Fs)
-    ok = np.concatenate(feas)
+    options = flap_indices(study)
+    ws, load, ar = design_arrays(study, np.tile(X, (len(options), 1)))
+    sized = size_designs(study.spec, ws, load, ar, np.repeat(options, len(X)))  # one call
+    F, _ = objectives_and_constraints(study, sized)
+    ok = np.asarray(sized["feasible"], bool)
     basis = F[ok] if ok.any() else F
     basis = basis[nondominated_mask(basis)]
     ideal = basis.min(axis=0)
