@@ -208,9 +208,8 @@ ARCHIVE_SUMMARY_COLUMNS = (
 """Sized numbers the archive keeps beside the inputs, objectives and margins (those the
 model gives for the study's propulsion family)."""
 
-def archive_columns(study, sized_keys) -> list[str]:
-    """Columns of ``evaluations.csv`` for a study whose
-    :func:`~optimiser.sizing.size_designs` output has the keys ``sized_keys``.
+def archive_columns(study) -> list[str]:
+    """Columns of ``evaluations.csv`` for a study.
 
     generation, the inputs, flap, the objectives, a summary of the sized design, one margin
     per active constraint, feasible and the limiting constraint, every number exact (it reads
@@ -221,7 +220,9 @@ def archive_columns(study, sized_keys) -> list[str]:
     from .sizing import active_constraints
     inputs = list(design_columns(study)[:3])
     objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
-    summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c in sized_keys and c not in objectives]
+    engine = "engine_power_kW" if study.spec.uses_power_loading else "engine_thrust_kN"
+    other = {"engine_power_kW", "engine_thrust_kN"} - {engine}  # not this family's
+    summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c not in objectives and c not in other]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]
     return ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
             "limiting_constraint"]
@@ -242,7 +243,7 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     import pyarrow as pa
     import pyarrow.csv as pa_csv
     from .sizing import active_constraints
-    cols = archive_columns(study, sized)
+    cols = archive_columns(study)
     names = np.asarray(study.spec.high_lift_names, dtype=object)
     limiting = np.asarray(active_constraints(study.spec), dtype=object)
     n = len(ws)
@@ -842,7 +843,7 @@ SPACE_SAFETY_FACTOR = 1.5      # common practice: head-room over an estimate of 
 PLOTS_ALLOWANCE_BYTES = 5e6    # the plots of a run measured about 1.1 MB; rounded up (ours)
 
 
-def _archive_row_bytes(study, gens, sized0) -> int:
+def _archive_row_bytes(study, gens) -> int:
     """An upper bound of the bytes of one evaluations.csv row: 24 per float (the longest
     shortest-exact form of a double), the longest text of each text column."""
     from .sizing import active_constraints
@@ -850,11 +851,11 @@ def _archive_row_bytes(study, gens, sized0) -> int:
                "flap": max(map(len, study.spec.high_lift_names)),
                "feasible": len("false"),
                "limiting_constraint": max(map(len, active_constraints(study.spec)))}
-    cols = archive_columns(study, sized0)
+    cols = archive_columns(study)
     return sum(longest.get(c, 24) for c in cols) + len(cols)
 
 
-def estimate_output_bytes(study, state: RunState, frame0, sized0) -> tuple[int, str]:
+def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
     """What a run will write at most (bytes, with the safety factor) and a short account.
 
     Rows of evaluations.csv: generations x designs per generation, fewer if --evals stops it
@@ -862,7 +863,7 @@ def estimate_output_bytes(study, state: RunState, frame0, sized0) -> tuple[int, 
     bound: the search adds its own time). Bytes per row: :func:`_archive_row_bytes`.
     Checkpoints: the initial pickle plus the designs of the front and least-violating sets it
     will carry (up to 20 x population rows, ours), twice (temporary file and old file); the
-    front table: those rows with every evaluate column (``frame0``: one sized row).
+    front table: those rows with every evaluate column, 24 bytes each.
     """
     b = state.budget
     per_gen = b.option_population * len(study.flaps)
@@ -882,8 +883,10 @@ def estimate_output_bytes(study, state: RunState, frame0, sized0) -> tuple[int, 
         rate = per_gen / max(time.perf_counter() - t0, 1e-6)
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))
-    row_bytes = _archive_row_bytes(study, gens, sized0)
-    full_row_bytes = len(frame0.to_csv(index=False, header=False).encode()) + 8
+    row_bytes = _archive_row_bytes(study, gens)
+    from .evaluation import COLUMN_DOCS
+    from .sizing import active_constraints
+    full_row_bytes = 25 * (len(COLUMN_DOCS) + len(active_constraints(study.spec)))
     front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS
     checkpoint = len(pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL)) \
         + front_rows * 8 * (6 + len(_objective_cols(study)))
@@ -933,15 +936,9 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
                      budget=budget, algos=make_algorithms(study, seed, per, run_gens),
                      scales=reference_scales(study), started_utc=utc_now())
-    from .evaluation import size_frame
-    from .search import design_arrays, free_variables
-    from .sizing import size_designs
-    x0 = np.array([[v.lower for v in free_variables(study)]])
-    frame0 = size_frame(study, *design_arrays(study, x0), [0])
-    sized0 = size_designs(study.spec, *design_arrays(study, x0), [0])
-    cols = archive_columns(study, sized0)
+    cols = archive_columns(study)
     hist_cols = list(_history_row(study, state, 0, 0.0))
-    need, need_text = estimate_output_bytes(study, state, frame0, sized0)
+    need, need_text = estimate_output_bytes(study, state)
     run_dir = prepare_run_dir(out, study, force, need_bytes=need, need_text=need_text)
     write_atomic(run_dir / "study.toml", study.text.encode("utf-8"))
     state.archive_bytes = _append(run_dir / "evaluations.csv", ",".join(cols) + "\n")

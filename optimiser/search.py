@@ -107,9 +107,20 @@ def make_algorithms(study, seed: int, option_population: int, generations: int):
     return algos
 
 
+def _covers(A, B) -> np.ndarray:
+    """(len(B), len(A)) mask: row j of A is <= row i of B in every objective."""
+    out = A[None, :, 0] <= B[:, None, 0]
+    for k in range(1, A.shape[1]):
+        out &= A[None, :, k] <= B[:, None, k]
+    return out
+
+
 def nondominated_mask(F, chunk=512) -> np.ndarray:
     """Mask of the rows of F (minimised) that no other row dominates; of identical rows only
-    the first is kept. Vectorised pairwise comparison in chunks of rows (memory ~ chunk x n)."""
+    the first is kept. Vectorised pairwise comparison in chunks of rows (memory ~ chunk x n).
+
+    Among distinct rows, a row <= another in every objective is better in at least one, so
+    dominance is "<= everywhere" by some row other than itself."""
     F = np.asarray(F, float)
     n = len(F)
     keep = np.ones(n, bool)
@@ -121,10 +132,7 @@ def nondominated_mask(F, chunk=512) -> np.ndarray:
     U = F[unique]
     dominated = np.zeros(len(U), bool)
     for a in range(0, len(U), chunk):
-        block = U[a:a + chunk]
-        le = np.all(U[None, :, :] <= block[:, None, :], axis=2)
-        lt = np.any(U[None, :, :] < block[:, None, :], axis=2)
-        dominated[a:a + chunk] = np.any(le & lt, axis=1)
+        dominated[a:a + chunk] = _covers(U, U[a:a + chunk]).sum(axis=1) > 1  # itself + one
     keep[:] = False
     keep[np.flatnonzero(unique)[~dominated]] = True
     return keep
@@ -137,7 +145,8 @@ def merge_nondominated(F_old, F_new, chunk=2048):
 
     A new row equal to or dominated by an old one goes; the new rows left are thinned among
     themselves; an old row goes when a new survivor dominates it (dominance is transitive,
-    so the survivors suffice)."""
+    so the survivors suffice; a survivor is never identical to an old row, so "<=
+    everywhere" is dominance)."""
     F_old = np.asarray(F_old, float)
     F_new = np.asarray(F_new, float)
     keep_old = np.ones(len(F_old), bool)
@@ -146,9 +155,7 @@ def merge_nondominated(F_old, F_new, chunk=2048):
         keep_new[:] = nondominated_mask(F_new) if len(F_new) else keep_new
         return keep_old, keep_new
     for a in range(0, len(F_old), chunk):
-        block = F_old[a:a + chunk]
-        covered = np.all(block[:, None, :] <= F_new[None, :, :], axis=2)
-        keep_new &= ~covered.any(axis=0)
+        keep_new &= ~_covers(F_old[a:a + chunk], F_new).any(axis=1)
     survivors = np.flatnonzero(keep_new)
     if survivors.size:
         S = F_new[survivors]
@@ -156,10 +163,7 @@ def merge_nondominated(F_old, F_new, chunk=2048):
         keep_new[survivors[~inner]] = False
         S = S[inner]
         for a in range(0, len(F_old), chunk):
-            block = F_old[a:a + chunk]
-            le = np.all(S[None, :, :] <= block[:, None, :], axis=2)
-            lt = np.any(S[None, :, :] < block[:, None, :], axis=2)
-            keep_old[a:a + chunk] = ~np.any(le & lt, axis=1)
+            keep_old[a:a + chunk] = ~_covers(S, F_old[a:a + chunk]).any(axis=1)
     return keep_old, keep_new
 
 
