@@ -563,6 +563,23 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
             for _ in range(3):
                 t_w = eng_cr.thrust(v, 1.0) / w_cr
                 v = np.sqrt((t_w + np.sqrt(t_w * t_w - 4.0 * a_d * b_d)) / (2.0 * a_d))
+            # then Newton on drag - thrust with Lock's wave drag, from that speed (above the
+            # root: wave drag only lowers it), derivatives analytic for the drag and by a
+            # difference for the thrust
+            v = np.clip(np.minimum(np.nan_to_num(v, nan=0.0), ad.drag_divergence_mach * a_cr),
+                        v_start, v_hi)  # no higher than M_DD: the fourth power slows Newton
+            m_crit = ad.drag_divergence_mach - (0.1 / 80.0) ** (1.0 / 3.0)
+            for _ in range(5):
+                over = np.maximum(v / a_cr - m_crit, 0.0)
+                over3 = over * over * over
+                cd = cd0 + 20.0 * over3 * over
+                q = 0.5 * rho_cr * v * v
+                t_w = eng_cr.thrust(v, 1.0) / w_cr
+                g = q * cd / ws_cr + k_cr * ws_cr / q - t_w
+                dg = (rho_cr * v * cd / ws_cr + q * 80.0 * over3 / (a_cr * ws_cr)
+                      - 2.0 * k_cr * ws_cr / (q * v)
+                      - (eng_cr.thrust(v * (1.0 + 1e-6), 1.0) / w_cr - t_w) / (1e-6 * v))
+                v = np.clip(v - g / dg, v_start, v_hi)
         else:
             for _ in range(6):
                 v = v - (a_d * v**4 - t_max * v + b_d) / (4.0 * a_d * v**3 - t_max)

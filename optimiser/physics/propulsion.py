@@ -64,7 +64,7 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
     m = np.maximum(np.asarray(mach, dtype=float), 0.0)
     ram = 1.0 + 0.2 * m * m
     theta0 = np.asarray(temperature, dtype=float) / T0 * ram
-    delta0 = np.asarray(pressure, dtype=float) / P0 * ram**3.5
+    delta0 = np.asarray(pressure, dtype=float) / P0 * (ram * ram * ram * np.sqrt(ram))  # ^3.5
     base = 1.0 - 0.49 * np.sqrt(m)
     hot = 3.0 * np.maximum(theta0 - throttle_ratio, 0.0) / (1.5 + m)
     return np.maximum(delta0 * (base - hot), 0.0)
