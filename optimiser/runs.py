@@ -202,11 +202,11 @@ def _csv_text(frame) -> str:
 
 ARCHIVE_SUMMARY_COLUMNS = (
     "takeoff_mass_kg", "empty_mass_kg", "fuel_mass_kg", "trip_fuel_kg", "wing_area_m2",
-    "span_m", "engine_power_kW", "engine_thrust_kN", "maintenance_index", "stall_speed_m_s",
-    "takeoff_field_required_m", "landing_distance_m", "climb_rate_m_s", "cruise_speed_m_s",
-    "service_ceiling_m")
+    "span_m", "engine_power_kW", "engine_thrust_kN", "maintenance_index")
 """Sized numbers the archive keeps beside the inputs, objectives and margins (those the
-model gives for the study's propulsion family)."""
+model gives for the study's propulsion family). The performance numbers behind the margins
+(stall speed, field lengths, climb, cruise speed, ceiling) are not repeated: each is its
+margin's limit times (1 - margin) or (1 + margin)."""
 
 def archive_columns(study) -> list[str]:
     """Columns of ``evaluations.csv`` for a study.
