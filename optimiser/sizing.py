@@ -275,6 +275,14 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     v_h_eas = v_cr * np.sqrt(rho_cr / atm.RHO0)
 
     fixed_kg = wt.payload_kg + wt.crew_kg
+    # mass-independent factors of the cruise Oswald factor and of the wing mass, per design
+    e_wing_cr = aero.oswald_factor(ad.oswald_method, ar_c, ad.taper_ratio,
+                                   ad.sweep_quarter_chord_rad, 0.0, mach_cr, ad.oswald_k_ed0)
+    if e_scale is not None:
+        e_wing_cr = e_wing_cr * e_scale
+    wing_k = wt.wing_mass_factor * weights.wing_mass_usaf_coefficient(
+        ws_c, wt.ultimate_load_factor, ar_c, ad.taper_ratio, ad.thickness_ratio,
+        ad.sweep_quarter_chord_rad, v_h_eas)
 
     def pieces(m_to, ix=slice(None)):
         """All mass-dependent quantities for takeoff mass m_to [kg] of designs ``ix``."""
@@ -282,11 +290,9 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         w = m_to * G0
         s_ref = w / ws_i
         span = np.sqrt(ar_i * s_ref)
-        e_cr = aero.oswald_factor(ad.oswald_method, ar_i, ad.taper_ratio,
-                                  ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span,
-                                  mach_cr, ad.oswald_k_ed0)
-        if e_scale is not None:
-            e_cr = e_cr * e_scale[ix]
+        # e = (e of the wing alone, per design) x the fuselage factor at this span
+        e_cr = e_wing_cr[ix] * aero.oswald_fuselage_factor(ad.oswald_method,
+                                                            ad.fuselage_diameter_m / span)
         k_cr = aero.induced_drag_factor(ar_i, e_cr)
         cd0_i, eta_i = _at(cd0_cruise, ix), _at(eta_cr, ix)
         sfc_p_i, sfc_t_i = _at(sfc_p, ix), _at(sfc_t, ix)
@@ -308,9 +314,7 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
                                                    sfc_p_i, sfc_t_i, is_jet))
         reserve = w_end * (1.0 - 1.0 / res_ratio) / G0
         fuel = trip + reserve + ms.trapped_fuel_fraction * m_to
-        m_wing = wt.wing_mass_factor * weights.wing_mass_usaf(
-            m_to, wt.ultimate_load_factor, ar_i, s_ref, ad.taper_ratio, ad.thickness_ratio,
-            ad.sweep_quarter_chord_rad, v_h_eas)
+        m_wing = wing_k[ix] * m_to ** weights.WING_MASS_USAF_EXPONENT
         if is_jet:
             rated = tw[ix] * w
             m_eng = weights.turbofan_engine_mass(rated, pr.engine_thrust_to_weight,

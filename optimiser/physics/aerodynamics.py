@@ -51,9 +51,7 @@ def oswald_nita_scholz2012(aspect_ratio, taper_ratio, sweep_quarter_chord, fusel
     x = np.asarray(taper_ratio, dtype=float) - dlam
     f = 0.0524 * x**4 - 0.15 * x**3 + 0.1659 * x**2 - 0.0706 * x + 0.0119
     e_theo = 1.0 / (1.0 + f * a)
-    # d_F/b is clipped at 0.5 (k_eF >= 0.5) so that the estimate stays positive for the odd
-    # design far outside the method's range; inside it (d_F/b < 0.2) nothing changes
-    k_ef = 1.0 - 2.0 * np.minimum(np.asarray(fuselage_span_ratio, dtype=float), 0.5) ** 2
+    k_ef = oswald_fuselage_factor("nita_scholz2012", fuselage_span_ratio)
     m = np.asarray(mach, dtype=float)
     k_em = np.where(m <= 0.3, 1.0, 1.0 - 0.001521 * np.maximum(m / 0.3 - 1.0, 0.0) ** 10.82)
     return e_theo * k_ef * k_ed0 * k_em
@@ -75,6 +73,23 @@ OSWALD_METHODS = {
     "obert2009": "Obert (2009), Aerodynamic Design of Transport Aircraft, p. 542; unswept to moderate sweep",
 }
 """Registry of Oswald-factor methods: key -> citation and validity."""
+
+
+def oswald_fuselage_factor(method, fuselage_span_ratio):
+    """The fuselage's factor of the Oswald factor of ``method`` [-]: the method's e is the
+    product of this and the method's e at d_F/b = 0 (see :func:`oswald_factor`).
+
+    Nita & Scholz: k_eF = 1 - 2 (d_F/b)^2, d_F/b clipped at 0.5 (k_eF >= 0.5) so that the
+    estimate stays positive for the odd design far outside the method's range (inside it,
+    d_F/b < 0.2, nothing changes). Obert's e has no fuselage term: 1.
+    """
+    r = np.asarray(fuselage_span_ratio, dtype=float)
+    if method == "nita_scholz2012":
+        return 1.0 - 2.0 * np.minimum(r, 0.5) ** 2
+    if method == "obert2009":
+        return np.ones_like(r)
+    raise ValueError(f"unknown Oswald method {method!r}; choose one of: "
+                     + ", ".join(repr(k) for k in OSWALD_METHODS))
 
 
 def oswald_factor(method, aspect_ratio, taper_ratio, sweep_quarter_chord, fuselage_span_ratio,

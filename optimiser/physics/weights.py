@@ -60,6 +60,25 @@ def wing_mass_usaf(takeoff_mass, ultimate_load_factor, aspect_ratio, wing_area, 
     return 96.948 * inner**0.993 * _LB
 
 
+WING_MASS_USAF_EXPONENT = (0.65 + 0.61) * 0.993
+"""At a fixed wing loading S = m g / (W/S), so the USAF wing mass is K m^x with this x."""
+
+
+def wing_mass_usaf_coefficient(wing_loading, ultimate_load_factor, aspect_ratio, taper_ratio,
+                               thickness_ratio, sweep_quarter_chord, max_equivalent_airspeed):
+    """K [kg^(1 - x)] with :func:`wing_mass_usaf` = K m^x at a fixed wing loading [N m^-2]
+    (x = :data:`WING_MASS_USAF_EXPONENT`): the same equation with S = m g / (W/S), its
+    mass-independent factors gathered once (a mass iteration then costs one power)."""
+    cos2 = np.cos(sweep_quarter_chord) ** 2
+    v_kt = np.asarray(max_equivalent_airspeed, float) / _KT
+    per_mass = ((ultimate_load_factor / (_LB * 1e5)) ** 0.65
+                * (G0 / (np.asarray(wing_loading, float) * _FT2 * 100.0)) ** 0.61
+                * (np.asarray(aspect_ratio, float) / cos2) ** 0.57
+                * ((1.0 + taper_ratio) / (2.0 * thickness_ratio)) ** 0.36
+                * (1.0 + v_kt / 500.0) ** 0.5)
+    return 96.948 * per_mass**0.993 * _LB
+
+
 def propeller_engine_mass(rated_power, specific_mass):
     """Installed engine-and-propeller mass [kg] from total rated power [W] and kg/kW."""
     return np.asarray(rated_power, float) / 1e3 * specific_mass

@@ -176,3 +176,17 @@ def test_nita_scholz_stays_physical(a, lam, sweep, dfb, m):
     # in its validity range the Oswald factor is between 0 and 1 (definition of e)
     e = aero.oswald_nita_scholz2012(a, lam, np.radians(sweep), dfb, m, 0.873)
     assert 0.0 < e < 1.0
+
+
+@pytest.mark.parametrize("method", sorted(aero.OSWALD_METHODS))
+def test_oswald_factor_is_the_wing_value_times_the_fuselage_factor(method):
+    # the sizing computes e = e(d_F/b = 0) x k_eF(d_F/b) (the wing part once per design);
+    # Nita & Scholz's k_eF = 1 - 2 (d_F/b)^2, Obert's e has no fuselage term
+    ratio = np.array([0.0, 0.05, 0.12, 0.3, 0.7])
+    full = aero.oswald_factor(method, 9.0, 0.45, 0.1, ratio, 0.5, 0.804)
+    wing = aero.oswald_factor(method, 9.0, 0.45, 0.1, 0.0, 0.5, 0.804)
+    k_ef = aero.oswald_fuselage_factor(method, ratio)
+    np.testing.assert_allclose(wing * k_ef, full, rtol=1e-14)
+    expected = (1.0 - 2.0 * np.minimum(ratio, 0.5) ** 2 if method == "nita_scholz2012"
+                else np.ones(5))
+    np.testing.assert_allclose(k_ef, expected, rtol=0, atol=1e-15)

@@ -83,3 +83,16 @@ def test_high_lift_mass():
     # -> 69.12 + 32.64 + 12 = 113.76 kg
     assert wts.high_lift_mass(16.0, 0.18, 24.0, 0.12, 17.0, 12.0) == pytest.approx(113.76,
                                                                                    abs=1e-9)
+
+
+def test_usaf_wing_at_fixed_wing_loading_is_k_times_a_power_of_mass():
+    # with S = m g / (W/S) the USAF equation is K m^((0.65 + 0.61) 0.993); the sizing's mass
+    # iteration uses that form, so it must equal the full equation (to rounding)
+    rng = np.random.default_rng(4)
+    m = rng.uniform(500.0, 20000.0, 200)
+    ws = rng.uniform(300.0, 6000.0, 200)
+    ar = rng.uniform(5.0, 14.0, 200)
+    full = wts.wing_mass_usaf(m, 5.7, ar, m * G0 / ws, 0.5, 0.14, 0.05, 90.0)
+    k = wts.wing_mass_usaf_coefficient(ws, 5.7, ar, 0.5, 0.14, 0.05, 90.0)
+    assert wts.WING_MASS_USAF_EXPONENT == pytest.approx(1.25118, abs=1e-12)
+    np.testing.assert_allclose(k * m ** wts.WING_MASS_USAF_EXPONENT, full, rtol=1e-12)
