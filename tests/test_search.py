@@ -308,3 +308,21 @@ def test_default_checkpoints_follow_the_running_time(study, tmp_path, monkeypatc
                        progress=lambda row, state: seen.append(load_checkpoint(out).generation))
     assert seen[1:] == expected
     assert load_checkpoint(out).generation == 4  # the final checkpoint
+
+
+def test_front_table_writer_reads_back_exactly_and_quotes_when_needed(tiny_run):
+    # front.csv and least_violating.csv go through Arrow's writer: every float back exactly,
+    # text unquoted; a cell with a comma falls back to pandas' quoting
+    import io
+    from optimiser.runs import _csv_bytes
+    front = tiny_run.front
+    back = pd.read_csv(io.BytesIO(_csv_bytes(front)))
+    assert list(back.columns) == list(front.columns)
+    for c in front.columns:
+        if front[c].dtype.kind == "f":
+            assert np.array_equal(back[c].to_numpy(float), front[c].to_numpy(float)), c
+    assert list(back["flap"]) == list(front["flap"])
+    odd = pd.DataFrame({"name": ["a,b", "c"], "x": [0.1, 1e-17]})
+    text = _csv_bytes(odd).decode()
+    assert text.splitlines()[1] == '"a,b",0.1'
+    assert pd.read_csv(io.StringIO(text))["x"].tolist() == [0.1, 1e-17]
