@@ -175,9 +175,12 @@ def _finite(values, shape, seen):
     """A float array of ``shape`` with no NaN or inf (a safety net: the model avoids them).
 
     An array of the right shape is returned as it is (no copy) unless it was already
-    returned for another key (``seen``: ids so far), so no two outputs share memory."""
+    returned for another key (``seen``: ids so far) or is a view into a larger array (a
+    column of the margin matrix, a part of a stacked evaluation), so no two outputs share
+    memory and an output keeps nothing larger than itself alive."""
     a = np.asarray(values, dtype=float)
-    if a.shape != shape or id(a) in seen:
+    base = a.base
+    if a.shape != shape or id(a) in seen or (base is not None and base.size != a.size):
         a = np.array(np.broadcast_to(a, shape))
     if not np.isfinite(a).all():
         a = np.nan_to_num(a, nan=0.0, posinf=1e12, neginf=-1e12)
