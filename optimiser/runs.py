@@ -246,9 +246,6 @@ def archive_columns(study) -> list[str]:
             "limiting_constraint"]
 
 
-_TEXT_COLUMNS = ("flap", "limiting_constraint")
-
-
 def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     """Rows of ``evaluations.csv`` (no header, UTF-8) for one generation of sized designs
     (``sized``: the dict of :func:`~optimiser.sizing.size_designs`).
@@ -572,7 +569,7 @@ def _history_text(row) -> str:
 
 def _one_generation(study, state, run_dir):
     """Ask, evaluate and tell every option once; append the archive and the history."""
-    from .search import design_arrays, hypervolume, objectives_and_constraints
+    from .search import design_arrays, hypervolume, objectives_and_constraints, total_violation
     from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
     pops = [algo.ask() for algo in state.algos]
@@ -596,7 +593,7 @@ def _one_generation(study, state, run_dir):
     n_feas = int(feas.sum())
     state.n_feasible += n_feas
     gen_set = DesignSet(np.column_stack([ws, load, ar]), flap,
-                        np.full(n_gen, state.generation), F, np.maximum(G, 0.0).sum(axis=1))
+                        np.full(n_gen, state.generation), F, total_violation(G))
     if n_feas:
         state.front = _merge_front(state.front, gen_set.take(feas))
     _update_least(study, state, gen_set, G)

@@ -216,7 +216,7 @@ def hypervolume(F, scales) -> float:
     return float(HV(ref_point=ref)(Fn))
 
 
-def total_violation(frame, study) -> np.ndarray:
-    """Sum of the constraint shortfalls (normalised margins below zero) of each row."""
-    _, G = objectives_and_constraints(study, frame)
-    return np.maximum(G, 0.0).sum(axis=1)
+def total_violation(G) -> np.ndarray:
+    """Sum of the constraint shortfalls (normalised margins below zero) of each row of the
+    constraint matrix G of :func:`objectives_and_constraints`."""
+    return np.maximum(np.asarray(G, float), 0.0).sum(axis=1)
