@@ -4,7 +4,8 @@ A run folder holds ``study.toml`` (the study text), ``run.json`` (versions, seed
 termination, counts, the hypervolume reference, the caution), ``front.csv`` (the feasible
 non-dominated designs over all flap options, every evaluate column), ``evaluations.csv``
 (every evaluated design: generation, inputs, flap, objectives, a summary, margins and
-feasibility, appended each generation; see :func:`archive_columns`),
+feasibility, appended in batches before every checkpoint and every
+:data:`ARCHIVE_BUFFER_ROWS` rows; see :func:`archive_columns`),
 ``history.csv`` (per generation: evaluations, feasible count, hypervolume, best of each
 objective), ``checkpoint.pkl`` (the whole run state) and ``plots/``. When no design is
 feasible, ``least_violating.csv`` replaces ``front.csv``.
@@ -247,8 +248,9 @@ def archive_columns(study) -> list[str]:
 
 
 def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
-    """Rows of ``evaluations.csv`` (no header, UTF-8) for one generation of sized designs
-    (``sized``: the dict of :func:`~optimiser.sizing.size_designs`).
+    """Rows of ``evaluations.csv`` (no header, UTF-8) for sized designs (``sized``: the dict
+    of :func:`~optimiser.sizing.size_designs`, or the columns of the archive it gives);
+    ``generation`` is one number or one per design.
 
     Written by Apache Arrow's CSV writer: floats in their shortest exact form (about three
     times faster than Python's repr for the same text); flap and constraint names are plain
@@ -263,7 +265,7 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     limiting = np.asarray(active_constraints(study.spec), dtype=object)
     n = len(ws)
     source = {
-        "generation": np.full(n, int(generation), dtype=np.int64),
+        "generation": np.broadcast_to(np.asarray(generation, dtype=np.int64), (n,)),
         cols[1]: np.asarray(ws, float), cols[2]: np.asarray(load, float),
         cols[3]: np.asarray(ar, float),
         "flap": pa.array(names[np.asarray(flap, int)].tolist(), type=pa.string()),
@@ -519,6 +521,41 @@ def _objective_cols(study):
     return list(study.objective_columns())
 
 
+ARCHIVE_BUFFER_ROWS = 20_000
+"""Rows of evaluations.csv held in memory at most before they are written (ours: a few MB);
+they are also written before every checkpoint, so a checkpoint always finds them on disk."""
+
+
+class _Pending:
+    """The archive rows and history lines of the generations since the last write: one
+    Arrow call formats many generations at once (about 40 % less time per row than one call
+    per generation, measured)."""
+
+    def __init__(self):
+        self.parts, self.history, self.rows = [], [], 0
+
+    def add(self, generation, ws, load, ar, flap, sized, history_text, archive_cols):
+        keep = {c: np.asarray(sized[c]) for c in archive_cols if c in sized}
+        keep["feasible"] = np.asarray(sized["feasible"], bool)
+        keep["limiting_index"] = np.asarray(sized["limiting_index"])
+        self.parts.append((np.full(len(ws), generation), ws, load, ar, flap, keep))
+        self.history.append(history_text)
+        self.rows += len(ws)
+
+    def write(self, study, state, run_dir):
+        """Append what is pending (archive first, then history) and record the lengths."""
+        if not self.parts:
+            return
+        gen, ws, load, ar, flap = (np.concatenate([p[k] for p in self.parts]) for k in range(5))
+        sized = {c: np.concatenate([p[5][c] for p in self.parts]) for c in self.parts[0][5]}
+        history = "".join(self.history)
+        # emptied first: a failed write ends the run, and resume starts from the checkpoint
+        self.parts, self.history, self.rows = [], [], 0
+        state.archive_bytes = _append(run_dir / "evaluations.csv",
+                                      archive_rows(study, gen, ws, load, ar, flap, sized))
+        state.history_bytes = _append(run_dir / "history.csv", history)
+
+
 def _merge_front(front, new: DesignSet) -> DesignSet:
     """The feasible non-dominated designs of ``front`` followed by ``new``."""
     from .search import merge_nondominated, nondominated_mask
@@ -567,8 +604,9 @@ def _history_text(row) -> str:
     return ",".join(cells) + "\n"
 
 
-def _one_generation(study, state, run_dir):
-    """Ask, evaluate and tell every option once; append the archive and the history."""
+def _one_generation(study, state, run_dir, pending=None):
+    """Ask, evaluate and tell every option once; append the archive and the history (to
+    ``pending``, a :class:`_Pending`, when given: the caller writes it)."""
     from .search import design_arrays, hypervolume, objectives_and_constraints, total_violation
     from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
@@ -604,11 +642,15 @@ def _one_generation(study, state, run_dir):
         state.stall = 0
     elif state.best_hv > 0:
         state.stall += 1
-    state.archive_bytes = _append(run_dir / "evaluations.csv",
-                                  archive_rows(study, state.generation, ws, load, ar, flap,
-                                               sized))
     row = _history_row(study, state, n_feas, hv)
-    state.history_bytes = _append(run_dir / "history.csv", _history_text(row))
+    if pending is None:
+        state.archive_bytes = _append(run_dir / "evaluations.csv",
+                                      archive_rows(study, state.generation, ws, load, ar, flap,
+                                                   sized))
+        state.history_bytes = _append(run_dir / "history.csv", _history_text(row))
+    else:
+        pending.add(state.generation, ws, load, ar, flap, sized, _history_text(row),
+                    archive_columns(study))
     return row
 
 
@@ -693,13 +735,14 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
         since_ckpt = 0
         last_ckpt = time.monotonic()
         every = state.budget.checkpoint_every
+        pending = _Pending()
         while True:
             reason = _why_stop(state)
             if reason is not None:
                 state.termination = reason
                 break
             t0 = time.monotonic()
-            row = _one_generation(study, state, run_dir)
+            row = _one_generation(study, state, run_dir, pending)
             state.elapsed_s += time.monotonic() - t0
             row["elapsed_s"] = round(state.elapsed_s, 3)
             since_ckpt += 1
@@ -710,15 +753,19 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
                 except KeyboardInterrupt:
                     interrupted = True
             if interrupted:
+                pending.write(study, state, run_dir)
                 save_checkpoint(run_dir, state)
                 raise RunInterrupted(run_dir)
             due = since_ckpt >= every if every is not None else \
                 time.monotonic() - last_ckpt >= CHECKPOINT_INTERVAL_S
+            if due or pending.rows >= ARCHIVE_BUFFER_ROWS:
+                pending.write(study, state, run_dir)
             if due:
                 save_checkpoint(run_dir, state)
                 saved["generation"] = state.generation
                 since_ckpt = 0
                 last_ckpt = time.monotonic()
+        pending.write(study, state, run_dir)
     finally:
         _close_appended()
         for sig, h in previous.items():

@@ -326,3 +326,26 @@ def test_front_table_writer_reads_back_exactly_and_quotes_when_needed(tiny_run):
     text = _csv_bytes(odd).decode()
     assert text.splitlines()[1] == '"a,b",0.1'
     assert pd.read_csv(io.StringIO(text))["x"].tolist() == [0.1, 1e-17]
+
+
+def test_archive_rows_wait_in_memory_at_most_the_buffer_limit(study, tmp_path, monkeypatch):
+    # between checkpoints the archive rows are written in batches once ARCHIVE_BUFFER_ROWS
+    # are pending; the file never lags by more than that plus one generation, and ends whole
+    from optimiser import runs
+    monkeypatch.setattr(runs, "ARCHIVE_BUFFER_ROWS", 100)
+    monkeypatch.setattr(runs, "CHECKPOINT_INTERVAL_S", 1e9)
+    out = tmp_path / "run"
+    lag = []
+
+    def hook(row, state):
+        on_disk = len(pd.read_csv(out / "evaluations.csv"))
+        lag.append(state.n_evaluations - on_disk)
+
+    result = optimiser.optimise(study, out=out, population=24, generations=12, plots=False,
+                                progress=hook)
+    per_generation = result.n_evaluations // 12
+    assert max(lag) < 100 + 2 * per_generation
+    assert min(lag[4:]) < max(lag)  # it was written part-way, not only at the end
+    archive = pd.read_csv(out / "evaluations.csv")
+    assert len(archive) == result.n_evaluations
+    assert np.all(np.diff(archive["generation"].to_numpy()) >= 0)
