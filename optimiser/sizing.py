@@ -474,10 +474,11 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
         v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho, ad.cl_max_clean)
         if is_jet:
             tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
-            for _ in range(2):
+            for step in range(2):
                 v = np.sqrt(ws_i / (3.0 * rho * cd0_h) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0_h
                                                                           * k_i)))
-                tw_h = eng.thrust(v, 1.0) / w_i
+                if step == 0:  # the second speed's thrust is evaluated below, at the floor
+                    tw_h = eng.thrust(v, 1.0) / w_i
         else:
             v = np.sqrt(2.0 * ws_i / (rho * np.sqrt(3.0 * cd0_h / k_i)))
         v = np.maximum(v, v_floor)

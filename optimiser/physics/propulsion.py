@@ -61,13 +61,27 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
     .. [1] J. D. Mattingly, W. H. Heiser, D. T. Pratt, "Aircraft Engine Design", 2nd ed.,
        AIAA, 2002, sec. 2.3.2, eq. (2.45a) (from memory).
     """
+    # written with in-place operations (the same operations in the same order as the
+    # formulas above): these arrays are large in the ground-roll quadrature
     m = np.maximum(np.asarray(mach, dtype=float), 0.0)
-    ram = 1.0 + 0.2 * m * m
+    ram = 0.2 * m
+    ram *= m
+    ram += 1.0                                                    # 1 + 0.2 M^2
     theta0 = np.asarray(temperature, dtype=float) / T0 * ram
-    delta0 = np.asarray(pressure, dtype=float) / P0 * (ram * ram * ram * np.sqrt(ram))  # ^3.5
-    base = 1.0 - 0.49 * np.sqrt(m)
-    hot = 3.0 * np.maximum(theta0 - throttle_ratio, 0.0) / (1.5 + m)
-    return np.maximum(delta0 * (base - hot), 0.0)
+    ram35 = ram * ram
+    ram35 *= ram
+    ram35 *= np.sqrt(ram)                                         # (1 + 0.2 M^2)^3.5
+    delta0 = np.asarray(pressure, dtype=float) / P0 * ram35
+    base = np.sqrt(m)
+    base *= -0.49
+    base += 1.0                                                   # 1 - 0.49 sqrt(M)
+    theta0 -= throttle_ratio
+    np.maximum(theta0, 0.0, out=theta0)
+    theta0 *= 3.0
+    theta0 /= 1.5 + m                                             # the hot-day term
+    base -= theta0
+    base *= delta0
+    return np.maximum(base, 0.0, out=base)
 
 
 def propeller_diameter(power_per_engine, coefficient=0.56):
