@@ -61,8 +61,8 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
     .. [1] J. D. Mattingly, W. H. Heiser, D. T. Pratt, "Aircraft Engine Design", 2nd ed.,
        AIAA, 2002, sec. 2.3.2, eq. (2.45a) (from memory).
     """
-    # written with in-place operations (the same operations in the same order as the
-    # formulas above): these arrays are large in the ground-roll quadrature
+    # written with augmented operations (the same operations in the same order as the
+    # formulas above), in place for arrays: these are large in the ground-roll quadrature
     m = np.maximum(np.asarray(mach, dtype=float), 0.0)
     ram = 0.2 * m
     ram *= m
@@ -76,12 +76,12 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
     base *= -0.49
     base += 1.0                                                   # 1 - 0.49 sqrt(M)
     theta0 -= throttle_ratio
-    np.maximum(theta0, 0.0, out=theta0)
+    theta0 = np.maximum(theta0, 0.0)
     theta0 *= 3.0
     theta0 /= 1.5 + m                                             # the hot-day term
     base -= theta0
     base *= delta0
-    return np.maximum(base, 0.0, out=base)
+    return np.maximum(base, 0.0)
 
 
 def propeller_diameter(power_per_engine, coefficient=0.56):
