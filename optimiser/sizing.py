@@ -562,20 +562,16 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     # narrow the bracket (to within the tolerance when the prediction holds, as it does
     # without wave drag and above the propeller's blend speed): the root solve then has
     # little or nothing left to do. Propellers: largest root of a_d V^4 - (eta P / W) V + b_d
-    # by Newton from v_free (convex, so it falls monotonically onto it); jets: thrust = drag
-    # at the thrust of the previous estimate's Mach number.
+    # by Newton from v_free (convex, so it falls monotonically onto it); jets: Newton on
+    # drag - thrust with the wave drag (below).
     v_tol = 1e-3
     v = v_free
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         if is_jet:
-            for _ in range(3):
-                t_w = eng_cr.thrust(v, 1.0) / w_cr
-                v = np.sqrt((t_w + np.sqrt(t_w * t_w - 4.0 * a_d * b_d)) / (2.0 * a_d))
-            # then Newton on drag - thrust with Lock's wave drag, from that speed (above the
-            # root: wave drag only lowers it), derivatives analytic for the drag and by a
-            # difference for the thrust
-            v = np.clip(np.minimum(np.nan_to_num(v, nan=0.0), ad.drag_divergence_mach * a_cr),
-                        v_start, v_hi)  # no higher than M_DD: the fourth power slows Newton
+            # Newton on drag - thrust with Lock's wave drag, derivatives analytic for the
+            # drag and by a difference for the thrust, from the lower of v_free and the
+            # drag-divergence speed (above it the fourth power slows Newton)
+            v = np.clip(np.minimum(v, ad.drag_divergence_mach * a_cr), v_start, v_hi)
             m_crit = ad.drag_divergence_mach - (0.1 / 80.0) ** (1.0 / 3.0)
             for _ in range(5):
                 over = np.maximum(v / a_cr - m_crit, 0.0)
