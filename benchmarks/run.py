@@ -345,9 +345,15 @@ def main():
     import csv
     out = ROOT / "benchmarks" / "results.csv"
     kept = []
-    if out.exists():  # keep the rows of the parts not run this time
+    if out.exists():  # keep the rows of the parts, and of the studies, not run this time
+        def measured_now(r):
+            if r["part"] not in parts:
+                return False
+            if r["part"] in ("model", "quality"):  # per-study rows
+                return any(r["item"].startswith(name + " ") for name in STUDIES)
+            return True
         with open(out, newline="") as fh:
-            kept = [r for r in csv.DictReader(fh) if r["part"] not in parts]
+            kept = [r for r in csv.DictReader(fh) if not measured_now(r)]
     ROWS[:0] = kept
     with open(out, "w", newline="") as fh:
         w = csv.DictWriter(fh, fieldnames=["part", "item", "value", "unit", "goal", "met"])
