@@ -150,10 +150,9 @@ def merge_nondominated(F_old, F_new, chunk=2048):
     F_old = np.asarray(F_old, float)
     F_new = np.asarray(F_new, float)
     keep_old = np.ones(len(F_old), bool)
+    if len(F_old) == 0 or len(F_new) == 0:
+        return keep_old, nondominated_mask(F_new)  # nothing to compare across
     keep_new = np.ones(len(F_new), bool)
-    if len(F_new) == 0 or len(F_old) == 0:
-        keep_new[:] = nondominated_mask(F_new) if len(F_new) else keep_new
-        return keep_old, keep_new
     for a in range(0, len(F_old), chunk):
         keep_new &= ~_covers(F_old[a:a + chunk], F_new).any(axis=1)
     survivors = np.flatnonzero(keep_new)

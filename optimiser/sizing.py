@@ -572,15 +572,13 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
             # drag and by a difference for the thrust, from the lower of v_free and the
             # drag-divergence speed (above it the fourth power slows Newton)
             v = np.clip(np.minimum(v, ad.drag_divergence_mach * a_cr), v_start, v_hi)
-            m_crit = ad.drag_divergence_mach - (0.1 / 80.0) ** (1.0 / 3.0)
             for _ in range(5):
-                over = np.maximum(v / a_cr - m_crit, 0.0)
-                over3 = over * over * over
-                cd = cd0 + 20.0 * over3 * over
+                cdw, dcdw_dm = aero.wave_drag_lock_and_slope(v / a_cr, ad.drag_divergence_mach)
+                cd = cd0 + cdw
                 q = 0.5 * rho_cr * v * v
                 t_w = eng_cr.thrust(v, 1.0) / w_cr
-                g = q * cd / ws_cr + k_cr * ws_cr / q - t_w
-                dg = (rho_cr * v * cd / ws_cr + q * 80.0 * over3 / (a_cr * ws_cr)
+                g = performance.drag_to_weight(v, ws_cr, rho_cr, cd, k_cr) - t_w
+                dg = (rho_cr * v * cd / ws_cr + q * dcdw_dm / (a_cr * ws_cr)
                       - 2.0 * k_cr * ws_cr / (q * v)
                       - (eng_cr.thrust(v * (1.0 + 1e-6), 1.0) / w_cr - t_w) / (1e-6 * v))
                 v = np.clip(v - g / dg, v_start, v_hi)
@@ -599,16 +597,6 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     fa_v = np.where(past_lo, np.where(past_hi, f_phi, f_plo), f_start)
     b_v = np.where(past_lo, np.where(past_hi, v_hi, p_hi), p_lo)
     fb_v = np.where(past_lo, np.where(past_hi, f_hi, f_phi), f_plo)
-    # where the bracket spans the drag-divergence Mach number, split it there: above it the
-    # wave drag rises steeply, and one end far up that rise would slow the solve
-    v_knee = ad.drag_divergence_mach * a_cr
-    split = solve & (a_v < v_knee) & (v_knee < b_v) & (b_v - a_v > v_tol)
-    if split.any():
-        f_knee = np.where(split, excess(np.where(split, v_knee, a_v)), 0.0)
-        up = split & (f_knee >= 0.0)
-        down = split & (f_knee < 0.0)
-        a_v, fa_v = np.where(up, v_knee, a_v), np.where(up, f_knee, fa_v)
-        b_v, fb_v = np.where(down, v_knee, b_v), np.where(down, f_knee, fb_v)
     v_max = performance.falling_root(excess, a_v, b_v, fa_v, fb_v, xtol=v_tol)
     narrowed = (b_v - a_v <= v_tol) & solve
     v_max = np.where(narrowed, 0.5 * (a_v + b_v), v_max)

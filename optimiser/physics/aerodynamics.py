@@ -157,8 +157,22 @@ def wave_drag_lock(mach, drag_divergence_mach):
     .. [1] Lock's empirical law, as given by W. H. Mason, "Configuration Aerodynamics",
        Virginia Tech, ch. 7 (from memory).
     """
+    return 20.0 * _beyond_critical_mach(mach, drag_divergence_mach) ** 4
+
+
+def _beyond_critical_mach(mach, drag_divergence_mach):
+    """max(M - M_crit, 0) of Lock's law, M_crit = M_DD - (0.1 / 80)^(1/3)."""
     m_crit = np.asarray(drag_divergence_mach, dtype=float) - (0.1 / 80.0) ** (1.0 / 3.0)
-    return 20.0 * np.maximum(np.asarray(mach, dtype=float) - m_crit, 0.0) ** 4
+    return np.maximum(np.asarray(mach, dtype=float) - m_crit, 0.0)
+
+
+def wave_drag_lock_and_slope(mach, drag_divergence_mach):
+    """Lock's wave-drag increment [-] and its slope dC_D/dM [-] (see :func:`wave_drag_lock`):
+    20 (M - M_crit)^4 and 80 (M - M_crit)^3 above M_crit, zero below (by products, for a
+    solver's inner loop)."""
+    over = _beyond_critical_mach(mach, drag_divergence_mach)
+    over3 = over * over * over
+    return 20.0 * over3 * over, 80.0 * over3
 
 
 def drag_coefficient(cl, cd0, k):

@@ -190,3 +190,15 @@ def test_oswald_factor_is_the_wing_value_times_the_fuselage_factor(method):
     expected = (1.0 - 2.0 * np.minimum(ratio, 0.5) ** 2 if method == "nita_scholz2012"
                 else np.ones(5))
     np.testing.assert_allclose(k_ef, expected, rtol=0, atol=1e-15)
+
+
+def test_lock_wave_drag_slope_is_its_derivative():
+    # 20 (M - M_crit)^4 with dC_D/dM = 0.1 at M_DD (Lock's definition of M_DD, Mason, from
+    # memory); the solver's pair gives the same increment and its derivative
+    mach = np.array([0.5, 0.70, 0.78, 0.80, 0.85])
+    cdw, slope = aero.wave_drag_lock_and_slope(mach, 0.78)
+    np.testing.assert_allclose(cdw, aero.wave_drag_lock(mach, 0.78), rtol=1e-14, atol=0)
+    h = 1e-6
+    numeric = (aero.wave_drag_lock(mach + h, 0.78) - aero.wave_drag_lock(mach - h, 0.78)) / (2 * h)
+    np.testing.assert_allclose(slope, numeric, rtol=1e-6, atol=1e-12)
+    assert slope[2] == pytest.approx(0.1, rel=1e-12)
