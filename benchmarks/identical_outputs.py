@@ -55,7 +55,7 @@ def _normalised(path: Path, root: Path) -> bytes:
         return data   # matplotlib metadata is fixed by the figure helper (no dates)
     if path.suffix in {".json", ".html", ".md", ".txt", ".svg", ".toml"}:
         text = data.decode("utf-8", errors="replace")
-        text = text.replace(str(root), "<ROOT>")
+        text = text.replace(str(root), "<ROOT>").replace(str(REPO), "<REPO>")
         text = VOLATILE.sub(lambda m: f'"{m.group(1)}": "<volatile>"', text)
         if path.suffix in {".svg", ".html"}:
             text = re.sub(r"<dc:date>[^<]*</dc:date>", "", text)
