@@ -63,7 +63,8 @@ def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_p
     ia = np.flatnonzero(active)
 
     def part(v):
-        return np.broadcast_to(np.asarray(v, dtype=float), (n,))[ia]
+        v = np.asarray(v, dtype=float)
+        return np.full(ia.size, float(v)) if v.ndim == 0 else v[ia]
 
     lo, hi, r_lo, r_hi = part(low), part(high), part(f_low), part(f_high)
     m_prev, r_prev = part(x_prev), part(f_prev)

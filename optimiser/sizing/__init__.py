@@ -23,14 +23,17 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from ..spec import AircraftSpec
 from .aero import (AirStates, CleanDrag, HighLift, LowSpeedPolar, air_states, clean_drag,
                    high_lift, low_speed_polar)
 from .airplane import Airplane, airplane, maintenance_index
-from .closure import (MassClosure, MassGroups, MissionFuel, close_takeoff_mass, closure_inputs,
-                      mass_groups, mission_fuel)
+from .closure import (ClosureInputs, MassClosure, MassGroups, MissionFuel, close_takeoff_mass,
+                      closure_inputs, mass_groups, mission_fuel)
 from .columns import output_columns
-from .engines import InstalledPropulsion, cruise_consumption, installed_propulsion
+from .engines import (CruiseConsumption, InstalledPropulsion, cruise_consumption,
+                      installed_propulsion)
 from .field import Landing, Takeoff, TakeoffField, landing, takeoff, takeoff_field
 from .flight import Climb, CruiseSpeed, climb_and_ceiling, cruise_speed, oei_climb_gradient
 from .inputs import OVERRIDE_KEYS, DesignBatch, design_batch
@@ -38,7 +41,7 @@ from .margins import CONSTRAINT_LABELS, Margins, active_constraints, constraint_
 
 __all__ = [
     "CONSTRAINT_LABELS", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
-    "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
+    "ClosureInputs", "CruiseConsumption", "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
     "Margins", "MassClosure", "MassGroups", "MissionFuel", "SizedBatch", "Takeoff",
     "TakeoffField", "active_constraints", "air_states", "airplane", "clean_drag",
     "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
@@ -57,13 +60,13 @@ class SizedBatch:
     closure: MassClosure
     airplane: Airplane
     takeoff: Takeoff
-    oei_climb_gradient: object  # ndarray [-]
+    oei_climb_gradient: np.ndarray  # [-]
     takeoff_field: TakeoffField
     landing: Landing
     climb: Climb
     cruise_speed: CruiseSpeed
     margins: Margins
-    maintenance_index: object  # ndarray [-]
+    maintenance_index: np.ndarray  # [-]
 
 
 def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
