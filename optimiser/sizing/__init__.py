@@ -1,0 +1,140 @@
+"""Size a batch of designs completely: closed takeoff mass, mission fuel, every margin.
+
+:func:`size_designs` composes named stages over arrays (one element per design, no Python
+loop over designs). Inputs are the four decision variables; everything else comes from a
+resolved :class:`~optimiser.spec.AircraftSpec` (SI, no ``None`` left). Each stage is a pure
+function returning a frozen dataclass of arrays:
+
+``design_batch`` (inputs) -> ``air_states`` -> ``clean_drag``, ``high_lift``,
+``cruise_consumption`` -> ``closure_inputs`` -> ``close_takeoff_mass`` (with
+``mission_fuel`` and ``mass_groups`` inside) -> ``installed_propulsion``,
+``low_speed_polar`` -> :class:`Airplane` -> ``takeoff``, ``oei_climb_gradient``,
+``takeoff_field``, ``landing``, ``climb_and_ceiling``, ``cruise_speed`` ->
+``constraint_margins``.
+
+The stages after the closure take only an :class:`Airplane` (geometry, engines, high lift,
+polar, mass) and the air states, so a fixed airplane can be analysed without re-closing it.
+
+Margins are positive when a constraint is met, as a fraction of its limit:
+``1 - value / limit`` for upper limits and ``value / limit - 1`` for lower limits.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..spec import AircraftSpec
+from .aero import (AirStates, CleanDrag, HighLift, LowSpeedPolar, air_states, clean_drag,
+                   high_lift, low_speed_polar)
+from .airplane import Airplane, airplane, maintenance_index
+from .closure import (ClosureInputs, MassClosure, MassGroups, MissionFuel, close_takeoff_mass,
+                      closure_inputs, mass_groups, mission_fuel)
+from .columns import output_columns
+from .engines import (CruiseConsumption, InstalledPropulsion, cruise_consumption,
+                      installed_propulsion)
+from .field import Landing, Takeoff, TakeoffField, landing, takeoff, takeoff_field
+from .flight import Climb, CruiseSpeed, climb_and_ceiling, cruise_speed, oei_climb_gradient
+from .inputs import OVERRIDE_KEYS, DesignBatch, design_batch
+from .margins import CONSTRAINT_LABELS, Margins, active_constraints, constraint_margins
+
+__all__ = [
+    "CONSTRAINT_LABELS", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
+    "ClosureInputs", "CruiseConsumption", "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
+    "Margins", "MassClosure", "MassGroups", "MissionFuel", "SizedBatch", "Takeoff",
+    "TakeoffField", "active_constraints", "air_states", "airplane", "clean_drag",
+    "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
+    "cruise_consumption", "cruise_speed", "design_batch", "high_lift", "installed_propulsion",
+    "landing", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
+    "oei_climb_gradient", "size_batch", "size_designs", "takeoff", "takeoff_field",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class SizedBatch:
+    """Every stage's result for one batch (see the module docstring for the stages)."""
+
+    batch: DesignBatch
+    air: AirStates
+    closure: MassClosure
+    airplane: Airplane
+    takeoff: Takeoff
+    oei_climb_gradient: np.ndarray  # [-]
+    takeoff_field: TakeoffField
+    landing: Landing
+    climb: Climb
+    cruise_speed: CruiseSpeed
+    margins: Margins
+    maintenance_index: np.ndarray  # [-]
+
+
+def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
+               overrides=None) -> SizedBatch:
+    """Size every design of a batch and keep each stage's typed result.
+
+    Parameters and units as :func:`size_designs`; returns a :class:`SizedBatch`.
+    """
+    batch = design_batch(spec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
+                         overrides)
+    ov = batch.overrides
+    air = air_states(spec)
+    drag = clean_drag(spec, batch.aspect_ratio, air, ov)
+    hl = high_lift(spec, batch.high_lift_index)
+    consumption = cruise_consumption(spec, ov)
+    closure = close_takeoff_mass(closure_inputs(spec, batch, air, drag, hl, consumption))
+    st = closure.state
+    polar = low_speed_polar(spec, batch.aspect_ratio, st.span_m, drag, hl, ov)
+    engines = installed_propulsion(spec, st.rated, ov)
+    ap = airplane(closure.takeoff_mass_kg, batch.wing_loading_N_m2, batch.aspect_ratio,
+                  st.wing_area_m2, st.span_m, engines, hl, drag, polar)
+    to = takeoff(spec, ap, air)
+    oei = oei_climb_gradient(spec, ap, air)
+    field = takeoff_field(spec, ap, air, to, oei)
+    land = landing(spec, ap, air)
+    climb = climb_and_ceiling(spec, ap)
+    cruise = cruise_speed(spec, ap, air, consumption.propeller_efficiency,
+                          st.fuel.start_cruise_weight_N, st.induced_drag_factor_cruise)
+    margins = constraint_margins(
+        spec, closure_margin=closure.closure_margin, takeoff_mass_kg=ap.mass_kg,
+        min_runway_acceleration_m_s2=to.min_runway_acceleration_m_s2,
+        stall_speed_m_s=land.stall_speed_m_s, takeoff_field_required_m=field.required_m,
+        landing_distance_m=land.distance_m, climb_rate_m_s=climb.climb_rate_m_s,
+        climb_gradient=climb.climb_gradient, oei_climb_gradient=oei,
+        cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m)
+    return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
+                      maintenance_index(ap))
+
+
+def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
+                 overrides=None):
+    """Size every design of a batch.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study (SI).
+    wing_loading_N_m2 : array_like
+        Takeoff wing loading W/S [N m^-2].
+    loading : array_like
+        Power loading W/P [N kW^-1] (piston, turboprop) or thrust-to-weight T/W [-] (turbofan),
+        both at takeoff weight and sea-level static rating.
+    aspect_ratio : array_like
+        [-].
+    high_lift_index : array_like of int
+        Index into ``spec.high_lift``.
+    overrides : dict of str -> array_like, optional
+        Per-design values of a few spec numbers (keys of :data:`OVERRIDE_KEYS`), each one
+        value per design or a single value; they replace the study-wide scalar wherever it is
+        used. Without ``overrides`` the results are those of the spec alone, bit for bit.
+
+    Returns
+    -------
+    dict of str -> ndarray
+        Sized numbers (SI, names with unit suffixes), ``margin_<constraint>`` for each active
+        constraint, ``feasible`` (bool) and ``limiting_index`` (index into
+        :func:`active_constraints` of the smallest margin); the columns of
+        :func:`size_batch`'s stages (:func:`~optimiser.sizing.columns.output_columns`).
+    """
+    return output_columns(spec, size_batch(spec, wing_loading_N_m2, loading, aspect_ratio,
+                                           high_lift_index, overrides))

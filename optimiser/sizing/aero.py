@@ -1,0 +1,258 @@
+"""Air states of a study's operating cases and the airplane's aerodynamics: clean drag, high
+lift, the low-speed and cruise drag polars."""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass, fields
+
+import numpy as np
+
+from ..physics import aerodynamics as aero
+from ..physics import atmosphere as atm
+from ..spec import AircraftSpec
+
+
+@functools.lru_cache(maxsize=256)
+def isa_state(h_m: float, dt_K: float = 0.0):
+    """(density, temperature, pressure, speed of sound) of the ISA at ``h_m`` with a
+    temperature offset, as floats; cached (a study asks for the same few states on every
+    call)."""
+    rho = float(atm.isa_density(h_m, dt_K))
+    t = float(atm.isa_temperature(h_m, dt_K))
+    return rho, t, float(atm.isa_pressure(h_m)), float(atm.speed_of_sound(t))
+
+
+@dataclass(frozen=True, slots=True)
+class AirStates:
+    """Air at the departure and destination airfields and at cruise, and the cruise speed."""
+
+    density_takeoff_kg_m3: float
+    temperature_takeoff_K: float
+    pressure_takeoff_Pa: float
+    density_landing_kg_m3: float
+    density_cruise_kg_m3: float
+    temperature_cruise_K: float
+    pressure_cruise_Pa: float
+    sound_speed_cruise_m_s: float
+    cruise_speed_m_s: float  # true airspeed flown
+    cruise_mach: float
+    cruise_dynamic_pressure_Pa: float
+
+
+def air_states(spec: AircraftSpec) -> AirStates:
+    """Air states of the study's operating cases (study-wide scalars).
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: airfield elevations [m] and temperature offsets [K], cruise altitude
+        [m], offset [K] and true airspeed [m s^-1].
+
+    Returns
+    -------
+    AirStates
+        Densities [kg m^-3], temperatures [K], pressures [Pa], the speed of sound [m s^-1],
+        the cruise Mach number [-] and dynamic pressure [Pa].
+
+    References
+    ----------
+    .. [1] NOAA, NASA and USAF, "U.S. Standard Atmosphere, 1976", NOAA-S/T 76-1562, 1976
+       (via :mod:`optimiser.physics.atmosphere`).
+    """
+    dep, dst, ms = spec.departure, spec.destination, spec.mission
+    rho_to, t_to, p_to, _ = isa_state(dep.elevation_m, dep.temperature_offset_K)
+    rho_ld = isa_state(dst.elevation_m, dst.temperature_offset_K)[0]
+    rho_cr, t_cr, p_cr, a_cr = isa_state(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
+    v_cr = ms.cruise_speed_m_s
+    return AirStates(rho_to, t_to, p_to, rho_ld, rho_cr, t_cr, p_cr, a_cr, v_cr, v_cr / a_cr,
+                     0.5 * rho_cr * v_cr**2)
+
+
+@dataclass(frozen=True, slots=True)
+class HighLift:
+    """Per-design numbers of the chosen high-lift option and the airplane CLmax and CD0 with it."""
+
+    cl_increment_takeoff: np.ndarray
+    cl_increment_landing: np.ndarray
+    cd0_increment_takeoff: np.ndarray
+    cd0_increment_landing: np.ndarray
+    flap_area_ratio: np.ndarray
+    flap_mass_per_area_kg_m2: np.ndarray
+    slat_area_ratio: np.ndarray
+    slat_mass_per_area_kg_m2: np.ndarray
+    actuator_mass_kg: np.ndarray
+    flap_items: np.ndarray
+    flap_supports_min: np.ndarray
+    flap_support_spacing_m: np.ndarray
+    slat_items: np.ndarray
+    slat_supports_min: np.ndarray
+    slat_support_spacing_m: np.ndarray
+    flapped_span_fraction: np.ndarray
+    slat_span_fraction: np.ndarray
+    support_weight: np.ndarray
+    cl_max_takeoff: np.ndarray  # airplane CLmax, takeoff configuration [-]
+    cl_max_landing: np.ndarray  # airplane CLmax, landing configuration [-]
+
+
+_CATALOGUE_FIELDS = tuple(f.name for f in fields(HighLift))[:-2]
+
+
+@functools.lru_cache(maxsize=32)
+def _high_lift_table(options):
+    """Per-option arrays of the high-lift numbers (cached per tuple of options)."""
+    return {f: np.array([getattr(h, f) for h in options], dtype=float) for f in _CATALOGUE_FIELDS}
+
+
+def high_lift(spec: AircraftSpec, high_lift_index) -> HighLift:
+    """Catalogue numbers of each design's high-lift option and the airplane CLmax with it.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: the high-lift options and the clean CLmax [-].
+    high_lift_index : ndarray of int
+        Index into ``spec.high_lift``, one per design. [-]
+
+    Returns
+    -------
+    HighLift
+        Increments of CLmax [-] and CD0 [-], areas [-], masses [kg, kg m^-2], item counts [-],
+        support spacings [m], span fractions [-], and CLmax in takeoff and landing [-].
+
+    References
+    ----------
+    .. [1] The catalogue of :mod:`optimiser.physics.highlift` (each entry cites its source).
+    """
+    table = _high_lift_table(spec.high_lift)
+    hl = {f: v[high_lift_index] for f, v in table.items()}
+    cl_clean = spec.aerodynamics.cl_max_clean
+    return HighLift(**hl, cl_max_takeoff=cl_clean + hl["cl_increment_takeoff"],
+                    cl_max_landing=cl_clean + hl["cl_increment_landing"])
+
+
+@dataclass(frozen=True, slots=True)
+class CleanDrag:
+    """Mass-independent drag numbers of the clean airplane."""
+
+    cd0: np.ndarray | float  # clean zero-lift drag (per design with an override) [-]
+    cd0_cruise: np.ndarray | float  # with the wave drag at the cruise Mach number [-]
+    gear_cd0: float  # extended retractable gear, 0 for a fixed gear (in cd0 already) [-]
+    oswald_wing_cruise: np.ndarray  # Oswald factor of the wing alone at cruise Mach [-]
+
+
+def clean_drag(spec: AircraftSpec, aspect_ratio, air: AirStates, overrides) -> CleanDrag:
+    """Clean zero-lift drag with the cruise wave drag, and the wing's cruise Oswald factor.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: CD0 [-], gear, drag-divergence Mach [-], wing planform.
+    aspect_ratio : ndarray
+        Wing aspect ratio. [-]
+    air : AirStates
+        Cruise Mach number. [-]
+    overrides : dict
+        Per-design ``cd0_clean`` [-] and ``oswald_factor_scale`` [-], when given.
+
+    Returns
+    -------
+    CleanDrag
+        CD0 clean and in cruise [-], the gear increment [-], the wing's Oswald factor [-]
+        (the fuselage factor, which depends on the span, is applied with the mass).
+
+    References
+    ----------
+    .. [1] M. Nita and D. Scholz, "Estimating the Oswald factor from basic aircraft geometrical
+       parameters", DLRK 2012; Lock's wave-drag law (via :mod:`optimiser.physics.aerodynamics`).
+    """
+    ad = spec.aerodynamics
+    cd0 = overrides.get("cd0_clean", ad.cd0_clean)
+    gear = ad.gear_drag_increment if ad.landing_gear == "retractable" else 0.0
+    cd0_cruise = cd0 + float(aero.wave_drag_lock(air.cruise_mach, ad.drag_divergence_mach))
+    e_wing_cr = aero.oswald_factor(ad.oswald_method, aspect_ratio, ad.taper_ratio,
+                                   ad.sweep_quarter_chord_rad, 0.0, air.cruise_mach,
+                                   ad.oswald_k_ed0)
+    e_scale = overrides.get("oswald_factor_scale")
+    if e_scale is not None:
+        e_wing_cr = e_wing_cr * e_scale
+    return CleanDrag(cd0, cd0_cruise, gear, e_wing_cr)
+
+
+def cruise_induced_drag(spec: AircraftSpec, oswald_wing_cruise, aspect_ratio, span_m):
+    """Cruise Oswald factor (wing x fuselage factor at this span) and induced-drag factor.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: Oswald method and fuselage diameter [m].
+    oswald_wing_cruise : ndarray
+        Oswald factor of the wing alone at cruise Mach. [-]
+    aspect_ratio, span_m : ndarray
+        Aspect ratio [-] and span [m].
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        Oswald factor e [-] and K = 1 / (pi A e) [-].
+
+    References
+    ----------
+    .. [1] M. Nita and D. Scholz, DLRK 2012 (fuselage factor k_e,F).
+    """
+    ad = spec.aerodynamics
+    e_cr = oswald_wing_cruise * aero.oswald_fuselage_factor(ad.oswald_method,
+                                                            ad.fuselage_diameter_m / span_m)
+    return e_cr, aero.induced_drag_factor(aspect_ratio, e_cr)
+
+
+@dataclass(frozen=True, slots=True)
+class LowSpeedPolar:
+    """Drag polar at low speed (takeoff, climb, landing)."""
+
+    oswald_e: np.ndarray  # [-]
+    induced_drag_factor: np.ndarray  # K = 1 / (pi A e) [-]
+    cd0_takeoff_flaps: np.ndarray  # clean + takeoff flaps, gear up [-]
+    cd0_takeoff: np.ndarray  # takeoff flaps and (retractable) gear down [-]
+    cd0_landing: np.ndarray  # landing flaps and (retractable) gear down [-]
+
+
+def low_speed_polar(spec: AircraftSpec, aspect_ratio, span_m, drag: CleanDrag, hl: HighLift,
+                    overrides) -> LowSpeedPolar:
+    """Low-speed Oswald factor (Mach 0.2) and the zero-lift drag of each configuration.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: Oswald method and wing planform, fuselage diameter [m].
+    aspect_ratio, span_m : ndarray
+        Aspect ratio [-] and span [m] of the sized wing.
+    drag : CleanDrag
+        Clean CD0 [-] and gear increment [-].
+    hl : HighLift
+        CD0 increments of the flaps [-].
+    overrides : dict
+        Per-design ``oswald_factor_scale`` [-], when given.
+
+    Returns
+    -------
+    LowSpeedPolar
+        Oswald factor [-], K [-], CD0 of the takeoff and landing configurations [-].
+
+    References
+    ----------
+    .. [1] M. Nita and D. Scholz, "Estimating the Oswald factor from basic aircraft geometrical
+       parameters", DLRK 2012.
+    """
+    ad = spec.aerodynamics
+    e_low = aero.oswald_factor(ad.oswald_method, aspect_ratio, ad.taper_ratio,
+                               ad.sweep_quarter_chord_rad, ad.fuselage_diameter_m / span_m, 0.2,
+                               ad.oswald_k_ed0)
+    e_scale = overrides.get("oswald_factor_scale")
+    if e_scale is not None:
+        e_low = e_low * e_scale
+    k_low = aero.induced_drag_factor(aspect_ratio, e_low)
+    e_low = 1.0 / (np.pi * aspect_ratio * k_low)
+    cd0_flaps = drag.cd0 + hl.cd0_increment_takeoff
+    return LowSpeedPolar(e_low, k_low, cd0_flaps, cd0_flaps + drag.gear_cd0,
+                         drag.cd0 + hl.cd0_increment_landing + drag.gear_cd0)

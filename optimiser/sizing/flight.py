@@ -1,0 +1,318 @@
+"""Climb and cruise of an airplane: climb rate and gradients, service ceiling, highest level
+speed at cruise altitude."""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..physics import aerodynamics as aero
+from ..physics import atmosphere as atm
+from ..physics import performance, propulsion
+from ..solvers import falling_root, root_after_prediction
+from ..spec import AircraftSpec
+from .aero import AirStates, isa_state
+from .airplane import Airplane
+from .engines import engines_at
+from .inputs import at
+
+
+def oei_climb_gradient(spec: AircraftSpec, ap: Airplane, air: AirStates) -> np.ndarray:
+    """One-engine-inoperative climb gradient at the certification basis' condition.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: engine count, basis (Part 25 second segment: departure airfield,
+        takeoff flaps, V2; Part 23: cruise configuration at the stated altitude [m],
+        max-continuous power [-]), climb speed factor [-], engine-out drag [-].
+    ap : Airplane
+        The airplane at takeoff mass.
+    air : AirStates
+        Departure density [kg m^-3], temperature [K], pressure [Pa].
+
+    Returns
+    -------
+    ndarray
+        Climb gradient sin(gamma) [-]; 0 for a single-engine airplane.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.121 and 23.2120 (the climb conditions; via
+       :func:`optimiser.physics.performance.certification_numbers`).
+    """
+    pr, ad, cert, sp = spec.propulsion, spec.aerodynamics, spec.certification, spec.speeds
+    ws_c = ap.wing_loading_N_m2
+    if pr.engine_count <= 1:
+        return np.zeros_like(ws_c)
+    if cert.oei_flaps_takeoff:
+        rho, t, p = air.density_takeoff_kg_m3, air.temperature_takeoff_K, air.pressure_takeoff_Pa
+        cl_max, cd0_oei, setting = ap.high_lift.cl_max_takeoff, ap.polar.cd0_takeoff_flaps, 1.0
+    else:
+        rho, t, p, _ = isa_state(cert.oei_climb_altitude_m)
+        cl_max = np.full_like(ws_c, ad.cl_max_clean)
+        cd0_oei = np.full_like(ws_c, ap.drag.cd0)
+        setting = pr.climb_power_fraction
+    eng = engines_at(spec, ap.engines, rho, t, p, setting, pr.engine_count - 1)
+    v2 = sp.climb_speed_factor * performance.stall_speed(ws_c, rho, cl_max)
+    return eng.thrust(v2, ap.engines.propeller_efficiency_climb) / ap.weight_N \
+        - performance.drag_to_weight(v2, ws_c, rho, cd0_oei + ad.engine_out_drag_increment,
+                                     ap.polar.induced_drag_factor)
+
+
+def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None)):
+    """Best all-engines rate of climb (clean, gear up, climb power) of designs ``ix``.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: climb power fraction [-], climb speed factor [-], clean CLmax [-].
+    ap : Airplane
+        The airplane (its weight is the climb weight).
+    h, dt : ndarray or float
+        Pressure altitude [m] and ISA temperature offset [K], one per element of ``ix``.
+    ix : index array or slice, default all
+        Designs. [-]
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        Rate of climb [m s^-1] and its speed [m s^-1] (not below the climb speed factor times
+        the clean stall speed).
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, ch. 5
+       (speeds of the best climb rate for jets and propellers).
+    """
+    pr, sp = spec.propulsion, spec.speeds
+    rho, p_h, t_h = atm._density_unchecked(h, dt)
+    ws_i, w_i, k_i = ap.wing_loading_N_m2[ix], ap.weight_N[ix], ap.polar.induced_drag_factor[ix]
+    cd0_h = at(ap.drag.cd0, ix)
+    eng = engines_at(spec, ap.engines, rho, t_h, p_h, pr.climb_power_fraction, ix=ix)
+    v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho,
+                                                              spec.aerodynamics.cl_max_clean)
+    if pr.family == "turbofan":
+        tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
+        for step in range(2):
+            v = np.sqrt(ws_i / (3.0 * rho * cd0_h) * (tw_h + np.sqrt(tw_h**2 + 12 * cd0_h
+                                                                      * k_i)))
+            if step == 0:  # the second speed's thrust is evaluated below, at the floor
+                tw_h = eng.thrust(v, 1.0) / w_i
+    else:
+        v = np.sqrt(2.0 * ws_i / (rho * np.sqrt(3.0 * cd0_h / k_i)))
+    v = np.maximum(v, v_floor)
+    roc = v * (eng.thrust(v, at(ap.engines.propeller_efficiency_climb, ix)) / w_i
+               - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_i))
+    return roc, v
+
+
+@dataclass(frozen=True, slots=True)
+class Climb:
+    """All-engines climb numbers."""
+
+    climb_speed_m_s: np.ndarray  # of the best climb at the departure airfield
+    climb_rate_m_s: np.ndarray  # best, at the departure airfield, clean
+    climb_gradient: np.ndarray  # regulatory all-engines gradient, takeoff flaps, gear up [-]
+    service_ceiling_m: np.ndarray  # best climb rate 100 ft/min, at takeoff mass
+
+
+def _ceiling_residual(spec, ap, dt, target, h, ix):
+    return best_climb(spec, ap, h, dt, ix)[0] - target
+
+
+def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
+    """Best climb rate at the departure airfield, the regulatory gradient and the ceiling.
+
+    The best climb at the departure airfield, at sea level, at the required ceiling and at the
+    model's top altitude are found in one call; the latter three bracket the service ceiling,
+    solved from the half of the range (split at the required ceiling) that holds it, so that
+    designs near the requirement start from a short, nearly linear bracket.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: departure elevation [m] and offset [K], cruise offset [K] (used for
+        the ceiling), required ceiling [m], basis' all-engines climb altitude [m].
+    ap : Airplane
+        The airplane at takeoff mass.
+
+    Returns
+    -------
+    Climb
+        Climb speed [m s^-1], climb rate [m s^-1], gradient [-], service ceiling [m].
+
+    References
+    ----------
+    .. [1] 14 CFR 23.2120 (all-engines gradient) and the 100 ft/min service ceiling
+       (common definition); root by :func:`optimiser.solvers.falling_root`.
+    """
+    dep, ad, sp, pr = spec.departure, spec.aerodynamics, spec.speeds, spec.propulsion
+    dt_cr = spec.mission.cruise_temperature_offset_K
+    ws_c = ap.wing_loading_N_m2
+    n = ws_c.size
+    h_req = min(max(spec.requirements.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
+    roc3, v3 = best_climb(
+        spec, ap,
+        np.concatenate([np.full(n, dep.elevation_m), np.zeros(n), np.full(n, h_req),
+                        np.full(n, atm.H_MAX)]),
+        np.concatenate([np.full(n, dep.temperature_offset_K), np.full(3 * n, dt_cr)]),
+        np.concatenate([np.arange(n)] * 4))
+
+    rho_aeo, t_aeo, p_aeo, _ = isa_state(spec.certification.aeo_climb_altitude_m)
+    eng_aeo = engines_at(spec, ap.engines, rho_aeo, t_aeo, p_aeo, pr.climb_power_fraction)
+    v_aeo = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_aeo,
+                                                            ap.high_lift.cl_max_takeoff)
+    climb_gradient = eng_aeo.thrust(v_aeo, ap.engines.propeller_efficiency_climb) \
+        / ap.weight_N - performance.drag_to_weight(v_aeo, ws_c, rho_aeo,
+                                                   ap.polar.cd0_takeoff_flaps,
+                                                   ap.polar.induced_drag_factor)
+
+    target = performance.SERVICE_CEILING_CLIMB_RATE
+    f_sl = roc3[n:2 * n] - target
+    f_req = roc3[2 * n:3 * n] - target
+    f_top = roc3[3 * n:] - target
+    above = f_req >= 0.0
+    ceiling = falling_root(
+        functools.partial(_ceiling_residual, spec, ap, dt_cr, target),
+        np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req),
+        np.where(above, f_req, f_sl), np.where(above, f_top, f_req), xtol=1.0)
+    ceiling = np.where(f_sl < 0.0, 0.0, np.where(f_top >= 0.0, atm.H_MAX, ceiling))
+    return Climb(v3[:n], roc3[:n], climb_gradient, ceiling)
+
+
+@dataclass(frozen=True, slots=True)
+class CruiseSpeed:
+    """Highest level speed at cruise altitude and cruise setting."""
+
+    speed_m_s: np.ndarray  # 0 where the airplane cannot fly level there
+    mach: np.ndarray  # [-]
+
+
+class _LevelFlight:
+    """Thrust minus drag over weight in level flight at cruise altitude, for designs ``ix``."""
+
+    __slots__ = ("spec", "air", "engines", "weight", "wing_loading", "k", "cd0", "eta")
+
+    def __init__(self, spec, air, engines, weight, wing_loading, k, cd0, eta):
+        self.spec, self.air, self.engines = spec, air, engines
+        self.weight, self.wing_loading, self.k, self.cd0, self.eta = (weight, wing_loading, k,
+                                                                      cd0, eta)
+
+    def excess(self, v, ix=slice(None)):
+        """(T - D) / W [-] at true airspeed ``v`` [m s^-1], Lock's wave drag included."""
+        pr, ad, air, eng = self.spec.propulsion, self.spec.aerodynamics, self.air, self.engines
+        mach = v / air.sound_speed_cruise_m_s
+        d_w = performance.drag_to_weight(
+            v, self.wing_loading[ix], air.density_cruise_kg_m3,
+            at(self.cd0, ix) + aero.wave_drag_lock(mach, ad.drag_divergence_mach), self.k[ix])
+        if pr.family == "turbofan":
+            thrust = eng.thrust_sl[ix] * propulsion.turbofan_thrust_lapse_mattingly(
+                air.temperature_cruise_K, air.pressure_cruise_Pa, mach,
+                pr.turbofan_throttle_ratio)
+        else:
+            thrust = propulsion.propeller_thrust(v, eng.power[ix], at(self.eta, ix),
+                                                 eng.static[ix])
+        return thrust / self.weight[ix] - d_w
+
+
+def cruise_speed(spec: AircraftSpec, ap: Airplane, air: AirStates, propeller_efficiency,
+                 cruise_weight_N, induced_drag_factor) -> CruiseSpeed:
+    """Highest level speed at cruise altitude and the cruise power or thrust setting.
+
+    A prediction of the root (Newton, below), then two evaluations 0.8 of the tolerance
+    apart around it narrow the bracket (to within the tolerance when the prediction holds,
+    as it does without wave drag and above the propeller's blend speed): the root solve then
+    has little or nothing left to do.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: cruise power fraction [-], clean CLmax [-], drag-divergence Mach [-].
+    ap : Airplane
+        The airplane (engines, clean CD0).
+    air : AirStates
+        Cruise density [kg m^-3], temperature [K], pressure [Pa], speed of sound [m s^-1].
+    propeller_efficiency : ndarray or float
+        Cruise propeller efficiency (1 for a turbofan). [-]
+    cruise_weight_N : ndarray
+        Weight at which the speed is checked (start of cruise). [N]
+    induced_drag_factor : ndarray
+        Cruise K = 1 / (pi A e). [-]
+
+    Returns
+    -------
+    CruiseSpeed
+        Highest level speed [m s^-1] (0 where thrust is short of drag at every speed) and
+        its Mach number [-].
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, ch. 5
+       (maximum level speed); root by :func:`optimiser.solvers.root_after_prediction`.
+    """
+    rho_cr, a_cr = air.density_cruise_kg_m3, air.sound_speed_cruise_m_s
+    cd0, k_cr, w_cr = ap.drag.cd0, induced_drag_factor, cruise_weight_N
+    eng_cr = engines_at(spec, ap.engines, rho_cr, air.temperature_cruise_K,
+                        air.pressure_cruise_Pa, spec.propulsion.cruise_power_fraction)
+    ws_cr = w_cr / ap.wing_area_m2
+    flight = _LevelFlight(spec, air, eng_cr, w_cr, ws_cr, k_cr, cd0, propeller_efficiency)
+    n = ws_cr.size
+    v_md = np.sqrt(2.0 * ws_cr / (rho_cr * np.sqrt(cd0 / k_cr)))
+    v_low_alt = 1.1 * performance.stall_speed(ws_cr, rho_cr, spec.aerodynamics.cl_max_clean)
+    f_two = flight.excess(np.concatenate([v_md, v_low_alt]), np.concatenate([np.arange(n)] * 2))
+    f_md, f_low_alt = f_two[:n], f_two[n:]
+    can_fly = (f_md >= 0.0) | (f_low_alt >= 0.0)
+    v_start = np.where(f_md >= 0.0, v_md, v_low_alt)
+    f_start = np.where(f_md >= 0.0, f_md, f_low_alt)
+    # drag without wave drag: D/W = a_d V^2 + b_d / V^2
+    a_d = 0.5 * rho_cr * cd0 / ws_cr
+    b_d = 2.0 * k_cr * ws_cr / rho_cr
+    if spec.propulsion.family == "turbofan":
+        t_max = eng_cr.thrust(np.full_like(ap.wing_loading_N_m2, 1.0), 1.0) / w_cr
+        v_free = np.sqrt(t_max / a_d)  # the speed with thrust = zero-lift drag
+    else:
+        t_max = propeller_efficiency * eng_cr.power / w_cr  # [W/N]: thrust x speed per weight
+        v_free = (t_max / a_d) ** (1.0 / 3.0)
+    v_hi = np.maximum(np.minimum(v_free * 1.05, 0.98 * a_cr), v_start * 1.0001)
+    f_hi = flight.excess(v_hi)
+    v_pred = _level_speed_prediction(flight, v_free, v_start, v_hi, a_d, b_d, t_max)
+    solve = can_fly & (f_hi < 0.0)
+    v_max = root_after_prediction(flight.excess, v_pred, v_start, v_hi, f_start, f_hi, solve,
+                                  xtol=1e-3)
+    v_max = np.where(can_fly, np.where(f_hi >= 0.0, v_hi, v_max), 0.0)
+    return CruiseSpeed(v_max, v_max / a_cr)
+
+
+def _level_speed_prediction(flight, v_free, v_start, v_hi, a_d, b_d, t_max):
+    """Predicted highest level speed [m s^-1], inside ``[v_start, v_hi]``.
+
+    Propellers: largest root of a_d V^4 - (eta P / W) V + b_d by Newton from ``v_free``
+    (convex, so it falls monotonically onto it). Jets: Newton on drag - thrust with Lock's
+    wave drag, derivatives analytic for the drag and by a difference for the thrust, from the
+    lower of ``v_free`` and the drag-divergence speed (above it the fourth power slows Newton).
+    """
+    spec, air, eng_cr = flight.spec, flight.air, flight.engines
+    rho_cr, a_cr = air.density_cruise_kg_m3, air.sound_speed_cruise_m_s
+    cd0, ws_cr, k_cr, w_cr = flight.cd0, flight.wing_loading, flight.k, flight.weight
+    m_dd = spec.aerodynamics.drag_divergence_mach
+    v = v_free
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        if spec.propulsion.family == "turbofan":
+            v = np.clip(np.minimum(v, m_dd * a_cr), v_start, v_hi)
+            for _ in range(5):
+                cdw, dcdw_dm = aero.wave_drag_lock_and_slope(v / a_cr, m_dd)
+                cd = cd0 + cdw
+                q = 0.5 * rho_cr * v * v
+                t_w = eng_cr.thrust(v, 1.0) / w_cr
+                g = performance.drag_to_weight(v, ws_cr, rho_cr, cd, k_cr) - t_w
+                dg = (rho_cr * v * cd / ws_cr + q * dcdw_dm / (a_cr * ws_cr)
+                      - 2.0 * k_cr * ws_cr / (q * v)
+                      - (eng_cr.thrust(v * (1.0 + 1e-6), 1.0) / w_cr - t_w) / (1e-6 * v))
+                v = np.clip(v - g / dg, v_start, v_hi)
+        else:
+            for _ in range(6):
+                v = v - (a_d * v**4 - t_max * v + b_d) / (4.0 * a_d * v**3 - t_max)
+    return np.clip(np.nan_to_num(v, nan=0.0), v_start, v_hi)

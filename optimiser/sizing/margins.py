@@ -1,0 +1,114 @@
+"""Constraints of a study and the margin of each design against them."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..physics import G0
+from ..spec import AircraftSpec
+
+CONSTRAINT_LABELS = {
+    "mass_closure": "takeoff mass closes",
+    "takeoff_mass_limit": "takeoff mass within the certification basis' limit",
+    "runway_acceleration": "accelerates on the runway",
+    "stall_speed": "stall speed, landing configuration",
+    "takeoff_field": "takeoff field length",
+    "landing_field": "landing field length",
+    "climb_rate": "all-engines rate of climb",
+    "climb_gradient": "all-engines climb gradient (regulatory)",
+    "oei_climb_gradient": "one-engine-inoperative climb gradient",
+    "cruise_speed": "cruise speed at cruise altitude",
+    "service_ceiling": "service ceiling",
+}
+"""Every constraint the model can check, with a plain description."""
+
+
+def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
+    """Names of the constraints that apply to this study, in a fixed order."""
+    names = ["mass_closure"]
+    if np.isfinite(spec.requirements.max_takeoff_mass_kg):
+        names.append("takeoff_mass_limit")
+    names += ["runway_acceleration", "stall_speed", "takeoff_field", "landing_field",
+              "climb_rate"]
+    if spec.certification.aeo_climb_gradient_min > 0:
+        names.append("climb_gradient")
+    if spec.propulsion.engine_count > 1 and spec.certification.oei_climb_gradient_min > 0:
+        names.append("oei_climb_gradient")
+    names += ["cruise_speed", "service_ceiling"]
+    return tuple(names)
+
+
+@dataclass(frozen=True, slots=True)
+class Margins:
+    """Margins of the active constraints (positive = met, as a fraction of the limit)."""
+
+    names: tuple[str, ...]  # active_constraints(spec)
+    matrix: np.ndarray  # (designs, constraints) [-], NaN/inf replaced by -1e3/1e3
+    feasible: np.ndarray  # bool, every margin >= 0
+    limiting_index: np.ndarray  # index into names of the smallest margin (0 when not closed)
+
+
+def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
+                       min_runway_acceleration_m_s2, stall_speed_m_s, takeoff_field_required_m,
+                       landing_distance_m, climb_rate_m_s, climb_gradient, oei_climb_gradient,
+                       cruise_speed_m_s, service_ceiling_m) -> Margins:
+    """Margin of every active constraint: ``1 - value / limit`` for upper limits and
+    ``value / limit - 1`` for lower limits.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: requirements, certification minima, field lengths available [m].
+    closure_margin : ndarray
+        Mass-closure margin from the closure stage. [-]
+    takeoff_mass_kg : ndarray
+        [kg]
+    min_runway_acceleration_m_s2 : ndarray
+        [m s^-2]
+    stall_speed_m_s : ndarray
+        Landing configuration, sea level. [m s^-1]
+    takeoff_field_required_m, landing_distance_m : ndarray
+        [m]
+    climb_rate_m_s : ndarray
+        [m s^-1]
+    climb_gradient, oei_climb_gradient : ndarray
+        [-]
+    cruise_speed_m_s : ndarray
+        Highest level speed. [m s^-1]
+    service_ceiling_m : ndarray
+        [m]
+
+    Returns
+    -------
+    Margins
+        Margin matrix [-], feasibility and the limiting constraint of each design.
+
+    References
+    ----------
+    Common practice: constraints normalised by their limits, so that violations have
+    similar sizes.
+    """
+    rq, cert = spec.requirements, spec.certification
+    margins = {
+        "mass_closure": closure_margin,
+        "takeoff_mass_limit": 1.0 - takeoff_mass_kg / rq.max_takeoff_mass_kg,
+        "runway_acceleration": min_runway_acceleration_m_s2 / G0,
+        "stall_speed": 1.0 - stall_speed_m_s / rq.stall_speed_m_s,
+        "takeoff_field": 1.0 - takeoff_field_required_m / spec.departure.field_length_m,
+        "landing_field": 1.0 - landing_distance_m / spec.destination.field_length_m,
+        "climb_rate": climb_rate_m_s / rq.climb_rate_m_s - 1.0,
+        "climb_gradient": climb_gradient / max(cert.aeo_climb_gradient_min, 1e-9) - 1.0,
+        "oei_climb_gradient": oei_climb_gradient / max(cert.oei_climb_gradient_min, 1e-9) - 1.0,
+        "cruise_speed": cruise_speed_m_s / spec.mission.cruise_speed_m_s - 1.0,
+        "service_ceiling": service_ceiling_m / rq.service_ceiling_m - 1.0,
+    }
+    names = active_constraints(spec)
+    matrix = np.column_stack([margins[c] for c in names])
+    matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
+    feasible = np.all(matrix >= 0.0, axis=1)
+    # a design whose mass does not close is reported as such: its other margins were computed
+    # at the capped mass and mean little (mass_closure is always the first constraint)
+    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(matrix, axis=1))
+    return Margins(names, matrix, feasible, limiting)

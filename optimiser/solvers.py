@@ -1,0 +1,142 @@
+"""Vectorised root finders of the sizing layer, one element per design, no loop over designs.
+
+Each solver iterates only the elements not yet converged and never raises for one odd
+element: a NaN function value counts as "past the root" or "not closed", as each solver says.
+
+:func:`falling_root` (regula falsi, Anderson-Bjorck) lives in
+:mod:`optimiser.physics.performance`, where the physics tests pin it; it is re-exported here
+so that the sizing layer takes every solver from this one module.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .physics.performance import falling_root
+
+__all__ = ["falling_root", "root_after_prediction", "secant_in_bracket"]
+
+
+def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_prev, f_prev,
+                      rtol, nan_low, max_iterations=60):
+    """Roots of an increasing function by secant steps kept inside a bracket.
+
+    A step that leaves the bracket is replaced by the false-position step between the
+    bracket's ends, or by bisection when that too falls outside. Only the elements not yet
+    converged are evaluated.
+
+    Parameters
+    ----------
+    f : callable
+        ``f(x, ix)`` evaluates the function at ``x`` for the elements ``ix`` (an index array).
+    x_first, f_first : ndarray, shape (n,)
+        First point of every element and its function value (evaluated by the caller). [x], [f]
+    active : ndarray of bool, shape (n,)
+        Elements to solve; the others are returned as ``x_first`` and counted as converged.
+    low, high : array_like, broadcast to (n,)
+        Bracket ends (the root lies between them). [x]
+    f_low, f_high : array_like, broadcast to (n,)
+        Function values (or weights for the false-position step) at the ends. [f]
+    x_prev, f_prev : array_like, broadcast to (n,)
+        The point before ``x_first``, for the first secant step. [x], [f]
+    rtol : float
+        An element stops when ``|f| <= rtol * x``. [f]/[x]
+    nan_low : float
+        Value taken for a NaN function value when it moves the low end (NaN counts as
+        "below the root"). [f]
+    max_iterations : int, default 60
+        Elements still unconverged after this many steps are reported so.
+
+    Returns
+    -------
+    x : ndarray, shape (n,)
+        The last point of every element. [x]
+    converged : ndarray of bool, shape (n,)
+        True where the element converged or was not solved.
+
+    References
+    ----------
+    .. [1] R. P. Brent, "Algorithms for Minimization without Derivatives", Prentice-Hall,
+       1973, ch. 4 (secant and bisection safeguarded in a bracket; from memory).
+    """
+    n = np.shape(x_first)[0]
+    ia = np.flatnonzero(active)
+
+    def part(v):
+        v = np.asarray(v, dtype=float)
+        return np.full(ia.size, float(v)) if v.ndim == 0 else v[ia]
+
+    lo, hi, r_lo, r_hi = part(low), part(high), part(f_low), part(f_high)
+    m_prev, r_prev = part(x_prev), part(f_prev)
+    m = np.array(x_first, dtype=float)
+    for step_no in range(max_iterations):
+        if ia.size == 0:
+            break
+        mi = m[ia]
+        r = f_first[ia] if step_no == 0 else f(mi, ia)
+        up = r >= 0.0  # a NaN value counts as not yet closed
+        lo, r_lo = np.where(up, lo, mi), np.where(up, r_lo, np.nan_to_num(r, nan=nan_low))
+        hi, r_hi = np.where(up, mi, hi), np.where(up, r, r_hi)
+        todo = ~(np.abs(r) <= rtol * mi)
+        ia, mi, r, lo, hi = ia[todo], mi[todo], r[todo], lo[todo], hi[todo]
+        r_lo, r_hi, m_prev, r_prev = r_lo[todo], r_hi[todo], m_prev[todo], r_prev[todo]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = mi - r * (mi - m_prev) / (r - r_prev)
+            inside = (step > lo) & (step < hi)  # False for NaN
+            # outside the bracket: the false-position step between its ends, else bisection
+            fp = lo - r_lo * (hi - lo) / (r_hi - r_lo)
+        fp = np.where((fp > lo) & (fp < hi), fp, 0.5 * (lo + hi))
+        m_prev, r_prev = mi, r
+        m[ia] = np.where(inside, step, fp)
+    converged = np.ones(n, dtype=bool)
+    converged[ia] = False
+    return m, converged
+
+
+def root_after_prediction(f, prediction, low, high, f_low, f_high, solve, xtol):
+    """Root of a falling function near a predicted root, by two probes and regula falsi.
+
+    Two evaluations ``0.8 xtol`` apart around the prediction narrow the bracket (to within
+    the tolerance when the prediction holds); :func:`falling_root` then finishes the rest.
+
+    Parameters
+    ----------
+    f : callable
+        ``f(x, ix)`` for the elements ``ix`` (an index array); ``f >= 0`` below the root.
+    prediction : ndarray, shape (n,)
+        Predicted root, inside ``[low, high]``. [x]
+    low, high : ndarray, shape (n,)
+        Bracket ends. [x]
+    f_low, f_high : ndarray, shape (n,)
+        Function values at the ends (``f_low >= 0 > f_high`` where ``solve``). [f]
+    solve : ndarray of bool, shape (n,)
+        Elements to solve; the others come back as some point of their bracket, for the
+        caller to replace.
+    xtol : float
+        Bracket width at which an element stops. [x]
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        The root (the midpoint of the narrowed bracket where the probes closed it). [x]
+
+    References
+    ----------
+    .. [1] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the root
+       of an equation", BIT 11, 1971, pp. 168-174 (via :func:`falling_root`).
+    """
+    n = prediction.size
+    two = np.concatenate([np.arange(n)] * 2)
+    p_lo = np.maximum(prediction - 0.4 * xtol, low)
+    p_hi = np.minimum(p_lo + 0.8 * xtol, high)
+    f_two = f(np.concatenate([p_lo, p_hi]), two)
+    f_plo = np.where(solve, f_two[:n], -1.0)
+    f_phi = np.where(solve, f_two[n:], -1.0)
+    past_lo, past_hi = f_plo >= 0.0, f_phi >= 0.0
+    a_v = np.where(past_lo, np.where(past_hi, p_hi, p_lo), low)
+    fa_v = np.where(past_lo, np.where(past_hi, f_phi, f_plo), f_low)
+    b_v = np.where(past_lo, np.where(past_hi, high, p_hi), p_lo)
+    fb_v = np.where(past_lo, np.where(past_hi, f_high, f_phi), f_plo)
+    root = falling_root(f, a_v, b_v, fa_v, fb_v, xtol=xtol)
+    narrowed = (b_v - a_v <= xtol) & solve
+    return np.where(narrowed, 0.5 * (a_v + b_v), root)
