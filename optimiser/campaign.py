@@ -53,7 +53,9 @@ from pathlib import Path
 
 import numpy as np
 
-from .study import StudyError
+from .errors import CampaignError, OptimiserError, StudyError
+from .runfolder import names
+from .runfolder.files import write_atomic
 
 try:  # Python 3.11+
     import tomllib
@@ -70,10 +72,6 @@ MAX_COMBINATIONS = 10000
 MAX_CAMPAIGN_BYTES = 1_000_000
 CAMPAIGN_FILES = ("campaign.toml", "base_study.toml", "campaign.json", "summary.csv",
                   "price.csv", "summary.txt")
-
-
-class CampaignError(StudyError):
-    """A campaign file or folder that cannot be used; the message is one line."""
 
 
 @dataclass(frozen=True)
@@ -434,6 +432,7 @@ def run_combination(study_text: str, study_path: str, run_dir: str) -> dict:
     Returns ``{"run_dir", "status": "finished" | "failed", "message", "seconds",
     "how": "new" | "resumed" | "restarted"}``; a failure also writes ``error.txt``.
     """
+    from .runfolder.checkpoint import has_checkpoint
     from .runs import RunError, load_checkpoint, optimise, resume
     from .study import parse_study
     t0 = time.monotonic()
@@ -442,7 +441,7 @@ def run_combination(study_text: str, study_path: str, run_dir: str) -> dict:
     try:
         study = parse_study(study_text, study_path)
         result = None
-        if (folder / "checkpoint.pkl").exists():
+        if has_checkpoint(folder):
             try:
                 state = load_checkpoint(folder)
                 if state.study_text == study_text and state.termination is None:
@@ -472,16 +471,17 @@ def run_combination(study_text: str, study_path: str, run_dir: str) -> dict:
 
 def is_finished(run_dir: Path, study_text: str) -> bool:
     """A run folder holds a finished run of exactly this study text."""
+    from .runfolder.reader import read_study_text
+    from .runfolder.runinfo import is_finished as is_run_finished
     run_dir = Path(run_dir)
     try:
-        return ((run_dir / "run.json").is_file()
-                and (run_dir / "study.toml").read_text("utf-8") == study_text)
+        return is_run_finished(run_dir) and read_study_text(run_dir) == study_text
     except OSError:
         return False
 
 
 def default_campaign_dir(campaign: Campaign, root="results") -> Path:
-    from .runs import timestamped_dir
+    from .runfolder.place import timestamped_dir
     return timestamped_dir(campaign.name, root)
 
 
@@ -493,7 +493,6 @@ def prepare_campaign_dir(campaign: Campaign, out=None) -> tuple[Path, list]:
     every finished run in it holds this campaign's study text; otherwise nothing is touched
     and :class:`CampaignError` says why.
     """
-    from .runs import write_atomic
     folder = Path(out) if out is not None else default_campaign_dir(campaign)
     if folder.exists() and not folder.is_dir():
         raise CampaignError(f"--out {folder}: is a file; expected a folder for the campaign")
@@ -510,7 +509,7 @@ def prepare_campaign_dir(campaign: Campaign, out=None) -> tuple[Path, list]:
                                 "campaign to resume it, or a new --out")
         for c in campaign.combinations:
             run_dir = folder / "runs" / c.name
-            study_file = run_dir / "study.toml"
+            study_file = run_dir / names.STUDY
             if study_file.is_file() and study_file.read_text("utf-8") != c.study_text:
                 raise CampaignError(f"--out {folder}: {study_file} is not the study of "
                                     f"combination {c.name} (the base study changed?); "
@@ -582,7 +581,7 @@ def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, 
     if skipped:
         say(f"{skipped} of {len(campaign.combinations)} runs already finished in {folder}; "
             f"running the other {len(pending)}")
-    args = [(c.study_text, str(folder / "runs" / c.name / "study.toml"),
+    args = [(c.study_text, str(folder / "runs" / c.name / names.STUDY),
              str(folder / "runs" / c.name)) for c in pending]
     ran = []
 
@@ -632,6 +631,7 @@ def _axis_columns(axis: Axis) -> tuple[str, str | None]:
 def summary_rows(campaign: Campaign, folder: Path):
     """One row per combination from the run folders (DataFrame)."""
     import pandas as pd
+    from .runfolder.reader import load_run
     size = campaign.engine_size_column
     load = campaign.loading_column
     rows = []
@@ -644,25 +644,25 @@ def summary_rows(campaign: Campaign, folder: Path):
             if num_col:
                 row[num_col] = a.numbers[i]
         row["run_folder"] = str(Path("runs") / c.name)
-        info = None
+        run = None
         if is_finished(run_dir, c.study_text):
             try:
-                info = json.loads((run_dir / "run.json").read_text("utf-8"))
-            except (OSError, ValueError):
-                info = None
-        if info is None:
+                run = load_run(run_dir)
+            except (OptimiserError, OSError, ValueError):
+                run = None
+        if run is None:
             err = run_dir / "error.txt"
             row["status"] = "failed" if err.is_file() else "not run"
             row["note"] = err.read_text("utf-8").strip() if err.is_file() else ""
             rows.append(row)
             continue
+        info, front = run.info, run.front
         row["status"] = "finished"
         row["n_evaluations"] = info.get("n_evaluations")
         row["front_size"] = info.get("front_size", 0)
         row["feasible_found"] = bool(info.get("feasible_found"))
         row["note"] = "" if row["feasible_found"] else info.get("message", "")
         if row["feasible_found"]:
-            front = pd.read_csv(run_dir / "front.csv")
             k = pick_compromise(front, campaign.pick, size, campaign.objectives)
             p = front.iloc[k]
             row.update({
@@ -839,7 +839,8 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
     """Write summary.csv, price.csv, summary.txt, campaign.json and the plots from the run
     folders; returns (summary, price)."""
     from .evaluation import CAUTION
-    from .runs import utc_now, versions, write_atomic
+    from .runfolder.files import utc_now
+    from .runfolder.runinfo import json_bytes, versions
     folder = Path(folder)
     summary = summary_rows(campaign, folder)
     price = price_table(campaign, summary)
@@ -861,8 +862,7 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
                          "failed": [r["run_dir"] for r in ran if r["status"] != "finished"]},
         "caution": CAUTION,
     }
-    write_atomic(folder / "campaign.json", (json.dumps(info, indent=2, default=str)
-                                            + "\n").encode())
+    write_atomic(folder / "campaign.json", json_bytes(info, default=str))
     if plots and (summary["status"] == "finished").any():
         plot_campaign(campaign, summary, folder)
     return summary, price

@@ -41,7 +41,6 @@ References
 
 from __future__ import annotations
 
-import json
 import math
 import re
 from dataclasses import dataclass, field
@@ -49,56 +48,17 @@ from pathlib import Path
 
 import numpy as np
 
+from .errors import DecideError
+from .runfolder import names
+from .runfolder.files import write_atomic
+from .runfolder.reader import Run, load_run
+from .runfolder.runinfo import json_bytes
+
 METHODS = ("weights", "knee", "aspiration")
 ASF_AUGMENTATION = 1e-6
 """rho of the augmented ASF: small, so it only breaks ties between weakly optimal designs
 (common practice; Wierzbicki's augmentation term)."""
 RUNNERS_UP = 5
-
-
-class DecideError(ValueError):
-    """A pick, flap comparison or report that cannot be made for a reason the user can fix."""
-
-
-# ----------------------------------------------------------------------------- reading a run
-
-@dataclass(frozen=True)
-class Run:
-    """A finished run folder: its study, its front, its archive path and run.json."""
-
-    study: object
-    run_dir: Path
-    front: object
-    info: dict
-
-    @property
-    def evaluations_path(self) -> Path:
-        return self.run_dir / "evaluations.csv"
-
-
-def load_run(run_dir) -> Run:
-    """Read a run folder written by ``optimiser run``; :class:`DecideError` if it is not one."""
-    import pandas as pd
-    from .study import parse_study
-    run_dir = Path(run_dir)
-    if not run_dir.is_dir():
-        raise DecideError(f"{run_dir}: no such run folder; expected a folder written by "
-                          "'optimiser run'")
-    for name in ("study.toml", "run.json"):
-        if not (run_dir / name).is_file():
-            raise DecideError(f"{run_dir}: no {name} in it; expected a finished run folder "
-                              "written by 'optimiser run'")
-    study = parse_study((run_dir / "study.toml").read_text("utf-8"), str(run_dir / "study.toml"))
-    info = json.loads((run_dir / "run.json").read_text("utf-8"))
-    path = run_dir / "front.csv"
-    if path.is_file():
-        front = pd.read_csv(path, keep_default_na=False, na_values=[""])
-        for c in ("limiting_constraint", "most_violated", "outside_bounds"):
-            if c in front:
-                front[c] = ["" if pd.isna(v) else str(v) for v in front[c]]
-    else:
-        front = pd.DataFrame()
-    return Run(study=study, run_dir=run_dir, front=front, info=info)
 
 
 # ----------------------------------------------------------------------------- hard limits
@@ -412,7 +372,7 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
 # ----------------------------------------------------------------------------- writing a pick
 
 def pick_folder(run_dir, method) -> Path:
-    return Path(run_dir) / f"pick-{method}"
+    return Path(run_dir) / f"{names.PICK_DIR_PREFIX}{method}"
 
 
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
@@ -421,7 +381,6 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     from .evaluation import CAUTION
     from .report import sheet
     from .report.plots import design_constraint_diagram, _plt
-    from .runs import write_atomic
     out = pick_folder(run.run_dir, choice.method)
     if out.exists() and any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
@@ -437,7 +396,7 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     write_atomic(out / "design.md", md.encode())
     info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
             "caution": CAUTION}
-    write_atomic(out / "choice.json", (json.dumps(info, indent=2) + "\n").encode())
+    write_atomic(out / names.PICK_CHOICE, json_bytes(info))
     plt = _plt()
     fig = design_constraint_diagram(study, choice.design, label="chosen design")
     for ext in ("png", "svg"):
@@ -471,12 +430,6 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str
 
 
 # ----------------------------------------------------------------------------- flap comparison
-
-def _read_archive(path, columns, chunk=200_000):
-    import pandas as pd
-    parts = [p for p in pd.read_csv(path, usecols=list(columns), chunksize=chunk)]
-    return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=list(columns))
-
 
 def per_option_fronts(study, archive):
     """{flap: DataFrame of its feasible non-dominated designs} from the archive rows."""
@@ -539,7 +492,7 @@ def stall_reach(study, flap, n=9):
     return float(f["margin_stall_speed"].max()), float(ws)
 
 
-def compare_flaps(study, archive, scales):
+def compare_flap_options(study, archive, scales):
     """One row per allowed flap option, from a run's archive (every evaluated design).
 
     Columns: ``flap``; ``feasible_found``; ``evaluated``, ``feasible_designs``;
@@ -686,14 +639,21 @@ def _mean_on(env, rng, n=101):
     return float(np.mean(best_within(env, xs)))
 
 
-def flaps_from_run(run: Run):
-    """The flap comparison of a finished run: (table, per-option fronts)."""
+def compare_flaps(run):
+    """The flap comparison of a finished run: (table, per-option fronts).
+
+    ``run`` is a :class:`~optimiser.runfolder.Run` (from :func:`~optimiser.runfolder.load_run`)
+    or a run folder. The table has one row per allowed flap option
+    (:func:`compare_flap_options`); the fronts are ``{flap: DataFrame}``."""
     from .evaluation import size_frame
+    from .runfolder.archive import read_archive
     from .search import design_arrays, free_variables
     from .sizing import active_constraints
+    if not isinstance(run, Run):
+        run = load_run(run)
     study = run.study
     if not run.evaluations_path.is_file():
-        raise DecideError(f"{run.run_dir}: no evaluations.csv in it; expected a run folder "
+        raise DecideError(f"{run.run_dir}: no {names.ARCHIVE} in it; expected a run folder "
                           "written by 'optimiser run'")
     x0 = np.array([[v.lower for v in free_variables(study)]])
     cols = list(size_frame(study, *design_arrays(study, x0), [0]).columns)
@@ -702,9 +662,9 @@ def flaps_from_run(run: Run):
                                      "aspect_ratio", "maintenance_index", "takeoff_mass_kg",
                                      *study.objective_columns())
             or c in {f"margin_{k}" for k in active_constraints(study.spec)}]
-    archive = _read_archive(run.evaluations_path, need)
+    archive = read_archive(run.run_dir, need)
     scales = run.info["hypervolume"]
-    return compare_flaps(study, archive, scales)
+    return compare_flap_options(study, archive, scales)
 
 
 def write_flaps(run: Run, table, fronts, force=False) -> Path:
@@ -712,8 +672,7 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     unless ``force``)."""
     from .report.plots import _plt, flap_fronts
     from .report.sheet import flaps_markdown
-    from .runs import write_atomic
-    out = run.run_dir / "flaps"
+    out = run.run_dir / names.FLAPS_DIR
     if out.exists() and any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
                           "flap comparison in it)")

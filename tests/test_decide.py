@@ -19,6 +19,7 @@ import pytest
 
 import optimiser
 from optimiser import decide
+from optimiser.runfolder import load_run
 from optimiser.cli import main
 from optimiser.report import sheet
 from optimiser.search import nondominated_mask
@@ -37,7 +38,7 @@ def run_dir(study, tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def run(run_dir):
-    return decide.load_run(run_dir)
+    return load_run(run_dir)
 
 
 def _random_front(seed, n=60, m=3):
@@ -216,7 +217,7 @@ def test_mean_gap_worked_example():
 
 
 def test_flap_comparison_of_a_run(study, run):
-    table, fronts = decide.flaps_from_run(run)
+    table, fronts = decide.compare_flaps(run)
     assert list(table["flap"]) == list(study.flaps)
     assert table["share_of_combined_front"].sum() == pytest.approx(1.0)
     final_hv = run.info["hypervolume"]["final"]
