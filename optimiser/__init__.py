@@ -19,7 +19,7 @@ _LAZY = {
     "load_study": "study",
     "optimise": "runs", "resume": "runs",
     "load_run": "runfolder",
-    "choose": "decide", "compare_flaps": "decide",
+    "choose": "decide", "compare_flaps": "flaps",
     "monte_carlo": "robust",
     "load_campaign": "campaign", "run_campaign": "campaign",
     "OptimiserError": "errors", "StudyError": "errors",

@@ -87,7 +87,8 @@ def run_pick(args) -> int:
 
 
 def run_flaps(args) -> int:
-    from .decide import DecideError, compare_flaps, flaps_summary, write_flaps
+    from .decide import DecideError
+    from .flaps import compare_flaps, flaps_summary, write_flaps
     from .runfolder import load_run
     src = Path(args.source)
     if src.is_dir():

@@ -30,7 +30,7 @@ import pytest
 
 import optimiser
 from optimiser import runs
-from optimiser.runfolder import files, place
+from optimiser.runfolder import checkpoint, files, place
 from optimiser.cli import main
 from optimiser.runs import RunError, load_checkpoint, resume
 from optimiser.study import bundled_study_path, load_study, parse_study
@@ -371,7 +371,7 @@ def test_disk_full_while_writing_a_checkpoint_keeps_the_old_one(study, reference
                               str(out / f".checkpoint.pkl.tmp-{os.getpid()}"))
         return before_replace
 
-    monkeypatch.setattr(runs, "_test_pause", failing_pause)
+    monkeypatch.setattr(checkpoint, "_test_pause", failing_pause)
     out = tmp_path / "run"
     with pytest.raises(RunError,
                        match=r"cannot write checkpoint\.pkl \(No space .*generation 2\)"):

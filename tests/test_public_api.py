@@ -17,7 +17,7 @@ IMPLEMENTATIONS = {
     "load_study": "optimiser.study", "evaluate": "optimiser.evaluation",
     "CAUTION": "optimiser.evaluation", "optimise": "optimiser.runs",
     "resume": "optimiser.runs", "load_run": "optimiser.runfolder.reader",
-    "choose": "optimiser.decide", "compare_flaps": "optimiser.decide",
+    "choose": "optimiser.decide", "compare_flaps": "optimiser.flaps",
     "monte_carlo": "optimiser.robust", "load_campaign": "optimiser.campaign",
     "run_campaign": "optimiser.campaign", "OptimiserError": "optimiser.errors",
     "StudyError": "optimiser.errors",

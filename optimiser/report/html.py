@@ -181,7 +181,8 @@ def _requirements_html(study):
 
 def write_report(run, choice=None, flaps=True) -> Path:
     """Write ``RUN_DIR/report.html`` (replacing it) and return its path."""
-    from ..decide import compare_flaps, runners_up
+    from ..decide import runners_up
+    from ..flaps import compare_flaps
     from ..evaluation import CAUTION
     from ..runfolder import names
     from ..runfolder.archive import read_archive, read_history

@@ -313,7 +313,7 @@ def flap_fronts(study, fronts, table, ax=None):
     non-dominated subset of each option's front as a line, all its front designs as dots),
     and, beside it, the best of each objective per option. Options with no feasible design
     are named in the legend with the failing constraint."""
-    from ..decide import lower_envelope
+    from ..flaps import lower_envelope
     plt = _plt()
     eng = study.engine_size_column
     if ax is None:
