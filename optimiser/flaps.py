@@ -104,46 +104,15 @@ def compare_flap_options(study, archive, scales):
     Positive = this option is worse than the reference.
     """
     import pandas as pd
-    from .search import hypervolume, nondominated_mask
-    from .sizing import active_constraints
+    from .search import nondominated_mask
     cols = list(study.objective_columns())
     eng, fuel = study.engine_size_column, "trip_fuel_kg"
-    eng_unit = eng.rsplit("_", 1)[1]
     fronts = per_option_fronts(study, archive)
     pool = pd.concat([f.assign(_flap=k) for k, f in fronts.items() if len(f)], ignore_index=True) \
         if any(len(f) for f in fronts.values()) else None
     combined = pool[nondominated_mask(pool[cols].to_numpy(float))] if pool is not None else None
-    rows = []
-    for flap in study.flaps:
-        mine = archive[archive["flap"] == flap]
-        fr = fronts[flap]
-        row = {"flap": flap, "feasible_found": bool(len(fr)), "evaluated": len(mine),
-               "feasible_designs": int(mine["feasible"].astype(bool).sum()),
-               "front_designs": len(fr)}
-        margins = {c: float(mine[f"margin_{c}"].max()) if len(mine) else math.nan
-                   for c in active_constraints(study.spec)}
-        stall, ws_low = stall_reach(study, flap)
-        row["best_stall_margin_in_bounds"] = stall
-        notes = []
-        if len(fr):
-            row["failing_constraint"], row["best_margin_failing"] = "", math.nan
-        else:
-            worst = min(margins, key=margins.get)
-            row["failing_constraint"], row["best_margin_failing"] = worst, margins[worst]
-            notes.append(f"no feasible design: {worst} short by {-margins[worst]:.1%} at best")
-        if stall < 0:
-            notes.append(f"cannot meet the stall limit anywhere within the wing-loading bounds: "
-                         f"best stall margin {stall:+.1%} at the lowest wing loading "
-                         f"{ws_low:g} N/m2")
-        row["note"] = "; ".join(notes)
-        for c in cols:
-            row[f"best_{c}"] = float(fr[c].min()) if len(fr) else math.nan
-        row["share_of_combined_front"] = (float((combined["_flap"] == flap).mean())
-                                          if combined is not None and len(combined) else 0.0)
-        row["hypervolume"] = hypervolume(fr[cols].to_numpy(float), scales) if len(fr) else 0.0
-        row["mean_maintenance_index"] = float(mine["maintenance_index"].mean()) \
-            if len(mine) else math.nan
-        rows.append(row)
+    rows = [_option_row(study, flap, archive[archive["flap"] == flap], fronts[flap], combined,
+                        scales) for flap in study.flaps]
     table = pd.DataFrame(rows)
     # the reference ("best") option is the one with the best trip fuel vs engine size trade:
     # the largest 2-objective hypervolume in that plane (normalised over all options' fronts,
@@ -154,6 +123,51 @@ def compare_flap_options(study, archive, scales):
         if table["fuel_engine_hypervolume"].max() > 0 else None
     table["reference_option"] = table["flap"] == ref
     table["simpler_than_reference"] = False
+    for key, vals in _penalties(study, table, fronts, ref).items():
+        table[key] = vals
+    return table, fronts
+
+
+def _option_row(study, flap, mine, fr, combined, scales) -> dict:
+    """The row of one flap option (before the reference and the penalties): ``mine`` its
+    archive rows, ``fr`` its own front, ``combined`` the non-dominated set of all fronts."""
+    from .search import hypervolume
+    from .sizing import active_constraints
+    cols = list(study.objective_columns())
+    row = {"flap": flap, "feasible_found": bool(len(fr)), "evaluated": len(mine),
+           "feasible_designs": int(mine["feasible"].astype(bool).sum()),
+           "front_designs": len(fr)}
+    margins = {c: float(mine[f"margin_{c}"].max()) if len(mine) else math.nan
+               for c in active_constraints(study.spec)}
+    stall, ws_low = stall_reach(study, flap)
+    row["best_stall_margin_in_bounds"] = stall
+    notes = []
+    if len(fr):
+        row["failing_constraint"], row["best_margin_failing"] = "", math.nan
+    else:
+        worst = min(margins, key=margins.get)
+        row["failing_constraint"], row["best_margin_failing"] = worst, margins[worst]
+        notes.append(f"no feasible design: {worst} short by {-margins[worst]:.1%} at best")
+    if stall < 0:
+        notes.append(f"cannot meet the stall limit anywhere within the wing-loading bounds: "
+                     f"best stall margin {stall:+.1%} at the lowest wing loading "
+                     f"{ws_low:g} N/m2")
+    row["note"] = "; ".join(notes)
+    for c in cols:
+        row[f"best_{c}"] = float(fr[c].min()) if len(fr) else math.nan
+    row["share_of_combined_front"] = (float((combined["_flap"] == flap).mean())
+                                      if combined is not None and len(combined) else 0.0)
+    row["hypervolume"] = hypervolume(fr[cols].to_numpy(float), scales) if len(fr) else 0.0
+    row["mean_maintenance_index"] = float(mine["maintenance_index"].mean()) \
+        if len(mine) else math.nan
+    return row
+
+
+def _penalties(study, table, fronts, ref) -> dict:
+    """The penalty columns of :func:`compare_flap_options` against the reference option
+    ``ref`` (None: no option has a front); sets ``simpler_than_reference`` in ``table``."""
+    eng, fuel = study.engine_size_column, "trip_fuel_kg"
+    eng_unit = eng.rsplit("_", 1)[1]
     ext = {k: [] for k in ("extra_trip_fuel_at_equal_engine_kg",
                            "extra_trip_fuel_at_equal_engine_pct",
                            f"compared_engine_from_{eng_unit}", f"compared_engine_to_{eng_unit}",
@@ -192,9 +206,7 @@ def compare_flap_options(study, archive, scales):
         if ref is not None and flap != ref:
             table.loc[k, "simpler_than_reference"] = bool(
                 table.loc[k, "mean_maintenance_index"] < ref_mi)
-    for key, vals in ext.items():
-        table[key] = vals
-    return table, fronts
+    return ext
 
 
 def _fuel_engine_hv(fronts, flaps, fuel, eng):
