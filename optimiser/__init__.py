@@ -21,7 +21,7 @@ _LAZY = {
     "load_run": "runfolder",
     "choose": "decide", "compare_flaps": "flaps",
     "monte_carlo": "robust",
-    "load_campaign": "campaign", "run_campaign": "campaign",
+    "load_campaign": "campaign_file", "run_campaign": "campaign",
     "OptimiserError": "errors", "StudyError": "errors",
 }
 

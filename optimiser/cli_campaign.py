@@ -51,7 +51,8 @@ def add_robust_parser(sub):
 
 
 def cmd_sweep(args):
-    from .campaign import load_campaign, run_campaign, summary_text
+    from .campaign import run_campaign, summary_text
+    from .campaign_file import load_campaign
     if args.workers is not None and args.workers < 1:
         raise UsageError(f"--workers: got {args.workers}; expected a whole number of at least 1")
     if args.serial and (args.scheduler or args.workers):

@@ -18,7 +18,7 @@ IMPLEMENTATIONS = {
     "CAUTION": "optimiser.evaluation", "optimise": "optimiser.runs",
     "resume": "optimiser.runs", "load_run": "optimiser.runfolder.reader",
     "choose": "optimiser.decide", "compare_flaps": "optimiser.flaps",
-    "monte_carlo": "optimiser.robust", "load_campaign": "optimiser.campaign",
+    "monte_carlo": "optimiser.robust", "load_campaign": "optimiser.campaign_file",
     "run_campaign": "optimiser.campaign", "OptimiserError": "optimiser.errors",
     "StudyError": "optimiser.errors",
 }
