@@ -40,7 +40,8 @@ tighter = "larger"
 
 def main(argv=None):
     sys.path.insert(0, str(ROOT))
-    from optimiser.campaign import _dask_client, parse_campaign, run_campaign
+    from optimiser.campaign import _dask_client, run_campaign
+    from optimiser.campaign_file import parse_campaign
     from optimiser.evaluation import CAUTION
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--pop", type=int, default=240)

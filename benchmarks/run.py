@@ -172,6 +172,8 @@ def _time_parts(run):
 
     from pymoo.core.algorithm import Algorithm
 
+    import optimiser.loop as loop
+    import optimiser.runfolder.archive as archive
     import optimiser.runs as runs
     import optimiser.search as search
     import optimiser.sizing as sizing
@@ -180,9 +182,10 @@ def _time_parts(run):
     parts = [(Algorithm, "ask", "pymoo ask (the floor's own work)"),
              (Algorithm, "tell", "pymoo tell (the floor's own work)"),
              (sizing, "size_designs", "sizing (one call per generation)"),
-             (runs, "archive_rows", "writing evaluations.csv rows"),
-             (runs, "_merge_front", "merging the front"),
-             (runs, "save_checkpoint", "checkpoints"),
+             (archive, "archive_rows", "writing evaluations.csv rows"),
+             (loop, "_merge_front", "merging the front"),
+             (runs, "save_checkpoint", "checkpoints"),   # the first, at the start
+             (loop, "save_checkpoint", "checkpoints"),   # those of the loop
              (search, "reference_scales", "hypervolume reference grid (start)"),
              (runs, "finish", "front.csv and run.json (end)")]
     saved = []
@@ -208,7 +211,7 @@ def _time_parts(run):
     finally:
         for owner, name, inner in saved:
             setattr(owner, name, inner)
-    out = {label: spent[label] for _, _, label in parts}
+    out = {label: spent[label] for _, _, label in parts}  # a label listed twice counts once
     out["the rest"] = total - sum(out.values())
     out["total"] = total
     return out

@@ -1,31 +1,45 @@
 """Conceptual aircraft sizing and multi-objective search.
 
-Public API: :func:`load_study`, :func:`evaluate`, :func:`optimise`, :data:`CAUTION`, ``__version__``.
+Public API (each name is the implementation itself, loaded on first use so that
+``import optimiser`` pulls in none of pymoo, matplotlib, pyarrow, dask or pint):
+
+- :func:`load_study`, :func:`evaluate`, :data:`CAUTION` — a study and the sizing of designs;
+- :func:`optimise`, :func:`resume`, :func:`load_run` — runs and their folders;
+- :func:`choose`, :func:`compare_flaps` — one compromise from a front, the flap options;
+- :func:`monte_carlo` — robustness of a design; :func:`load_campaign`, :func:`run_campaign`;
+- :class:`OptimiserError` — the base of every error a user can fix (one-line message).
 """
 
 from __future__ import annotations
 
 __version__ = "0.1.0"
 
-_LAZY = {"CAUTION": "evaluation", "evaluate": "evaluation", "StudyError": "study",
-         "load_study": "study"}
+_LAZY = {
+    "CAUTION": "evaluation", "evaluate": "evaluation",
+    "load_study": "study",
+    "optimise": "runs", "resume": "runs",
+    "load_run": "runfolder",
+    "choose": "decide", "compare_flaps": "flaps",
+    "monte_carlo": "robust",
+    "load_campaign": "campaign_file", "run_campaign": "campaign",
+    "OptimiserError": "errors", "StudyError": "errors",
+}
 
 
 def __getattr__(name):
-    # lazy, so that ``import optimiser.physics`` pulls in neither pandas nor pint
+    # lazy, so that ``import optimiser`` (and ``import optimiser.physics``) stays light
     if name in _LAZY:
         import importlib
-        return getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        value = getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
     raise AttributeError(f"module 'optimiser' has no attribute {name!r}")
 
 
-def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
-             evaluations=None, time_budget_s=None, progress=False, **options):
-    """Search a study for its Pareto front; see :func:`optimiser.runs.optimise`."""
-    from .runs import optimise as _optimise
-    return _optimise(study_or_path, out=out, seed=seed, generations=generations,
-                     population=population, evaluations=evaluations,
-                     time_budget_s=time_budget_s, progress=progress, **options)
+def __dir__():
+    return sorted({*globals(), *_LAZY})
 
 
-__all__ = ["CAUTION", "StudyError", "evaluate", "load_study", "optimise", "__version__"]
+__all__ = ["CAUTION", "OptimiserError", "StudyError", "choose", "compare_flaps", "evaluate",
+           "load_campaign", "load_run", "load_study", "monte_carlo", "optimise", "resume",
+           "run_campaign", "__version__"]

@@ -11,11 +11,10 @@ import os
 import sys
 from pathlib import Path
 
+from .errors import UsageError, OptimiserError, RunInterrupted
+
 EXIT_USAGE = 2
-
-
-class UserError(Exception):
-    """An error the user can fix; printed as one line."""
+EXIT_INTERRUPTED = 130
 
 
 def _study(path):
@@ -25,17 +24,17 @@ def _study(path):
 
 def _write_csv_atomic(frame, path: Path, force: bool):
     if path.exists() and not force:
-        raise UserError(f"{path}: exists; expected a new file (use --force to replace it)")
+        raise UsageError(f"{path}: exists; expected a new file (use --force to replace it)")
     parent = path.parent if str(path.parent) else Path(".")
     if not parent.is_dir():
-        raise UserError(f"{path}: folder {parent} does not exist")
+        raise UsageError(f"{path}: folder {parent} does not exist")
     tmp = parent / f".{path.name}.tmp-{os.getpid()}"
     try:
         frame.to_csv(tmp, index=False, float_format="%.10g")
         os.replace(tmp, path)
     except OSError as exc:
         tmp.unlink(missing_ok=True)
-        raise UserError(f"{path}: cannot write ({exc.strerror})") from None
+        raise UsageError(f"{path}: cannot write ({exc.strerror})") from None
 
 
 def _summary(study, frame) -> str:
@@ -64,7 +63,7 @@ def cmd_evaluate(args):
     study = _study(args.study)
     out = Path(args.out) if args.out else None
     if out is not None and out.exists() and not args.force:
-        raise UserError(f"{out}: exists; expected a new file (use --force to replace it)")
+        raise UsageError(f"{out}: exists; expected a new file (use --force to replace it)")
     if args.design:
         table = parse_design_option(study, args.design)
     else:
@@ -72,8 +71,8 @@ def cmd_evaluate(args):
         if designs is None:
             candidate = Path(study.path).with_name(Path(study.path).stem + "_designs.csv")
             if not candidate.exists():
-                raise UserError(f"no designs given; expected --designs FILE.csv or --design "
-                                f"'...' (no sample file {candidate} beside the study)")
+                raise UsageError(f"no designs given; expected --designs FILE.csv or --design "
+                                 f"'...' (no sample file {candidate} beside the study)")
             designs = candidate
         table = read_designs_csv(study, designs)
     frame = evaluate(study, table)
@@ -109,79 +108,54 @@ def _duration(text):
     else:
         parts = re.findall(r"(\d+(?:\.\d+)?)\s*([hms])", t)
         if not parts or re.sub(r"(\d+(?:\.\d+)?)\s*([hms])", "", t).strip():
-            raise UserError(f"--time: got {text!r}; expected a duration such as '90s', '45m', "
-                            "'8h' or '1h30m'")
+            raise UsageError(f"--time: got {text!r}; expected a duration such as "
+                             "'90s', '45m', '8h' or '1h30m'")
         seconds = sum(float(n) * {"h": 3600, "m": 60, "s": 1}[u] for n, u in parts)
     if not seconds > 0:
-        raise UserError(f"--time: got {text!r}; expected a duration greater than zero")
+        raise UsageError(f"--time: got {text!r}; expected a duration greater than zero")
     return seconds
-
-
-def _run_errors(fn):
-    from .runs import RunError, RunInterrupted
-    try:
-        return fn()
-    except RunError as exc:
-        raise UserError(str(exc)) from None
-    except RunInterrupted as exc:
-        print(f"\n{exc}", file=sys.stderr)
-        return 130
 
 
 def cmd_run(args):
     from .runs import optimise, summary_text
     study = _study(args.study)
     time_s = _duration(args.time) if args.time is not None else None
-
-    def go():
-        result = optimise(study, out=args.out, force=args.force, seed=args.seed,
-                          generations=args.gens, population=args.pop, evaluations=args.evals,
-                          time_budget_s=time_s, stall_generations=args.stall_gens,
-                          checkpoint_every=args.checkpoint_every, progress=True)
-        print(summary_text(study, result))
-        return 0
-    return _run_errors(go)
+    result = optimise(study, out=args.out, force=args.force, seed=args.seed,
+                      generations=args.gens, population=args.pop, evaluations=args.evals,
+                      time_budget_s=time_s, stall_generations=args.stall_gens,
+                      checkpoint_every=args.checkpoint_every, progress=True)
+    print(summary_text(study, result))
+    return 0
 
 
 def cmd_resume(args):
     from .runs import load_checkpoint, resume, summary_text
     from .study import parse_study
-
-    def go():
-        result = resume(args.run_dir, progress=True)
-        state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
-        study = parse_study(state.study_text, state.study_path)
-        print(summary_text(study, result))
-        return 0
-    return _run_errors(go)
-
-
-def _decide_errors(fn, args):
-    from .decide import DecideError
-    try:
-        return fn(args)
-    except DecideError as exc:
-        raise UserError(str(exc)) from None
+    result = resume(args.run_dir, progress=True)
+    state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
+    study = parse_study(state.study_text, state.study_path)
+    print(summary_text(study, result))
+    return 0
 
 
 def cmd_pick(args):
     from .cli_decide import run_pick
-    return _decide_errors(run_pick, args)
+    return run_pick(args)
 
 
 def cmd_flaps(args):
     from .cli_decide import run_flaps
-    return _decide_errors(run_flaps, args)
+    return run_flaps(args)
 
 
 def cmd_report(args):
     from .cli_decide import run_report
-    return _decide_errors(run_report, args)
+    return run_report(args)
 
 
 def cmd_sweep(args):
     from .cli_campaign import cmd_sweep as run_sweep
-    return _run_errors(lambda: run_sweep(args))
+    return run_sweep(args)
 
 
 def cmd_robust(args):
@@ -238,19 +212,23 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
-    from .study import StudyError
+    """Run the command line; every :class:`~optimiser.errors.OptimiserError` becomes one line
+    on stderr and exit status 2 (a traceback only with ``--debug``)."""
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         return args.func(args)
-    except (UserError, StudyError) as exc:
+    except OptimiserError as exc:
         if args.debug:
             raise
         print(f"error: {exc}", file=sys.stderr)
         return EXIT_USAGE
+    except RunInterrupted as exc:  # the checkpoint is saved; say how to resume
+        print(f"\n{exc}", file=sys.stderr)
+        return EXIT_INTERRUPTED
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
-        return 130
+        return EXIT_INTERRUPTED
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,14 +1,16 @@
 """Command line of campaigns and robustness: ``optimiser sweep`` and ``optimiser robust``.
 
 Only argument handling and printing; the work is in :mod:`optimiser.campaign` and
-:mod:`optimiser.robust`. User errors raise :class:`optimiser.cli.UserError` or
-:class:`optimiser.study.StudyError` (one line, exit status 2).
+:mod:`optimiser.robust`. User errors raise an :class:`optimiser.errors.OptimiserError`
+(one line, exit status 2).
 """
 
 from __future__ import annotations
 
 import sys
 from pathlib import Path
+
+from .errors import UsageError
 
 
 def add_sweep_parser(sub):
@@ -49,13 +51,13 @@ def add_robust_parser(sub):
 
 
 def cmd_sweep(args):
-    from .campaign import load_campaign, run_campaign, summary_text
-    from .cli import UserError
+    from .campaign import run_campaign, summary_text
+    from .campaign_file import load_campaign
     if args.workers is not None and args.workers < 1:
-        raise UserError(f"--workers: got {args.workers}; expected a whole number of at least 1")
+        raise UsageError(f"--workers: got {args.workers}; expected a whole number of at least 1")
     if args.serial and (args.scheduler or args.workers):
-        raise UserError("--serial: given with --scheduler or --workers; expected one way of "
-                        "running")
+        raise UsageError("--serial: given with --scheduler or --workers; expected one way of "
+                         "running")
     campaign = load_campaign(args.campaign)
     print(f"campaign {campaign.name}: {len(campaign.combinations)} combinations of "
           + " x ".join(f"{a.key} ({len(a.values)})" for a in campaign.axes))
@@ -80,67 +82,66 @@ def cmd_sweep(args):
 
 def _design_table(study, args):
     import pandas as pd
-    from .cli import UserError
     from .designs import check_designs, parse_design_option
     from .evaluation import design_columns
+    from .runfolder import names
     if args.design and args.front:
-        raise UserError("--design: given with --front; expected one of them")
+        raise UsageError("--design: given with --front; expected one of them")
     if args.design:
         if args.row is not None:
-            raise UserError("--row: given with --design; expected it only with --front")
+            raise UsageError("--row: given with --design; expected it only with --front")
         return parse_design_option(study, args.design)
     if not args.front:
-        raise UserError("no design given; expected --design '...' or --front RUN/front.csv "
-                        "[--row N]")
+        raise UsageError("no design given; expected --design '...' or --front "
+                         "RUN/front.csv [--row N]")
     path = Path(args.front)
     if path.is_dir():
-        path = path / "front.csv"
+        path = path / names.FRONT
     if not path.is_file():
-        raise UserError(f"--front: {path}: no such file; expected a run's front.csv")
+        raise UsageError(f"--front: {path}: no such file; expected a run's front.csv")
     try:
         front = pd.read_csv(path)
     except Exception as exc:
-        raise UserError(f"--front: {path}: cannot read it as CSV ({type(exc).__name__})") from None
+        raise UsageError(f"--front: {path}: cannot read it as CSV ({type(exc).__name__})") from None
     row = 1 if args.row is None else args.row
     if not 1 <= row <= len(front):
-        raise UserError(f"--row: got {row}; expected 1 to {len(front)} (the rows of {path})")
+        raise UsageError(f"--row: got {row}; expected 1 to {len(front)} (the rows of {path})")
     missing = [c for c in design_columns(study) if c not in front.columns]
     if missing:
-        raise UserError(f"--front: {path}: no column {missing[0]!r}; expected a front.csv of "
-                        "a run of this kind of study")
+        raise UsageError(f"--front: {path}: no column {missing[0]!r}; expected a front.csv of "
+                         "a run of this kind of study")
     return check_designs(study, front.iloc[[row - 1]][list(design_columns(study))]
                          .reset_index(drop=True), source=str(path))
 
 
 def cmd_robust(args):
-    import json
-    from .cli import UserError
     from .evaluation import CAUTION
     from .robust import MAX_SAMPLES, monte_carlo, plot_robustness, summary_text
-    from .runs import utc_now, write_atomic
+    from .runfolder.files import utc_now, write_atomic
+    from .runfolder.runinfo import json_bytes
     from .study import load_study
     study = load_study(args.study)
     if not (study.uncertainty or {}).get("assumptions"):
-        raise UserError(f"{args.study}: no [uncertainty] table with an uncertain assumption; "
-                        "expected e.g. [uncertainty] cd0_clean = { distribution = \"normal\", "
-                        "std = 0.05 }")
+        raise UsageError(f"{args.study}: no [uncertainty] table with an uncertain assumption; "
+                         "expected e.g. [uncertainty] cd0_clean = { distribution = \"normal\", "
+                         "std = 0.05 }")
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
-        raise UserError(f"--samples: got {args.samples}; expected 1 to {MAX_SAMPLES}")
+        raise UsageError(f"--samples: got {args.samples}; expected 1 to {MAX_SAMPLES}")
     if args.seed is not None and not 0 <= args.seed < 2**32:
-        raise UserError(f"--seed: got {args.seed}; expected a whole number from 0 to "
-                        f"{2**32 - 1}")
+        raise UsageError(f"--seed: got {args.seed}; expected a whole number from 0 to "
+                         f"{2**32 - 1}")
     table = _design_table(study, args)
     out = Path(args.out) if args.out else _default_out(study)
     if out.exists() and not out.is_dir():
-        raise UserError(f"--out {out}: is a file; expected a folder")
+        raise UsageError(f"--out {out}: is a file; expected a folder")
     if out.is_dir() and any(out.iterdir()) and not args.force:
-        raise UserError(f"--out {out}: folder exists and is not empty; expected a new or empty "
-                        "folder (use --force to replace the robustness files in it)")
+        raise UsageError(f"--out {out}: folder exists and is not empty; expected a new or empty "
+                         "folder (use --force to replace the robustness files in it)")
     result = monte_carlo(study, table, samples=args.samples, seed=args.seed)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise UserError(f"--out {out}: cannot create the folder ({exc.strerror})") from None
+        raise UsageError(f"--out {out}: cannot create the folder ({exc.strerror})") from None
     text = summary_text(study, result)
     write_atomic(out / "constraints.csv", result.constraints.to_csv(index=False).encode())
     write_atomic(out / "trip_fuel.csv", result.trip_fuel.to_csv(index=False).encode())
@@ -152,7 +153,7 @@ def cmd_robust(args):
             "assumptions": result.assumptions, "efficiency_capped_share": result.capped,
             "method": "vectorised Monte Carlo, one sizing call over all samples "
                       "(optimiser.robust)", "caution": CAUTION}
-    write_atomic(out / "robust.json", (json.dumps(info, indent=2) + "\n").encode())
+    write_atomic(out / "robust.json", json_bytes(info))
     plot_robustness(study, result, out)
     print(text)
     print(f"wrote {out}/constraints.csv, trip_fuel.csv, samples.csv, summary.txt and the plots")
@@ -160,11 +161,5 @@ def cmd_robust(args):
 
 
 def _default_out(study):
-    from datetime import datetime, timezone
-    stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%SZ")
-    base = Path("results") / f"{study.name}-robust-{stamp}"
-    candidate, k = base, 2
-    while candidate.exists():
-        candidate = Path(f"{base}-{k}")
-        k += 1
-    return candidate
+    from .runfolder.place import timestamped_dir
+    return timestamped_dir(f"{study.name}-robust")

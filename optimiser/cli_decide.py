@@ -74,7 +74,8 @@ def _method(args, default):
 
 
 def run_pick(args) -> int:
-    from .decide import load_run, pick_summary, runners_up, write_pick, DecideError
+    from .decide import DecideError, pick_summary, runners_up, write_pick
+    from .runfolder import load_run
     if args.runners_up < 0:
         raise DecideError(f"--runners-up: got {args.runners_up}; expected 0 or more")
     run = load_run(args.run_dir)
@@ -86,7 +87,9 @@ def run_pick(args) -> int:
 
 
 def run_flaps(args) -> int:
-    from .decide import DecideError, flaps_from_run, flaps_summary, load_run, write_flaps
+    from .decide import DecideError
+    from .flaps import compare_flaps, flaps_summary, write_flaps
+    from .runfolder import load_run
     src = Path(args.source)
     if src.is_dir():
         extra = [o for o in ("out", "seed", "pop", "gens") if getattr(args, o) is not None]
@@ -95,31 +98,29 @@ def run_flaps(args) -> int:
                               f"run folder {src}")
         run = load_run(src)
     elif src.is_file():
-        from .runs import RunError, optimise
+        from .runs import optimise
         from .study import load_study
         study = load_study(src)
-        try:
-            result = optimise(study, out=args.out, force=args.force, seed=args.seed,
-                              generations=args.gens, population=args.pop, progress=True)
-        except RunError as exc:
-            raise DecideError(str(exc)) from None
+        result = optimise(study, out=args.out, force=args.force, seed=args.seed,
+                          generations=args.gens, population=args.pop, progress=True)
         print(result.message)
         run = load_run(result.run_dir)
     else:
         raise DecideError(f"{src}: no such study file or run folder; expected STUDY.toml or "
                           "a folder written by 'optimiser run'")
-    table, fronts = flaps_from_run(run)
+    table, fronts = compare_flaps(run)
     out = write_flaps(run, table, fronts, force=args.force)
     print(flaps_summary(run.study, table, out))
     return 0
 
 
 def run_report(args) -> int:
-    from .decide import DecideError, load_run
+    from .decide import DecideError
     from .evaluation import CAUTION
+    from .runfolder import load_run, names
     from .report.html import latest_pick_settings, write_report
     run = load_run(args.run_dir)
-    target = run.run_dir / "report.html"
+    target = run.run_dir / names.REPORT
     if target.exists() and not args.force:
         raise DecideError(f"{target}: exists; expected a new file (use --force to replace it)")
     if args.method or args.weights or args.aspiration or args.limit:

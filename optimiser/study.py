@@ -22,6 +22,7 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
 from . import spec as S
+from .errors import StudyError
 from .physics import aerodynamics, atmosphere, highlift, mission, performance
 
 MAX_STUDY_BYTES = 1_000_000
@@ -58,10 +59,6 @@ _TOP_KEYS = {"name", "description", "certification", "variables", "objectives", 
              "slats", "search", "uncertainty", *_SECTIONS}
 _REQUIRED_SECTIONS = ("propulsion", "aerodynamics", "weights", "mission", "requirements",
                       "departure", "variables")
-
-
-class StudyError(ValueError):
-    """A study file (or a designs file) that cannot be used; the message is one line."""
 
 
 _UREG = None

@@ -16,8 +16,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from optimiser.campaign import (CampaignError, load_campaign, pick_compromise,
-                                price_table, run_campaign, toml_text)
+from optimiser.campaign import price_table, run_campaign
+from optimiser.campaign_file import load_campaign, pick_compromise, toml_text
+from optimiser.errors import CampaignError
 from optimiser.evaluation import CAUTION, evaluate
 from optimiser.study import load_study, parse_study
 

@@ -18,7 +18,8 @@ import pandas as pd
 import pytest
 
 import optimiser
-from optimiser import decide
+from optimiser import decide, flaps
+from optimiser.runfolder import load_run
 from optimiser.cli import main
 from optimiser.report import sheet
 from optimiser.search import nondominated_mask
@@ -37,7 +38,7 @@ def run_dir(study, tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def run(run_dir):
-    return decide.load_run(run_dir)
+    return load_run(run_dir)
 
 
 def _random_front(seed, n=60, m=3):
@@ -205,18 +206,18 @@ def test_pick_command_writes_files_and_refuses_overwrite(run_dir, capsys):
 # ----------------------------------------------------------------------------- flaps
 
 def test_mean_gap_worked_example():
-    a = decide.lower_envelope([0.0, 2.0], [2.0, 0.0])
-    b = decide.lower_envelope([0.0, 2.0], [1.0, 0.0])
-    gap, rng = decide.mean_gap(a, b)
+    a = flaps.lower_envelope([0.0, 2.0], [2.0, 0.0])
+    b = flaps.lower_envelope([0.0, 2.0], [1.0, 0.0])
+    gap, rng = flaps.mean_gap(a, b)
     # y_a - y_b = (2 - x) - (1 - x/2) = 1 - x/2, mean over [0, 2] = 0.5
     assert gap == pytest.approx(0.5, abs=1e-12) and rng == (0.0, 2.0)
     # beyond its last point an envelope stays flat (an engine no larger than E), below: NaN
-    y = decide.best_within(b, [-1.0, 1.0, 5.0])
+    y = flaps.best_within(b, [-1.0, 1.0, 5.0])
     assert math.isnan(y[0]) and y[1] == pytest.approx(0.5) and y[2] == 0.0
 
 
 def test_flap_comparison_of_a_run(study, run):
-    table, fronts = decide.flaps_from_run(run)
+    table, fronts = flaps.compare_flaps(run)
     assert list(table["flap"]) == list(study.flaps)
     assert table["share_of_combined_front"].sum() == pytest.approx(1.0)
     final_hv = run.info["hypervolume"]["final"]

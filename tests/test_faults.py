@@ -30,6 +30,7 @@ import pytest
 
 import optimiser
 from optimiser import runs
+from optimiser.runfolder import checkpoint, files, place
 from optimiser.cli import main
 from optimiser.runs import RunError, load_checkpoint, resume
 from optimiser.study import bundled_study_path, load_study, parse_study
@@ -184,7 +185,7 @@ def _fake_free(free):
 
 
 def test_full_disk_is_refused_before_the_search(study, tmp_path, monkeypatch):
-    monkeypatch.setattr(runs.shutil, "disk_usage", _fake_free(300_000))
+    monkeypatch.setattr(place.shutil, "disk_usage", _fake_free(300_000))
     out = tmp_path / "run"
     with pytest.raises(RunError) as info:
         optimiser.optimise(study, out=out, population=8, generations=40, plots=False)
@@ -203,7 +204,7 @@ def test_full_disk_is_refused_before_the_search(study, tmp_path, monkeypatch):
 
 def test_full_disk_through_the_command_line_keeps_the_old_run(tmp_path, monkeypatch,
                                                               capsys):
-    monkeypatch.setattr(runs.shutil, "disk_usage", _fake_free(1000))
+    monkeypatch.setattr(place.shutil, "disk_usage", _fake_free(1000))
     monkeypatch.chdir(tmp_path)
     assert main(["run", "--pop", "8", "--gens", "2"]) == 2
     line = one_error_line(capsys)
@@ -221,7 +222,7 @@ def test_full_disk_through_the_command_line_keeps_the_old_run(tmp_path, monkeypa
 def test_time_budget_estimate_uses_the_sizing_rate(study, tmp_path, monkeypatch):
     # 10^7 generations would need half a terabyte, but 5 s of sizing cannot write that much: the
     # estimate takes the smaller of the two and the run is allowed
-    monkeypatch.setattr(runs.shutil, "disk_usage", _fake_free(10 ** 11))
+    monkeypatch.setattr(place.shutil, "disk_usage", _fake_free(10 ** 11))
     with pytest.raises(RunError, match="needs an estimated"):
         runs.start(study, out=tmp_path / "a", population=8, generations=10 ** 7)
     state, run_dir = runs.start(study, out=tmp_path / "b", population=8,
@@ -331,7 +332,7 @@ def test_real_disk_filling_during_the_run(study, reference, tmpfs):
 
 def test_disk_full_while_appending_ends_with_one_line_and_resumes(reference, tmp_path,
                                                                   monkeypatch, capsys):
-    real_append = runs._append
+    real_append = files.append
     calls = {"n": 0}
 
     def append(path, text):
@@ -343,7 +344,7 @@ def test_disk_full_while_appending_ends_with_one_line_and_resumes(reference, tmp
             raise OSError(errno.ENOSPC, "No space left on device", str(path))
         return real_append(path, text)
 
-    monkeypatch.setattr(runs, "_append", append)
+    monkeypatch.setattr(files, "append", append)
     out = tmp_path / "run"
     assert main(["run", "--out", str(out), "--pop", "8", "--gens", "5",
                  "--checkpoint-every", "1"]) == 2
@@ -353,7 +354,7 @@ def test_disk_full_while_appending_ends_with_one_line_and_resumes(reference, tmp
     state = load_checkpoint(out)
     assert state.generation == 3 and state.termination is None
     assert (out / "evaluations.csv").stat().st_size > state.archive_bytes  # the half row
-    monkeypatch.setattr(runs, "_append", real_append)
+    monkeypatch.setattr(files, "append", real_append)
     resume(out, plots=False)
     same_run_outputs(out, reference)
 
@@ -370,7 +371,7 @@ def test_disk_full_while_writing_a_checkpoint_keeps_the_old_one(study, reference
                               str(out / f".checkpoint.pkl.tmp-{os.getpid()}"))
         return before_replace
 
-    monkeypatch.setattr(runs, "_test_pause", failing_pause)
+    monkeypatch.setattr(checkpoint, "_test_pause", failing_pause)
     out = tmp_path / "run"
     with pytest.raises(RunError,
                        match=r"cannot write checkpoint\.pkl \(No space .*generation 2\)"):

@@ -4,9 +4,9 @@ uninterrupted run with the same seed; after every kill the folder holds no trunc
 beyond what the checkpoint records and a checkpoint that loads.
 
 The kill inside a checkpoint write is made deterministic by the test hook
-``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` (optimiser.runs.TEST_PAUSE_ENV): the child process
-sleeps after the temporary checkpoint file is complete and before it replaces checkpoint.pkl,
-and the test kills it while the temporary file is there.
+``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` (optimiser.runfolder.checkpoint.TEST_PAUSE_ENV): the child
+process sleeps after the temporary checkpoint file is complete and before it replaces
+checkpoint.pkl, and the test kills it while the temporary file is there.
 
 Source of the expectation: exact resume is this project's own requirement (same seed, same
 front); pymoo's per-algorithm random generator is pickled with it (common practice, measured
@@ -28,7 +28,8 @@ import pandas as pd
 
 import optimiser
 from optimiser.cli import main
-from optimiser.runs import CHECKPOINT, TEST_PAUSE_ENV, load_checkpoint
+from optimiser.runfolder.checkpoint import TEST_PAUSE_ENV, load_checkpoint
+from optimiser.runfolder.names import CHECKPOINT
 from optimiser.study import bundled_study_path, load_study
 
 SEED = 11

@@ -20,6 +20,7 @@ import pytest
 
 import optimiser
 from optimiser import decide
+from optimiser.runfolder import load_run
 from optimiser.report.html import write_report
 from optimiser.study import bundled_study_path, load_study
 
@@ -69,7 +70,7 @@ def report(tmp_path_factory):
     study = load_study(bundled_study_path())
     out = tmp_path_factory.mktemp("browser") / "run"
     optimiser.optimise(study, out=out, population=24, generations=5, plots=False)
-    run = decide.load_run(out)
+    run = load_run(out)
     choice = decide.choose(study, run.front, "knee")
     return run, choice, write_report(run, choice=choice)
 

@@ -232,7 +232,7 @@ def test_archive_reads_back_every_number_exactly(study):
     # every number of evaluations.csv reads back to the same float (the archive can stand in
     # for the sized values, and any row can be sized again from its inputs)
     import io
-    from optimiser.runs import archive_columns, archive_rows
+    from optimiser.runfolder.archive import archive_columns, archive_rows
     from optimiser.sizing import size_designs
     rng = np.random.default_rng(11)
     n = 300
@@ -297,9 +297,9 @@ def test_default_checkpoints_follow_the_running_time(study, tmp_path, monkeypatc
                                                      expected):
     # without --checkpoint-every a checkpoint is due once CHECKPOINT_INTERVAL_S of running
     # has passed since the last one (and at the end); the generation on disk tells which
-    from optimiser import runs
-    from optimiser.runs import load_checkpoint
-    monkeypatch.setattr(runs, "CHECKPOINT_INTERVAL_S", interval_s)
+    from optimiser import loop
+    from optimiser.runfolder import load_checkpoint
+    monkeypatch.setattr(loop, "CHECKPOINT_INTERVAL_S", interval_s)
     out = tmp_path / "run"
     seen = []
     # the checkpoint of generation g is written after the progress call of generation g, so
@@ -314,7 +314,7 @@ def test_front_table_writer_reads_back_exactly_and_quotes_when_needed(tiny_run):
     # front.csv and least_violating.csv go through Arrow's writer: every float back exactly,
     # text unquoted; a cell with a comma falls back to pandas' quoting
     import io
-    from optimiser.runs import _csv_bytes
+    from optimiser.runfolder.files import csv_bytes as _csv_bytes
     front = tiny_run.front
     back = pd.read_csv(io.BytesIO(_csv_bytes(front)))
     assert list(back.columns) == list(front.columns)
@@ -331,9 +331,10 @@ def test_front_table_writer_reads_back_exactly_and_quotes_when_needed(tiny_run):
 def test_archive_rows_wait_in_memory_at_most_the_buffer_limit(study, tmp_path, monkeypatch):
     # between checkpoints the archive rows are written in batches once ARCHIVE_BUFFER_ROWS
     # are pending; the file never lags by more than that plus one generation, and ends whole
-    from optimiser import runs
-    monkeypatch.setattr(runs, "ARCHIVE_BUFFER_ROWS", 100)
-    monkeypatch.setattr(runs, "CHECKPOINT_INTERVAL_S", 1e9)
+    from optimiser import loop
+    from optimiser.runfolder import archive
+    monkeypatch.setattr(archive, "ARCHIVE_BUFFER_ROWS", 100)
+    monkeypatch.setattr(loop, "CHECKPOINT_INTERVAL_S", 1e9)
     out = tmp_path / "run"
     lag = []
 

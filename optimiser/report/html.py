@@ -38,7 +38,9 @@ def latest_pick_settings(run):
     from ..decide import choose, parse_limit
     if len(run.front) == 0:
         return None
-    picks = sorted(run.run_dir.glob("pick-*/choice.json"), key=lambda p: p.stat().st_mtime)
+    from ..runfolder import names
+    picks = sorted(run.run_dir.glob(f"{names.PICK_DIR_PREFIX}*/{names.PICK_CHOICE}"),
+                   key=lambda p: p.stat().st_mtime)
     if picks:
         s = json.loads(picks[-1].read_text("utf-8"))
         limits = [parse_limit(t, list(run.front.columns)) for t in s.get("limits", [])]
@@ -179,9 +181,12 @@ def _requirements_html(study):
 
 def write_report(run, choice=None, flaps=True) -> Path:
     """Write ``RUN_DIR/report.html`` (replacing it) and return its path."""
-    from ..decide import flaps_from_run, runners_up
+    from ..decide import runners_up
+    from ..flaps import compare_flaps
     from ..evaluation import CAUTION
-    from ..runs import write_atomic
+    from ..runfolder import names
+    from ..runfolder.archive import read_archive, read_history
+    from ..runfolder.files import write_atomic
     from . import plots, sheet
     study, front = run.study, run.front
     info = run.info
@@ -199,11 +204,10 @@ def write_report(run, choice=None, flaps=True) -> Path:
     sections.append("<section id='requirements'><h2>Requirements and assumptions</h2>"
                     "<p>As given in the study file (every unit as written there).</p>"
                     + _requirements_html(study) + "</section>")
-    import pandas as pd
-    history = pd.read_csv(run.run_dir / "history.csv") if (run.run_dir / "history.csv").is_file() \
-        else None
+    history = read_history(run.run_dir) if run.history_path.is_file() else None
     if len(front):
-        F = plots._read_feasible(run.run_dir, list(study.objective_columns()))
+        F = read_archive(run.run_dir, study.objective_columns(), feasible_only=True)\
+            .to_numpy(float)
         figs = [("objectives", _png(plots.objective_scatter(study, front, F)))]
         if history is not None and len(history):
             figs.append(("convergence", _png(plots.convergence(study, history))))
@@ -246,8 +250,8 @@ def write_report(run, choice=None, flaps=True) -> Path:
             + _table(["rank", "flap", *[f"{sheet.label_of(c)[0]} [{sheet.label_of(c)[1] or '-'}]"
                                         for c in cols], "what it trades against the choice"],
                      run_rows) + "</section>")
-    if flaps and (run.run_dir / "evaluations.csv").is_file():
-        table, fronts = flaps_from_run(run)
+    if flaps and run.evaluations_path.is_file():
+        table, fronts = compare_flaps(run)
         eng_unit = study.engine_size_column.rsplit("_", 1)[1]
         rows = []
         for _, r in table.iterrows():
@@ -281,7 +285,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
         body="\n".join(sections),
         data=json.dumps(data, separators=(",", ":")).replace("</", "<\\/"),
         script=_SCRIPT if data else "")
-    path = run.run_dir / "report.html"
+    path = run.run_dir / names.REPORT
     write_atomic(path, page.encode("utf-8"))
     return path
 

@@ -11,6 +11,9 @@ from pathlib import Path
 
 import numpy as np
 
+from ..runfolder import names
+from ..runfolder.archive import read_archive
+
 LABELS = {
     "trip_fuel_kg": "trip fuel [kg]",
     "engine_power_kW": "installed engine power, all engines [kW]",
@@ -35,16 +38,6 @@ def _colours(flaps):
     plt = _plt()
     cmap = plt.get_cmap("tab10")
     return {f: cmap(i % 10) for i, f in enumerate(flaps)}
-
-
-def _read_feasible(run_dir, columns, chunk=200_000):
-    """Objective columns of the feasible rows of evaluations.csv, read in chunks."""
-    import pandas as pd
-    parts = []
-    for part in pd.read_csv(Path(run_dir) / "evaluations.csv", usecols=[*columns, "feasible"],
-                            chunksize=chunk):
-        parts.append(part.loc[part["feasible"].astype(bool), list(columns)].to_numpy(float))
-    return np.vstack(parts) if parts else np.zeros((0, len(columns)))
 
 
 def objective_scatter(study, front, feasible_F, ax=None):
@@ -166,7 +159,7 @@ def convergence(study, history, ax=None):
 def write_plots(study, run_dir, front, history, scales=None):
     """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths."""
     plt = _plt()
-    out = Path(run_dir) / "plots"
+    out = Path(run_dir) / names.PLOTS_DIR
     out.mkdir(exist_ok=True)
     written = []
 
@@ -179,7 +172,8 @@ def write_plots(study, run_dir, front, history, scales=None):
 
     save(convergence(study, history), "convergence")
     if len(front):
-        F = _read_feasible(run_dir, list(study.objective_columns()))
+        F = read_archive(run_dir, study.objective_columns(), feasible_only=True)\
+            .to_numpy(float)
         save(objective_scatter(study, front, F), "objectives")
         if len(study.objectives) == 3:
             save(front_3d(study, front), "front_3d")
@@ -319,7 +313,7 @@ def flap_fronts(study, fronts, table, ax=None):
     non-dominated subset of each option's front as a line, all its front designs as dots),
     and, beside it, the best of each objective per option. Options with no feasible design
     are named in the legend with the failing constraint."""
-    from ..decide import lower_envelope
+    from ..flaps import lower_envelope
     plt = _plt()
     eng = study.engine_size_column
     if ax is None:

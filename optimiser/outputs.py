@@ -1,0 +1,151 @@
+"""The outputs of a run: front.csv (or least_violating.csv), run.json, the plots, the
+result object and the summary lines."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from .evaluation import CAUTION
+from .runfolder import files, names
+from .runfolder.archive import read_history
+from .runfolder.runinfo import versions, write_run_info
+from .runstate import DesignSet, RunResult, RunState
+
+TERMINATION_TEXT = {
+    "generations": "generation budget reached",
+    "evaluations": "evaluation budget reached",
+    "time": "wall-clock budget reached",
+    "stall": "hypervolume stalled",
+}
+
+
+def _best_lines(study, front):
+    out = []
+    for c in list(study.objective_columns()):
+        i = int(front[c].to_numpy(float).argmin())
+        out.append(f"  best {c}: {front[c].iloc[i]:.6g} ({front['flap'].iloc[i]})")
+    return out
+
+
+def _designs_table(study, kept: DesignSet):
+    """The design inputs of ``kept`` as a designs table (flap by name)."""
+    import pandas as pd
+    from .evaluation import design_columns
+    flap_names = np.asarray(study.spec.high_lift_names, dtype=object)
+    cols = design_columns(study)
+    return pd.DataFrame({cols[0]: kept.designs[:, 0], cols[1]: kept.designs[:, 1],
+                         cols[2]: kept.designs[:, 2], cols[3]: flap_names[kept.flap]})
+
+
+def _least_table(study, least: DesignSet):
+    """The least-violating designs sized again, with their total violation and generation."""
+    from .evaluation import size_frame
+    d = least.designs
+    table = size_frame(study, d[:, 0], d[:, 1], d[:, 2], least.flap)
+    table.insert(0, "generation", least.generation)
+    table.insert(0, "total_violation", least.key)
+    return table
+
+
+def _no_front_message(state) -> str:
+    """Why nothing feasible was found, and where the closest designs are."""
+    worst = min(state.best_margin, key=state.best_margin.get)
+    closure = state.best_margin.get("mass_closure", 0.0)
+    if closure < 0:  # not one design closed: the mission itself is out of reach
+        return (f"no feasible design found in {state.n_evaluations} evaluations: the "
+                "mission cannot close - for every design tried, payload, crew, fuel "
+                "and empty mass exceed the takeoff mass up to the mass limit "
+                f"(mass_closure, best margin reached {closure:+.1%}); shorten the "
+                f"range, lighten the payload or widen the bounds; the designs closest "
+                f"to feasible are in {names.LEAST_VIOLATING}")
+    return (f"no feasible design found in {state.n_evaluations} evaluations: the "
+            f"requirements cannot all be met within the variable bounds (hardest: "
+            f"{worst}, best margin reached {state.best_margin[worst]:+.1%}); the "
+            f"designs closest to feasible are in {names.LEAST_VIOLATING}")
+
+
+def _write_tables(study, state: RunState, run_dir: Path):
+    """Write front.csv, or least_violating.csv when nothing feasible was found (removing the
+    other); (front, least-violating table or None, message)."""
+    import pandas as pd
+    from .evaluation import evaluate
+    if state.front is not None and len(state.front) > 0:
+        front = evaluate(study, _designs_table(study, state.front))
+        front.insert(0, "generation", state.front.generation)
+        front = front.sort_values(list(study.objective_columns()), kind="stable")\
+            .reset_index(drop=True)
+        files.write_atomic(run_dir / names.FRONT, files.csv_bytes(front))
+        (run_dir / names.LEAST_VIOLATING).unlink(missing_ok=True)
+        message = (f"{len(front)} feasible non-dominated design(s) from {state.n_evaluations} "
+                   f"evaluations ({state.n_feasible} feasible); "
+                   f"{TERMINATION_TEXT[state.termination]}")
+        return front, None, message
+    least = _least_table(study, state.least)
+    front = pd.DataFrame(columns=list(least.columns[1:]))
+    files.write_atomic(run_dir / names.LEAST_VIOLATING, files.csv_bytes(least))
+    (run_dir / names.FRONT).unlink(missing_ok=True)
+    return front, least, _no_front_message(state)
+
+
+def run_info(study, state: RunState, front, history, message, ended_utc) -> dict:
+    """The content of run.json."""
+    from .loop import CHECKPOINT_INTERVAL_S
+    b = state.budget
+    return {
+        "study": study.name, "study_file": state.study_path, "study_sha256": study.sha256,
+        "versions": versions(), "seed": state.seed,
+        "started_utc": state.started_utc, "ended_utc": ended_utc,
+        "active_seconds": round(state.elapsed_s, 3),
+        "budget": {"population": b.population, "generations": b.generations,
+                   "population_per_flap_option": b.option_population,
+                   "flap_options": list(study.flaps),
+                   "evaluations": b.evaluations, "time_s": b.time_s,
+                   "stall_generations": b.stall_generations,
+                   "checkpoint_every": b.checkpoint_every,
+                   "checkpoint_interval_s": (CHECKPOINT_INTERVAL_S if b.checkpoint_every is None
+                                             else None)},
+        "method": "one NSGA-II (pymoo) per flap option, fronts merged (see optimiser.search)",
+        "objectives": list(study.objective_columns()),
+        "termination": state.termination,
+        "termination_text": TERMINATION_TEXT[state.termination],
+        "generations_run": state.generation,
+        "n_evaluations": state.n_evaluations, "n_feasible": state.n_feasible,
+        "front_size": len(front),
+        "feasible_found": state.front is not None and len(state.front) > 0,
+        "best_margin_reached": {k: float(v) for k, v in state.best_margin.items()},
+        "hypervolume": {"final": float(history["hypervolume"].iloc[-1]) if len(history) else 0.0,
+                        **state.scales,
+                        "note": "objectives normalised as (f - ideal) / (nadir - ideal); the "
+                                "reference point is fixed before the search and never changes"},
+        "message": message, "caution": CAUTION,
+    }
+
+
+def finish(study, state: RunState, run_dir: Path, plots=True) -> RunResult:
+    """Write front.csv (or least_violating.csv), run.json and the plots; build the result."""
+    history = read_history(run_dir)
+    ended = files.utc_now()
+    front, least, message = _write_tables(study, state, run_dir)
+    info = run_info(study, state, front, history, message, ended)
+    if plots:
+        from .report.plots import write_plots
+        write_plots(study, run_dir, front, history, scales=state.scales)
+    # run.json last: its presence marks a finished run (resume finishes a run killed before)
+    write_run_info(run_dir, info)
+    return RunResult(front=front, history=history, run_dir=run_dir, message=message,
+                     n_evaluations=state.n_evaluations, termination=state.termination,
+                     least_violating=least, best_margin=dict(state.best_margin))
+
+
+def summary_text(study, result: RunResult) -> str:
+    lines = [f"study {study.name}: {result.message}"]
+    if len(result.front):
+        lines += _best_lines(study, result.front)
+    else:
+        lines.append("  best margin reached per constraint (negative = not met):")
+        lines += [f"    {k}: {v:+.1%}" for k, v in result.best_margin.items()]
+    lines.append(f"run folder: {result.run_dir}")
+    lines.append(CAUTION)
+    return "\n".join(lines)

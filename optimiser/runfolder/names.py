@@ -1,0 +1,42 @@
+"""The names of the files and folders of a run folder: the only place they are spelled.
+
+A run folder (written by ``optimiser run``) holds:
+
+``study.toml``
+    the study text the run used (:data:`STUDY`);
+``run.json``
+    versions, seed, budget, termination, counts, the hypervolume reference and the caution;
+    written last, so its presence marks a finished run (:data:`RUN_INFO`);
+``front.csv``
+    the feasible non-dominated designs over all flap options, every evaluate column
+    (:data:`FRONT`); ``least_violating.csv`` replaces it when nothing feasible was found
+    (:data:`LEAST_VIOLATING`);
+``evaluations.csv``
+    every evaluated design, a fixed set of columns (:data:`ARCHIVE`, see
+    :mod:`optimiser.runfolder.archive`);
+``history.csv``
+    one row per generation (:data:`HISTORY`);
+``checkpoint.pkl``
+    the whole run state (:data:`CHECKPOINT`);
+``plots/``, ``pick-<method>/``, ``flaps/``, ``report.html``
+    figures, picks, the flap comparison and the report, written by later commands.
+"""
+
+from __future__ import annotations
+
+STUDY = "study.toml"
+RUN_INFO = "run.json"
+FRONT = "front.csv"
+LEAST_VIOLATING = "least_violating.csv"
+ARCHIVE = "evaluations.csv"
+HISTORY = "history.csv"
+CHECKPOINT = "checkpoint.pkl"
+PLOTS_DIR = "plots"
+FLAPS_DIR = "flaps"
+PICK_DIR_PREFIX = "pick-"
+PICK_CHOICE = "choice.json"
+REPORT = "report.html"
+
+RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT)
+"""The files ``optimiser run`` writes (``--force`` replaces only these, and the plots)."""
+PLOT_SUFFIXES = (".png", ".svg")
