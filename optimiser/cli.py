@@ -65,7 +65,10 @@ def cmd_evaluate(args):
     out = Path(args.out) if args.out else None
     if out is not None and out.exists() and not args.force:
         raise UserError(f"{out}: exists; expected a new file (use --force to replace it)")
-    if args.design:
+    if args.design is not None and args.designs is not None:
+        raise UserError(f"--design and --designs: got both ({args.design!r} and "
+                        f"{args.designs!r}); expected one of them")
+    if args.design is not None:
         table = parse_design_option(study, args.design)
     else:
         designs = args.designs

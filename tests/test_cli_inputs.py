@@ -73,3 +73,41 @@ def test_pound_force_per_square_foot_is_read_exactly():
     lbf_ft2 = 0.45359237 * 9.80665 / 0.3048 ** 2     # N/m^2, exact definitions
     wing = [v for v in study.variables if v.column == "wing_loading_N_m2"][0]
     assert wing.lower == pytest.approx(10 * lbf_ft2, rel=1e-12)
+
+
+def _evaluate(*args, cwd):
+    return subprocess.run([sys.executable, "-m", "optimiser", "evaluate", str(DEFAULT), *args],
+                          capture_output=True, text=True, cwd=cwd)
+
+
+@pytest.mark.parametrize("args,message", [
+    (["--design", ""], "--design: got '' (empty); expected name=value pairs"),
+    (["--design", "   "], "--design: got '   ' (empty)"),
+    (["--design", "wing_loading_N_m2=900 wing_loading_N_m2=1000 power_loading_N_kW=60 "
+                  "aspect_ratio=8 flap=plain"],
+     "--design: 'wing_loading_N_m2' is given twice ('900' and '1000'); expected each name once"),
+    (["--design", "wing_loading_N_m2=900 power_loading_N_kW=60 aspect_ratio=8 flap=plain",
+      "--designs", "x.csv"], "--design and --designs: got both"),
+])
+def test_evaluate_design_option_refusals(tmp_path, args, message):
+    done = _evaluate(*args, cwd=tmp_path)
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    assert done.stderr.count("\n") == 1 and message in done.stderr
+
+
+def test_evaluate_refuses_a_repeated_column(tmp_path):
+    path = tmp_path / "d.csv"
+    path.write_text("wing_loading_N_m2,power_loading_N_kW,aspect_ratio,flap,aspect_ratio\n"
+                    "900,60,8,plain,9\n")
+    done = _evaluate("--designs", path, cwd=tmp_path)
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    assert "column 'aspect_ratio' appears 2 times" in done.stderr
+
+
+def test_evaluate_refuses_an_over_long_field(tmp_path):
+    path = tmp_path / "d.csv"
+    path.write_text("wing_loading_N_m2,power_loading_N_kW,aspect_ratio,flap\n"
+                    f"900,60,8,\"{'x' * 200_000}\"\n")
+    done = _evaluate("--designs", path, cwd=tmp_path)
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    assert "not a readable CSV table" in done.stderr and done.stderr.count("\n") == 1
