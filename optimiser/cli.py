@@ -64,7 +64,10 @@ def cmd_evaluate(args):
     out = Path(args.out) if args.out else None
     if out is not None and out.exists() and not args.force:
         raise UsageError(f"{out}: exists; expected a new file (use --force to replace it)")
-    if args.design:
+    if args.design is not None and args.designs is not None:
+        raise UsageError(f"--design and --designs: got both ({args.design!r} and "
+                        f"{args.designs!r}); expected one of them")
+    if args.design is not None:
         table = parse_design_option(study, args.design)
     else:
         designs = args.designs
@@ -99,25 +102,42 @@ def cmd_check(args):
     return 0
 
 
+_DURATION_UNITS = {"h": 3600, "hr": 3600, "hrs": 3600, "hour": 3600, "hours": 3600,
+                   "m": 60, "min": 60, "mins": 60, "minute": 60, "minutes": 60,
+                   "s": 1, "sec": 1, "secs": 1, "second": 1, "seconds": 1}
+_DURATION_PART = r"(\d+(?:\.\d+)?)\s*(" + "|".join(sorted(_DURATION_UNITS, key=len, reverse=True)) \
+    + r")(?![a-z])"
+
+
 def _duration(text):
-    """Seconds from '90', '90s', '45m', '8h' or '1h30m' (for --time)."""
+    """Seconds from '90', '90s', '5min', '5 min', '45m', '8h', '1h30m' or '1 h 30 min' (--time)."""
     import re
     t = text.strip().lower()
     if re.fullmatch(r"\d+(\.\d+)?", t):
         seconds = float(t)
     else:
-        parts = re.findall(r"(\d+(?:\.\d+)?)\s*([hms])", t)
-        if not parts or re.sub(r"(\d+(?:\.\d+)?)\s*([hms])", "", t).strip():
-            raise UsageError(f"--time: got {text!r}; expected a duration such as "
-                             "'90s', '45m', '8h' or '1h30m'")
-        seconds = sum(float(n) * {"h": 3600, "m": 60, "s": 1}[u] for n, u in parts)
+        parts = re.findall(_DURATION_PART, t)
+        if not parts or re.sub(_DURATION_PART, "", t).strip(" ,"):
+            raise UsageError(f"--time: got {text!r}; expected a duration such as '90s', '5min', "
+                            "'5 min', '45m', '8h' or '1h30m'")
+        seconds = sum(float(n) * _DURATION_UNITS[u] for n, u in parts)
     if not seconds > 0:
         raise UsageError(f"--time: got {text!r}; expected a duration greater than zero")
     return seconds
 
 
+def _rejoin_split_duration(args):
+    """``--time 5 min`` unquoted leaves 'min' as the study argument: read it as '5 min'."""
+    import re
+    if (args.time is not None and re.fullmatch(r"\s*\d+(\.\d+)?\s*", args.time)
+            and args.study is not None and args.study.strip().lower() in _DURATION_UNITS
+            and not Path(args.study).exists()):
+        args.time, args.study = f"{args.time.strip()} {args.study.strip()}", None
+
+
 def cmd_run(args):
     from .runs import optimise, summary_text
+    _rejoin_split_duration(args)
     study = _study(args.study)
     time_s = _duration(args.time) if args.time is not None else None
     result = optimise(study, out=args.out, force=args.force, seed=args.seed,
@@ -193,7 +213,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--pop", type=int, help="population (default: the study's [search])")
     r.add_argument("--gens", type=int, help="generations (default: the study's [search])")
     r.add_argument("--evals", type=int, help="stop after this many evaluations")
-    r.add_argument("--time", help="wall-clock budget, e.g. '90s', '45m', '8h'")
+    r.add_argument("--time", help="wall-clock budget: seconds, or a number with a unit (s, min, h), "
+                   "e.g. 90s, 5min, '5 min' (quoted), 45m, 8h, 1h30m")
     r.add_argument("--stall-gens", type=int, dest="stall_gens", help="stop when the front's "
                    "hypervolume has not grown for this many generations")
     r.add_argument("--checkpoint-every", type=int, default=None, dest="checkpoint_every",

@@ -85,9 +85,9 @@ def _design_table(study, args):
     from .designs import check_designs, parse_design_option
     from .evaluation import design_columns
     from .runfolder import names
-    if args.design and args.front:
+    if args.design is not None and args.front is not None:
         raise UsageError("--design: given with --front; expected one of them")
-    if args.design:
+    if args.design is not None:
         if args.row is not None:
             raise UsageError("--row: given with --design; expected it only with --front")
         return parse_design_option(study, args.design)

@@ -20,6 +20,10 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs") -> pd.Dat
     """
     need = design_columns(study)
     cols = [str(c).strip() for c in table.columns]
+    repeated = sorted({c for c in cols if cols.count(c) > 1})
+    if repeated:
+        raise StudyError(f"{source}: column {repeated[0]!r} appears {cols.count(repeated[0])} "
+                         "times; expected each column once: " + ", ".join(need))
     table = table.copy()
     table.columns = cols
     for c in need:
@@ -72,7 +76,11 @@ def read_designs_csv(study, path) -> pd.DataFrame:
     except UnicodeDecodeError as exc:
         raise StudyError(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 CSV "
                          "file") from None
-    rows = list(csv.reader(text.splitlines()))
+    try:
+        rows = list(csv.reader(text.splitlines()))
+    except csv.Error as exc:   # e.g. a field over the csv module's size limit
+        raise StudyError(f"{path}: not a readable CSV table ({exc}); expected a header "
+                         + ",".join(design_columns(study)) + " and design rows") from None
     rows = [r for r in rows if any(cell.strip() for cell in r)]
     if not rows:
         raise StudyError(f"{path}: the file is empty; expected a header "
@@ -90,12 +98,21 @@ def parse_design_option(study, text: str) -> pd.DataFrame:
     """One design from the command line: ``"wing_loading_N_m2=1100 power_loading_N_kW=75
     aspect_ratio=8 flap=fowler"`` (spaces or commas between the pairs)."""
     pairs = {}
-    for item in text.replace(",", " ").split():
+    example = " ".join(f"{c}=..." for c in design_columns(study))
+    items = text.replace(",", " ").split()
+    if not items:
+        raise StudyError(f"--design: got {text!r} (empty); expected name=value pairs such as "
+                         + example)
+    for item in items:
         key, eq, value = item.partition("=")
         if not eq:
             raise StudyError(f"--design: got {item!r}; expected name=value pairs such as "
-                             + " ".join(f"{c}=..." for c in design_columns(study)))
-        pairs[key.strip()] = value.strip()
+                             + example)
+        key = key.strip()
+        if key in pairs:
+            raise StudyError(f"--design: {key!r} is given twice ({pairs[key]!r} and "
+                             f"{value.strip()!r}); expected each name once")
+        pairs[key] = value.strip()
     for k in pairs:
         if k not in design_columns(study):
             close = difflib.get_close_matches(k, design_columns(study), n=1)

@@ -180,7 +180,9 @@ def wilson_interval(p, n, z=Z95):
     p = np.asarray(p, dtype=float)
     centre = (p + z * z / (2 * n)) / (1 + z * z / n)
     half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
-    return np.clip(centre - half, 0.0, 1.0), np.clip(centre + half, 0.0, 1.0)
+    # At p = 0 and p = 1 the exact ends are 0 and 1; in floating point they come out a hair
+    # inside, on the wrong side of p. The interval always contains p, so bound it by p.
+    return np.clip(np.minimum(centre - half, p), 0.0, 1.0), np.clip(np.maximum(centre + half, p), 0.0, 1.0)
 
 
 @dataclass(frozen=True)

@@ -206,7 +206,7 @@ class _Reader:
                       "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
         if q.dimensionality != want.dimensionality:
             self.fail(where, f"got {value!r}, which is not {dim_name}; expected {dim_name}, "
-                      f"e.g. {example}")
+                      f"e.g. {example}" + _force_hint(q, want))
         try:
             x = float(q.to(unit).magnitude)
         except OverflowError:  # an exact integer too large for a float
@@ -239,6 +239,17 @@ _DIMENSIONS = {"m": "a length", "m/s": "a speed", "kg": "a mass", "s": "a time",
                "kg/N/s": "a thrust-specific fuel consumption",
                "kg/kW": "a mass per power", "N/m^2": "a wing loading (force per area)",
                "N/kW": "a power loading (force per power)"}
+
+
+def _force_hint(q, want) -> str:
+    """A hint when a mass was written where a force is needed ('lb/ft^2' for 'lbf/ft^2')."""
+    if (q * units().standard_gravity).dimensionality != want.dimensionality:
+        return ""
+    per = ("area" if want.dimensionality == units().Quantity(1, "N/m^2").dimensionality else
+           "power" if want.dimensionality == units().Quantity(1, "N/kW").dimensionality else "")
+    examples = {"area": "lbf/ft^2 or kgf/m^2", "power": "lbf/hp or kgf/kW"}.get(per, "lbf or kgf")
+    return (f" (a mass per {per or 'unit'} was given; a force is needed: write pound-force or "
+            f"kilogram-force, e.g. {examples})")
 
 
 def _dimension_name(unit):

@@ -177,6 +177,23 @@ def test_wilson_interval_textbook_value():
     assert float(hi) == pytest.approx(0.5962, abs=1e-4)
 
 
+@pytest.mark.parametrize("n", [1, 7, 200, 1000, 10_000, 123_457])
+def test_wilson_interval_at_zero_and_one_contains_p(n):
+    # Wilson (1927): at p = 0 the interval is [0, z^2/n / (1 + z^2/n)], at p = 1 its mirror
+    # [1 - z^2/n / (1 + z^2/n), 1]. Rounding used to put the upper end a hair below 1, which
+    # made the robustness plot's error bar negative (a crash of `optimiser robust`).
+    z2 = 1.959963984540054 ** 2
+    width = (z2 / n) / (1 + z2 / n)
+    lo0, hi0 = wilson_interval(0.0, n)
+    lo1, hi1 = wilson_interval(1.0, n)
+    assert float(lo0) == 0.0 and float(hi1) == 1.0
+    assert float(hi0) == pytest.approx(width, rel=1e-12)
+    assert float(lo1) == pytest.approx(1 - width, rel=1e-12)
+    p = np.array([0.0, 1e-9, 0.5, 1 - 1e-9, 1.0])
+    lo, hi = wilson_interval(p, n)
+    assert np.all(lo <= p) and np.all(p <= hi)
+
+
 @pytest.mark.parametrize("table,message", [
     ('cd0 = { distribution = "normal", std = 0.1 }', "unknown key 'cd0'"),
     ('cd0_clean = { distribution = "gauss", std = 0.1 }', "distribution: got 'gauss'"),
