@@ -55,7 +55,7 @@ def main(argv=None):
     rows = []
     try:
         t0 = time.perf_counter()
-        run_campaign(campaign, tmp / "serial", serial=True, plots=False)
+        run_campaign(campaign, tmp / "serial", serial=True)
         t_serial = time.perf_counter() - t0
 
         t0 = time.perf_counter()
@@ -64,7 +64,7 @@ def main(argv=None):
         client.close()
         cluster.close()
         t0 = time.perf_counter()
-        run_campaign(campaign, tmp / "dask", workers=args.workers, plots=False)
+        run_campaign(campaign, tmp / "dask", workers=args.workers)
         t_dask = time.perf_counter() - t0
     finally:
         shutil.rmtree(tmp, ignore_errors=True)

@@ -33,7 +33,7 @@ serially), calling :func:`optimiser.runs.optimise` with no shared state. The cam
 then gets ``summary.csv`` (one row per combination: the picked compromise and the front's
 extremes), ``price.csv`` (marginal trip fuel and engine size per unit of tightening, by finite
 differences between neighbouring values along each numeric axis), ``summary.txt``,
-``campaign.json`` and ``plots/``.
+``campaign.json`` and ``plots/`` (drawn by :mod:`optimiser.report.campaign_plots`).
 
 Resume: run the same campaign with ``--out`` set to the existing campaign folder. Runs with a
 ``run.json`` are kept; an unfinished run with a checkpoint is resumed from it
@@ -53,6 +53,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .columns import OBJECTIVES, unit_of
 from .study import StudyError
 
 try:  # Python 3.11+
@@ -409,10 +410,8 @@ def pick_compromise(front, pick: dict, engine_size_column: str, objectives) -> i
         trip = np.where(ok, front["trip_fuel_kg"].to_numpy(float), np.inf)
         return int(np.argmin(trip))
     score = np.zeros(len(front))
-    names = {"trip_fuel": "trip_fuel_kg", "engine_size": engine_size_column,
-             "maintenance": "maintenance_index", "takeoff_mass": "takeoff_mass_kg"}
     for key, w in pick["weights"].items():
-        f = front[names[key]].to_numpy(float)
+        f = front[OBJECTIVES[key] or engine_size_column].to_numpy(float)
         span = f.max() - f.min()
         score += w * ((f - f.min()) / span if span > 0 else np.zeros_like(f))
     return int(np.argmin(score))
@@ -563,14 +562,15 @@ class CampaignResult:
 
 
 def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, serial=False,
-                 threads=False, plots=True, progress=None) -> CampaignResult:
+                 threads=False, progress=None) -> CampaignResult:
     """Run every pending combination and write the campaign results.
 
     ``serial``: in this process, one after another (no Dask). Otherwise one Dask task per
     combination: on the scheduler at ``scheduler`` (tcp://HOST:PORT; its workers must see the
     campaign folder at the same path), or on a LocalCluster of ``workers`` processes (default
     one per core; ``threads`` makes them threads of this process). ``progress(line)`` gets a
-    line per finished run.
+    line per finished run. The plots are drawn by the caller
+    (:func:`optimiser.report.campaign_plots.plot_campaign`).
     """
     if workers is not None and (isinstance(workers, bool) or not isinstance(workers, int)
                                 or workers < 1):
@@ -615,7 +615,7 @@ def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, 
             client.close()
             if cluster is not None:
                 cluster.close()
-    summary = gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0, plots=plots)
+    summary = gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0)
     return CampaignResult(folder=folder, summary=summary[0], price=summary[1], ran=ran,
                           skipped=skipped, seconds=time.monotonic() - t0)
 
@@ -713,7 +713,7 @@ def price_table(campaign: Campaign, summary):
         if axis.tighter == "smaller":
             order = order[::-1]          # from the loosest to the tightest value
         for rest in product(*others):
-            held = "; ".join(f"{a.key} = {_short(a.values[i])}" for j, (a, i) in
+            held = "; ".join(f"{a.key} = {short_value(a.values[i])}" for j, (a, i) in
                              enumerate(zip(campaign.axes, rest)) if j != ai)
             for loose_i, tight_i in zip(order[:-1], order[1:]):
                 idx_l = tuple(int(loose_i) if j == ai else i for j, i in enumerate(rest))
@@ -733,77 +733,8 @@ def price_table(campaign: Campaign, summary):
     return pd.DataFrame(rows)
 
 
-def _label(axis: Axis) -> str:
-    name = axis.key.split(".")
-    words = " ".join(name[-1].split("_"))
-    where = {"departure": "departure ", "destination": "destination ", "mission": "",
-             "requirements": "", "variables": "allowed "}.get(name[0], name[0] + " ")
-    unit = f" [{axis.unit}]" if axis.unit else (" [-]" if axis.numbers is not None else "")
-    arrow = ""
-    if axis.tighter:
-        arrow = "  (tighter →)"
-    return f"{where}{words}{unit}{arrow}"
-
-
-def plot_campaign(campaign: Campaign, summary, folder: Path) -> list:
-    """Per axis: trip fuel and engine size of the picked design (solid) and the front's
-    smallest value (dashed) against the axis value, one line per setting of the other axes.
-    Numeric axes run from loose (left) to tight (right). Writes PNG and SVG; returns paths."""
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    from .report.plots import LABELS
-    size = campaign.engine_size_column
-    out_dir = Path(folder) / "plots"
-    out_dir.mkdir(exist_ok=True)
-    written = []
-    by_index = {c.index: k for k, c in enumerate(campaign.combinations)}
-    cmap = plt.get_cmap("tab10")
-    for ai, axis in enumerate(campaign.axes):
-        numeric = axis.numbers is not None
-        x_all = np.array(axis.numbers if numeric else range(len(axis.values)), dtype=float)
-        fig, axs = plt.subplots(1, 2, figsize=(14, 4.6))
-        others = [range(len(a.values)) if j != ai else [None]
-                  for j, a in enumerate(campaign.axes)]
-        for n, rest in enumerate(product(*others)):
-            idx = [tuple(i if j != ai else k for j, i in enumerate(rest))
-                   for k in range(len(axis.values))]
-            rows = summary.iloc[[by_index[t] for t in idx]]
-            held = ", ".join(f"{a.label} {_short(a.values[i])}" for j, (a, i) in
-                             enumerate(zip(campaign.axes, rest)) if j != ai)
-            colour = cmap(n % 10)
-            order = np.argsort(x_all)
-            for ax, picked, least in ((axs[0], "picked_trip_fuel_kg", "min_trip_fuel_kg"),
-                                      (axs[1], f"picked_{size}", f"min_{size}")):
-                y = rows[picked].to_numpy(float) if picked in rows else np.full(len(idx), np.nan)
-                y2 = rows[least].to_numpy(float) if least in rows else np.full(len(idx), np.nan)
-                ax.plot(x_all[order], y[order], "o-", color=colour,
-                        label=f"picked design{', ' + held if held else ''}")
-                ax.plot(x_all[order], y2[order], "s--", color=colour, alpha=0.6, ms=4,
-                        label=f"smallest on the front{', ' + held if held else ''}")
-        for ax, ylabel in ((axs[0], LABELS["trip_fuel_kg"]), (axs[1], LABELS[size])):
-            ax.set_xlabel(_label(axis))
-            ax.set_ylabel(ylabel)
-            ax.grid(alpha=0.3)
-            if not numeric:
-                ax.set_xticks(x_all, [_short(v) for v in axis.values], rotation=15,
-                              fontsize=8)
-            if axis.tighter == "smaller":
-                ax.invert_xaxis()
-        handles, labels = axs[0].get_legend_handles_labels()
-        axs[1].legend(handles, labels, fontsize=7, loc="upper left", bbox_to_anchor=(1.02, 1.0))
-        fig.suptitle(f"campaign {campaign.name}: trip fuel and engine size against "
-                     f"{axis.key}\n(picked: {pick_text(campaign.pick)})", fontsize=9)
-        fig.tight_layout()
-        stem = out_dir / f"sweep_{axis.key.replace('.', '_')}"
-        for ext in ("png", "svg"):
-            fig.savefig(f"{stem}.{ext}", dpi=120)
-            written.append(Path(f"{stem}.{ext}"))
-        plt.close(fig)
-    return written
-
-
-def _short(v) -> str:
+def short_value(v) -> str:
+    """An axis value as text: a list joined by '+'."""
     return "+".join(map(str, v)) if isinstance(v, list) else str(v)
 
 
@@ -811,7 +742,7 @@ def summary_text(campaign: Campaign, summary, price, folder) -> str:
     """The printed campaign report, ending with the caution text."""
     from .evaluation import CAUTION
     size = campaign.engine_size_column
-    unit = "kW" if size.endswith("kW") else "kN"
+    unit = unit_of(size)
     done = int((summary["status"] == "finished").sum())
     lines = [f"campaign {campaign.name}: {done} of {len(summary)} runs finished; folder {folder}",
              f"  picking rule: {pick_text(campaign.pick)}",
@@ -835,9 +766,9 @@ def summary_text(campaign: Campaign, summary, price, folder) -> str:
     return "\n".join(lines)
 
 
-def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
-    """Write summary.csv, price.csv, summary.txt, campaign.json and the plots from the run
-    folders; returns (summary, price)."""
+def gather(campaign: Campaign, folder, ran=(), seconds=None):
+    """Write summary.csv, price.csv, summary.txt and campaign.json from the run folders;
+    returns (summary, price). Plots: :func:`optimiser.report.campaign_plots.plot_campaign`."""
     from .evaluation import CAUTION
     from .runs import utc_now, versions, write_atomic
     folder = Path(folder)
@@ -863,6 +794,4 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
     }
     write_atomic(folder / "campaign.json", (json.dumps(info, indent=2, default=str)
                                             + "\n").encode())
-    if plots and (summary["status"] == "finished").any():
-        plot_campaign(campaign, summary, folder)
     return summary, price

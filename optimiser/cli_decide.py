@@ -74,7 +74,8 @@ def _method(args, default):
 
 
 def run_pick(args) -> int:
-    from .decide import load_run, pick_summary, runners_up, write_pick, DecideError
+    from .decide import load_run, runners_up, DecideError
+    from .report.picks import pick_summary, write_pick
     if args.runners_up < 0:
         raise DecideError(f"--runners-up: got {args.runners_up}; expected 0 or more")
     run = load_run(args.run_dir)
@@ -86,7 +87,8 @@ def run_pick(args) -> int:
 
 
 def run_flaps(args) -> int:
-    from .decide import DecideError, flaps_from_run, flaps_summary, load_run, write_flaps
+    from .decide import DecideError, flaps_from_run, load_run
+    from .report.picks import flaps_summary, write_flaps
     src = Path(args.source)
     if src.is_dir():
         extra = [o for o in ("out", "seed", "pop", "gens") if getattr(args, o) is not None]

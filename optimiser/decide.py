@@ -49,6 +49,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .columns import short_and_unit, unit_of
+
 METHODS = ("weights", "knee", "aspiration")
 ASF_AUGMENTATION = 1e-6
 """rho of the augmented ASF: small, so it only breaks ties between weakly optimal designs
@@ -384,7 +386,6 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
     choice: ``change_<objective>`` = runner-up minus choice (negative = the runner-up is
     better in that objective) and a plain ``trade`` sentence."""
     import pandas as pd
-    from .report.sheet import label_of
     cols = list(study.objective_columns())
     top = choice.ranking.iloc[1:1 + n].copy()
     base = choice.design
@@ -398,7 +399,7 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
             d = float(r[c]) - float(base[c])
             row[c] = r[c]
             row[f"change_{c}"] = d
-            name, unit = label_of(c)
+            name, unit = short_and_unit(c)
             if abs(d) > 1e-9 * max(abs(float(base[c])), 1.0):
                 words.append(f"{name} {d:+.4g}{(' ' + unit) if unit else ''}")
         row["takeoff_mass_kg"] = r["takeoff_mass_kg"]
@@ -407,67 +408,6 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
             "same objectives as the choice"
         rows.append(row)
     return pd.DataFrame(rows)
-
-
-# ----------------------------------------------------------------------------- writing a pick
-
-def pick_folder(run_dir, method) -> Path:
-    return Path(run_dir) / f"pick-{method}"
-
-
-def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
-    """Write ``RUN_DIR/pick-<method>/``: design.csv, design.md, constraint_diagram.png/.svg,
-    runners_up.csv, choice.json. An existing folder is refused unless ``force``."""
-    from .evaluation import CAUTION
-    from .report import sheet
-    from .report.plots import design_constraint_diagram, _plt
-    from .runs import write_atomic
-    out = pick_folder(run.run_dir, choice.method)
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
-                          "the pick files in it)")
-    out.mkdir(exist_ok=True)
-    study = run.study
-    runners = runners_up(study, choice, n_runners)
-    table = sheet.design_sheet(study, choice.design)
-    write_atomic(out / "design.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
-    md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
-                              how=choice.describe(), runners=runners)
-    write_atomic(out / "design.md", md.encode())
-    info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
-            "caution": CAUTION}
-    write_atomic(out / "choice.json", (json.dumps(info, indent=2) + "\n").encode())
-    plt = _plt()
-    fig = design_constraint_diagram(study, choice.design, label="chosen design")
-    for ext in ("png", "svg"):
-        fig.savefig(out / f"constraint_diagram.{ext}", dpi=130)
-    plt.close(fig)
-    return out
-
-
-def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str:
-    from .evaluation import CAUTION
-    from .report.sheet import binding_constraints, label_of
-    d = choice.design
-    lines = [f"study {study.name}: picked by {choice.describe()}",
-             f"  flap {d['flap']}, wing loading {d['wing_loading_N_m2']:.0f} N/m2, "
-             f"{study.loading_column} {d[study.loading_column]:.4g}, aspect ratio "
-             f"{d['aspect_ratio']:.2f}, takeoff mass {d['takeoff_mass_kg']:.0f} kg"]
-    for c in study.objective_columns():
-        name, unit = label_of(c)
-        lines.append(f"  {name}: {d[c]:.4g} {unit}".rstrip())
-    bind = binding_constraints(study, d)
-    lines.append("  binding constraints: " + (", ".join(bind) if bind else "none within 1 %"))
-    if len(runners):
-        lines.append("  runners-up:")
-        for _, r in runners.iterrows():
-            lines.append(f"    {r['rank']}. {r['flap']}: {r['trade']}")
-    if out is not None:
-        lines.append(f"wrote {out}/ (design.csv, design.md, constraint_diagram.png/.svg, "
-                     "runners_up.csv, choice.json)")
-    lines.append(CAUTION)
-    return "\n".join(lines)
 
 
 # ----------------------------------------------------------------------------- flap comparison
@@ -567,7 +507,7 @@ def compare_flaps(study, archive, scales):
     from .sizing import active_constraints
     cols = list(study.objective_columns())
     eng, fuel = study.engine_size_column, "trip_fuel_kg"
-    eng_unit = eng.rsplit("_", 1)[1]
+    eng_unit = unit_of(eng)
     fronts = per_option_fronts(study, archive)
     pool = pd.concat([f.assign(_flap=k) for k, f in fronts.items() if len(f)], ignore_index=True) \
         if any(len(f) for f in fronts.values()) else None
@@ -705,35 +645,3 @@ def flaps_from_run(run: Run):
     archive = _read_archive(run.evaluations_path, need)
     scales = run.info["hypervolume"]
     return compare_flaps(study, archive, scales)
-
-
-def write_flaps(run: Run, table, fronts, force=False) -> Path:
-    """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
-    unless ``force``)."""
-    from .report.plots import _plt, flap_fronts
-    from .report.sheet import flaps_markdown
-    from .runs import write_atomic
-    out = run.run_dir / "flaps"
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
-                          "flap comparison in it)")
-    out.mkdir(exist_ok=True)
-    write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "flaps.md", flaps_markdown(run.study, table).encode())
-    plt = _plt()
-    fig = flap_fronts(run.study, fronts, table)
-    for ext in ("png", "svg"):
-        fig.savefig(out / f"flaps.{ext}", dpi=130)
-    plt.close(fig)
-    return out
-
-
-def flaps_summary(study, table, out=None) -> str:
-    from .evaluation import CAUTION
-    from .report.sheet import flaps_text_table
-    lines = [f"study {study.name}: flap options compared under identical constraints and "
-             "budget (one NSGA-II each)", flaps_text_table(study, table)]
-    if out is not None:
-        lines.append(f"wrote {out}/ (flaps.csv, flaps.md, flaps.png/.svg)")
-    lines.append(CAUTION)
-    return "\n".join(lines)

@@ -44,6 +44,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .columns import ARCHIVE_SUMMARY_COLUMNS, ENGINE_SIZE_COLUMNS
 from .evaluation import CAUTION
 
 CHECKPOINT = "checkpoint.pkl"
@@ -219,14 +220,6 @@ def _csv_bytes(frame) -> bytes:
     return buf.getvalue()
 
 
-ARCHIVE_SUMMARY_COLUMNS = (
-    "takeoff_mass_kg", "empty_mass_kg", "fuel_mass_kg", "trip_fuel_kg", "wing_area_m2",
-    "span_m", "engine_power_kW", "engine_thrust_kN", "maintenance_index")
-"""Sized numbers the archive keeps beside the inputs, objectives and margins (those the
-model gives for the study's propulsion family). The performance numbers behind the margins
-(stall speed, field lengths, climb, cruise speed, ceiling) are not repeated: each is its
-margin's limit times (1 - margin) or (1 + margin)."""
-
 def archive_columns(study) -> list[str]:
     """Columns of ``evaluations.csv`` for a study.
 
@@ -239,8 +232,7 @@ def archive_columns(study) -> list[str]:
     from .sizing import active_constraints
     inputs = list(design_columns(study)[:3])
     objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
-    engine = "engine_power_kW" if study.spec.uses_power_loading else "engine_thrust_kN"
-    other = {"engine_power_kW", "engine_thrust_kN"} - {engine}  # not this family's
+    other = set(ENGINE_SIZE_COLUMNS.values()) - {study.engine_size_column}  # not this family's
     summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c not in objectives and c not in other]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]
     return ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
@@ -940,7 +932,7 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))
     row_bytes = _archive_row_bytes(study, gens)
-    from .evaluation import COLUMN_DOCS
+    from .columns import COLUMN_DOCS
     from .sizing import active_constraints
     full_row_bytes = 25 * (len(COLUMN_DOCS) + len(active_constraints(study.spec)))
     front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS
