@@ -19,6 +19,12 @@ FEASIBLE_REGION_HEX = "#2ca02c"
 FEASIBLE_REGION_ALPHA = 0.15
 FEASIBLE_DESIGNS = "0.78"
 """Grey of every feasible evaluated design behind the front."""
+DESIGN_MARKER = "k"
+"""The star marking a design on its constraint diagram, and the edge of front points."""
+NOTE_TEXT = "0.4"
+"""Grey of small explanatory notes on a figure."""
+GUIDE_LINES = "0.5"
+"""Grey of the axes of the parallel-coordinates plot."""
 
 REPORT_LINE_COLOURS = ("#1f77b4", "#ff7f0e", "#2ca02c", "#d62728", "#9467bd", "#8c564b",
                        "#e377c2", "#7f7f7f", "#bcbd22", "#17becf", "#393b79")

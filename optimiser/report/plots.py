@@ -1,7 +1,9 @@
 """Plots of a run: objective scatter with the front, 3-D front, decision variables of the
-front (parallel coordinates), convergence and a constraint diagram at a representative design. Each function takes the data and an optional
-``ax`` and returns the Figure; :func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``.
-matplotlib is imported inside the functions (Agg backend) and ``plt.show()`` is never called.
+front (parallel coordinates), convergence and a constraint diagram at a representative
+design. Each function takes the data and an optional ``ax`` and returns the Figure;
+:func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``. matplotlib comes from
+:func:`optimiser.report.figures.pyplot` (Agg, imported on first use), colours from
+:mod:`optimiser.report.palette`; ``plt.show()`` is never called.
 """
 
 from __future__ import annotations
@@ -47,7 +49,7 @@ def objective_scatter(study, front, feasible_F, ax=None):
             sel = front[front["flap"] == flap]
             if len(sel):
                 a.scatter(sel[cols[i]], sel[cols[j]], s=18, color=colours[flap],
-                          edgecolor="k", linewidth=0.3, label=f"front: {flap}")
+                          edgecolor=palette.DESIGN_MARKER, linewidth=0.3, label=f"front: {flap}")
         a.set_xlabel(plot_label(cols[i]))
         a.set_ylabel(plot_label(cols[j]))
         a.grid(alpha=0.3)
@@ -59,7 +61,8 @@ def objective_scatter(study, front, feasible_F, ax=None):
     axes[0].legend(fontsize=7, loc="best")
     if len(front):
         axes[-1].text(1.0, -0.16, "axes zoomed on the front; designs beyond are off the plot",
-                      transform=axes[-1].transAxes, ha="right", fontsize=7, color="0.4")
+                      transform=axes[-1].transAxes, ha="right", fontsize=7,
+                      color=palette.NOTE_TEXT)
     fig.suptitle(f"{study.name}: objectives (front highlighted)")
     fig.tight_layout()
     return fig
@@ -120,7 +123,7 @@ def decision_variables(study, front, ax=None):
     ax.set_ylabel("position within bounds [-] (0 = lower, 1 = upper)")
     ax.set_ylim(-0.05, 1.05)
     for x in xs:
-        ax.axvline(x, color="0.5", lw=0.8)
+        ax.axvline(x, color=palette.GUIDE_LINES, lw=0.8)
     ax.legend(fontsize=7, loc="best", title="flap type")
     ax.set_title(f"{study.name}: decision variables of the front")
     fig.tight_layout()
@@ -199,8 +202,9 @@ def constraint_diagram(study, design, n=120, ax=None):
     handles.append(plt.Rectangle((0, 0), 1, 1, color=palette.FEASIBLE_REGION,
                                  alpha=palette.FEASIBLE_REGION_ALPHA,
                                  label="all constraints met"))
-    ax.plot(design["wing_loading_N_m2"], design[study.loading_column], "k*", ms=12)
-    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=10,
+    ax.plot(design["wing_loading_N_m2"], design[study.loading_column],
+            palette.DESIGN_MARKER + "*", ms=12)
+    handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=10,
                               label="representative front design"))
     ax.set_xlabel(plot_label("wing_loading_N_m2"))
     ax.set_ylabel(plot_label(study.loading_column))
@@ -270,8 +274,8 @@ def design_constraint_diagram(study, design, label="chosen design", n=120, ax=No
                                  alpha=palette.FEASIBLE_REGION_ALPHA,
                                  label="all constraints met"))
     x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
-    ax.plot(x0, y0, "k*", ms=15, zorder=5)
-    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=11,
+    ax.plot(x0, y0, palette.DESIGN_MARKER + "*", ms=15, zorder=5)
+    handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=11,
                               label=f"{label}: takeoff mass {float(design['takeoff_mass_kg']):.0f} kg"))
     ax.annotate(f"{label}\n{x0:.0f} N/m², {y0:.3g}", (x0, y0), xytext=(10, 10),
                 textcoords="offset points", fontsize=8)
