@@ -56,7 +56,7 @@ def main(argv=None):
     rows = []
     try:
         t0 = time.perf_counter()
-        run_campaign(campaign, tmp / "serial", serial=True, plots=False)
+        run_campaign(campaign, tmp / "serial", serial=True)
         t_serial = time.perf_counter() - t0
 
         t0 = time.perf_counter()
@@ -65,7 +65,7 @@ def main(argv=None):
         client.close()
         cluster.close()
         t0 = time.perf_counter()
-        run_campaign(campaign, tmp / "dask", workers=args.workers, plots=False)
+        run_campaign(campaign, tmp / "dask", workers=args.workers)
         t_dask = time.perf_counter() - t0
     finally:
         shutil.rmtree(tmp, ignore_errors=True)

@@ -33,7 +33,7 @@ serially), calling :func:`optimiser.runs.optimise` with no shared state. The cam
 then gets ``summary.csv`` (one row per combination: the picked compromise and the front's
 extremes), ``price.csv`` (marginal trip fuel and engine size per unit of tightening, by finite
 differences between neighbouring values along each numeric axis), ``summary.txt``,
-``campaign.json`` and ``plots/``.
+``campaign.json`` and ``plots/`` (drawn by :mod:`optimiser.report.campaign_plots`).
 
 Resume: run the same campaign with ``--out`` set to the existing campaign folder. Runs with a
 ``run.json`` are kept; an unfinished run with a checkpoint is resumed from it
@@ -52,6 +52,7 @@ from pathlib import Path
 import numpy as np
 
 from .campaign_file import Axis, Campaign, pick_compromise, pick_text
+from .columns import unit_of
 from .errors import CampaignError, OptimiserError
 from .runfolder import names
 from .runfolder.files import write_atomic
@@ -195,7 +196,7 @@ class CampaignResult:
 
 
 def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, serial=False,
-                 threads=False, plots=True, progress=None) -> CampaignResult:
+                 threads=False, progress=None) -> CampaignResult:
     """Run every pending combination and write the campaign results.
 
     ``serial``: in this process, one after another (no Dask). Otherwise one Dask task per
@@ -247,7 +248,7 @@ def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, 
             client.close()
             if cluster is not None:
                 cluster.close()
-    summary = gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0, plots=plots)
+    summary = gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0)
     return CampaignResult(folder=folder, summary=summary[0], price=summary[1], ran=ran,
                           skipped=skipped, seconds=time.monotonic() - t0)
 
@@ -346,7 +347,7 @@ def price_table(campaign: Campaign, summary):
         if axis.tighter == "smaller":
             order = order[::-1]          # from the loosest to the tightest value
         for rest in product(*others):
-            held = "; ".join(f"{a.key} = {_short(a.values[i])}" for j, (a, i) in
+            held = "; ".join(f"{a.key} = {short_value(a.values[i])}" for j, (a, i) in
                              enumerate(zip(campaign.axes, rest)) if j != ai)
             for loose_i, tight_i in zip(order[:-1], order[1:]):
                 idx_l = tuple(int(loose_i) if j == ai else i for j, i in enumerate(rest))
@@ -366,77 +367,8 @@ def price_table(campaign: Campaign, summary):
     return pd.DataFrame(rows)
 
 
-def _label(axis: Axis) -> str:
-    name = axis.key.split(".")
-    words = " ".join(name[-1].split("_"))
-    where = {"departure": "departure ", "destination": "destination ", "mission": "",
-             "requirements": "", "variables": "allowed "}.get(name[0], name[0] + " ")
-    unit = f" [{axis.unit}]" if axis.unit else (" [-]" if axis.numbers is not None else "")
-    arrow = ""
-    if axis.tighter:
-        arrow = "  (tighter →)"
-    return f"{where}{words}{unit}{arrow}"
-
-
-def plot_campaign(campaign: Campaign, summary, folder: Path) -> list:
-    """Per axis: trip fuel and engine size of the picked design (solid) and the front's
-    smallest value (dashed) against the axis value, one line per setting of the other axes.
-    Numeric axes run from loose (left) to tight (right). Writes PNG and SVG; returns paths."""
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    from .report.plots import LABELS
-    size = campaign.engine_size_column
-    out_dir = Path(folder) / "plots"
-    out_dir.mkdir(exist_ok=True)
-    written = []
-    by_index = {c.index: k for k, c in enumerate(campaign.combinations)}
-    cmap = plt.get_cmap("tab10")
-    for ai, axis in enumerate(campaign.axes):
-        numeric = axis.numbers is not None
-        x_all = np.array(axis.numbers if numeric else range(len(axis.values)), dtype=float)
-        fig, axs = plt.subplots(1, 2, figsize=(14, 4.6))
-        others = [range(len(a.values)) if j != ai else [None]
-                  for j, a in enumerate(campaign.axes)]
-        for n, rest in enumerate(product(*others)):
-            idx = [tuple(i if j != ai else k for j, i in enumerate(rest))
-                   for k in range(len(axis.values))]
-            rows = summary.iloc[[by_index[t] for t in idx]]
-            held = ", ".join(f"{a.label} {_short(a.values[i])}" for j, (a, i) in
-                             enumerate(zip(campaign.axes, rest)) if j != ai)
-            colour = cmap(n % 10)
-            order = np.argsort(x_all)
-            for ax, picked, least in ((axs[0], "picked_trip_fuel_kg", "min_trip_fuel_kg"),
-                                      (axs[1], f"picked_{size}", f"min_{size}")):
-                y = rows[picked].to_numpy(float) if picked in rows else np.full(len(idx), np.nan)
-                y2 = rows[least].to_numpy(float) if least in rows else np.full(len(idx), np.nan)
-                ax.plot(x_all[order], y[order], "o-", color=colour,
-                        label=f"picked design{', ' + held if held else ''}")
-                ax.plot(x_all[order], y2[order], "s--", color=colour, alpha=0.6, ms=4,
-                        label=f"smallest on the front{', ' + held if held else ''}")
-        for ax, ylabel in ((axs[0], LABELS["trip_fuel_kg"]), (axs[1], LABELS[size])):
-            ax.set_xlabel(_label(axis))
-            ax.set_ylabel(ylabel)
-            ax.grid(alpha=0.3)
-            if not numeric:
-                ax.set_xticks(x_all, [_short(v) for v in axis.values], rotation=15,
-                              fontsize=8)
-            if axis.tighter == "smaller":
-                ax.invert_xaxis()
-        handles, labels = axs[0].get_legend_handles_labels()
-        axs[1].legend(handles, labels, fontsize=7, loc="upper left", bbox_to_anchor=(1.02, 1.0))
-        fig.suptitle(f"campaign {campaign.name}: trip fuel and engine size against "
-                     f"{axis.key}\n(picked: {pick_text(campaign.pick)})", fontsize=9)
-        fig.tight_layout()
-        stem = out_dir / f"sweep_{axis.key.replace('.', '_')}"
-        for ext in ("png", "svg"):
-            fig.savefig(f"{stem}.{ext}", dpi=120)
-            written.append(Path(f"{stem}.{ext}"))
-        plt.close(fig)
-    return written
-
-
-def _short(v) -> str:
+def short_value(v) -> str:
+    """An axis value as text: a list joined by '+'."""
     return "+".join(map(str, v)) if isinstance(v, list) else str(v)
 
 
@@ -444,7 +376,7 @@ def summary_text(campaign: Campaign, summary, price, folder) -> str:
     """The printed campaign report, ending with the caution text."""
     from .evaluation import CAUTION
     size = campaign.engine_size_column
-    unit = "kW" if size.endswith("kW") else "kN"
+    unit = unit_of(size)
     done = int((summary["status"] == "finished").sum())
     lines = [f"campaign {campaign.name}: {done} of {len(summary)} runs finished; folder {folder}",
              f"  picking rule: {pick_text(campaign.pick)}",
@@ -468,9 +400,9 @@ def summary_text(campaign: Campaign, summary, price, folder) -> str:
     return "\n".join(lines)
 
 
-def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
-    """Write summary.csv, price.csv, summary.txt, campaign.json and the plots from the run
-    folders; returns (summary, price)."""
+def gather(campaign: Campaign, folder, ran=(), seconds=None):
+    """Write summary.csv, price.csv, summary.txt and campaign.json from the run folders;
+    returns (summary, price). Plots: :func:`optimiser.report.campaign_plots.plot_campaign`."""
     from .evaluation import CAUTION
     from .runfolder.files import utc_now
     from .runfolder.runinfo import json_bytes, versions
@@ -496,6 +428,4 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None, plots=True):
         "caution": CAUTION,
     }
     write_atomic(folder / "campaign.json", json_bytes(info, default=str))
-    if plots and (summary["status"] == "finished").any():
-        plot_campaign(campaign, summary, folder)
     return summary, price

@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .columns import OBJECTIVES
 from .errors import CampaignError, StudyError
 
 try:  # Python 3.11+
@@ -367,10 +368,8 @@ def pick_compromise(front, pick: dict, engine_size_column: str, objectives) -> i
         trip = np.where(ok, front["trip_fuel_kg"].to_numpy(float), np.inf)
         return int(np.argmin(trip))
     score = np.zeros(len(front))
-    names = {"trip_fuel": "trip_fuel_kg", "engine_size": engine_size_column,
-             "maintenance": "maintenance_index", "takeoff_mass": "takeoff_mass_kg"}
     for key, w in pick["weights"].items():
-        f = front[names[key]].to_numpy(float)
+        f = front[OBJECTIVES[key] or engine_size_column].to_numpy(float)
         span = f.max() - f.min()
         score += w * ((f - f.min()) / span if span > 0 else np.zeros_like(f))
     return int(np.argmin(score))

@@ -38,8 +38,9 @@ def _write_csv_atomic(frame, path: Path, force: bool):
 
 
 def _summary(study, frame) -> str:
+    from .columns import unit_of
     size_col = study.engine_size_column
-    unit = "kW" if size_col.endswith("kW") else "kN"
+    unit = unit_of(size_col)
     lines = [f"study {study.name}: {len(frame)} design(s), {int(frame['feasible'].sum())} feasible",
              f"{'flap':<22}{'W/S N/m2':>10}{'W/P N/kW' if unit == 'kW' else 'T/W':>14}"
              f"{'AR':>6}{'m_TO kg':>10}{'trip kg':>9}{'engine ' + unit:>11}{'MCI':>6}  verdict"]

@@ -64,12 +64,15 @@ def cmd_sweep(args):
     try:
         result = run_campaign(campaign, args.out, scheduler=args.scheduler,
                               workers=args.workers, serial=args.serial,
-                              plots=not args.no_plots, progress=lambda s: print(s, flush=True))
+                              progress=lambda s: print(s, flush=True))
     except KeyboardInterrupt:
         out = f" --out {args.out}" if args.out else " --out <the campaign folder>"
         print(f"\ninterrupted; finished runs are kept; run 'optimiser sweep {args.campaign}"
               f"{out}' to redo only the rest", file=sys.stderr)
         return 130
+    if not args.no_plots and (result.summary["status"] == "finished").any():
+        from .report.campaign_plots import plot_campaign
+        plot_campaign(campaign, result.summary, result.folder)
     print(summary_text(campaign, result.summary, result.price, result.folder))
     print(f"wrote {result.folder}/summary.csv, price.csv, summary.txt and plots/ "
           f"({result.seconds:.1f} s)")
@@ -116,7 +119,8 @@ def _design_table(study, args):
 
 def cmd_robust(args):
     from .evaluation import CAUTION
-    from .robust import MAX_SAMPLES, monte_carlo, plot_robustness, summary_text
+    from .report.robust_plots import plot_robustness
+    from .robust import MAX_SAMPLES, monte_carlo, summary_text
     from .runfolder.files import utc_now, write_atomic
     from .runfolder.runinfo import json_bytes
     from .study import load_study

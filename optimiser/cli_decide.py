@@ -74,7 +74,8 @@ def _method(args, default):
 
 
 def run_pick(args) -> int:
-    from .decide import DecideError, pick_summary, runners_up, write_pick
+    from .decide import DecideError, runners_up
+    from .report.picks import pick_summary, write_pick
     from .runfolder import load_run
     if args.runners_up < 0:
         raise DecideError(f"--runners-up: got {args.runners_up}; expected 0 or more")
@@ -88,7 +89,8 @@ def run_pick(args) -> int:
 
 def run_flaps(args) -> int:
     from .decide import DecideError
-    from .flaps import compare_flaps, flaps_summary, write_flaps
+    from .flaps import compare_flaps
+    from .report.picks import flaps_summary, write_flaps
     from .runfolder import load_run
     src = Path(args.source)
     if src.is_dir():

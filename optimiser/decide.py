@@ -41,15 +41,11 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass, field
-from pathlib import Path
-
 import numpy as np
 
+from .columns import short_and_unit
 from .errors import DecideError
-from .runfolder import names
-from .runfolder.files import write_atomic
-from .runfolder.reader import Run
-from .runfolder.runinfo import json_bytes
+from .runfolder.reader import Run  # noqa: F401  (the run a choice is made from)
 
 METHODS = ("weights", "knee", "aspiration")
 ASF_AUGMENTATION = 1e-6
@@ -341,7 +337,6 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
     choice: ``change_<objective>`` = runner-up minus choice (negative = the runner-up is
     better in that objective) and a plain ``trade`` sentence."""
     import pandas as pd
-    from .report.sheet import label_of
     cols = list(study.objective_columns())
     top = choice.ranking.iloc[1:1 + n].copy()
     base = choice.design
@@ -355,7 +350,7 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
             d = float(r[c]) - float(base[c])
             row[c] = r[c]
             row[f"change_{c}"] = d
-            name, unit = label_of(c)
+            name, unit = short_and_unit(c)
             if abs(d) > 1e-9 * max(abs(float(base[c])), 1.0):
                 words.append(f"{name} {d:+.4g}{(' ' + unit) if unit else ''}")
         row["takeoff_mass_kg"] = r["takeoff_mass_kg"]
@@ -366,61 +361,3 @@ def runners_up(study, choice: Choice, n=RUNNERS_UP):
     return pd.DataFrame(rows)
 
 
-# ----------------------------------------------------------------------------- writing a pick
-
-def pick_folder(run_dir, method) -> Path:
-    return Path(run_dir) / f"{names.PICK_DIR_PREFIX}{method}"
-
-
-def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
-    """Write ``RUN_DIR/pick-<method>/``: design.csv, design.md, constraint_diagram.png/.svg,
-    runners_up.csv, choice.json. An existing folder is refused unless ``force``."""
-    from .evaluation import CAUTION
-    from .report import sheet
-    from .report.plots import design_constraint_diagram, _plt
-    out = pick_folder(run.run_dir, choice.method)
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
-                          "the pick files in it)")
-    out.mkdir(exist_ok=True)
-    study = run.study
-    runners = runners_up(study, choice, n_runners)
-    table = sheet.design_sheet(study, choice.design)
-    write_atomic(out / "design.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
-    md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
-                              how=choice.describe(), runners=runners)
-    write_atomic(out / "design.md", md.encode())
-    info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
-            "caution": CAUTION}
-    write_atomic(out / names.PICK_CHOICE, json_bytes(info))
-    plt = _plt()
-    fig = design_constraint_diagram(study, choice.design, label="chosen design")
-    for ext in ("png", "svg"):
-        fig.savefig(out / f"constraint_diagram.{ext}", dpi=130)
-    plt.close(fig)
-    return out
-
-
-def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str:
-    from .evaluation import CAUTION
-    from .report.sheet import binding_constraints, label_of
-    d = choice.design
-    lines = [f"study {study.name}: picked by {choice.describe()}",
-             f"  flap {d['flap']}, wing loading {d['wing_loading_N_m2']:.0f} N/m2, "
-             f"{study.loading_column} {d[study.loading_column]:.4g}, aspect ratio "
-             f"{d['aspect_ratio']:.2f}, takeoff mass {d['takeoff_mass_kg']:.0f} kg"]
-    for c in study.objective_columns():
-        name, unit = label_of(c)
-        lines.append(f"  {name}: {d[c]:.4g} {unit}".rstrip())
-    bind = binding_constraints(study, d)
-    lines.append("  binding constraints: " + (", ".join(bind) if bind else "none within 1 %"))
-    if len(runners):
-        lines.append("  runners-up:")
-        for _, r in runners.iterrows():
-            lines.append(f"    {r['rank']}. {r['flap']}: {r['trade']}")
-    if out is not None:
-        lines.append(f"wrote {out}/ (design.csv, design.md, constraint_diagram.png/.svg, "
-                     "runners_up.csv, choice.json)")
-    lines.append(CAUTION)
-    return "\n".join(lines)

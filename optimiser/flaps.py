@@ -9,13 +9,12 @@ are per-option fronts under identical constraints and budget.
 from __future__ import annotations
 
 import math
-from pathlib import Path
 
 import numpy as np
 
+from .columns import unit_of
 from .errors import DecideError
 from .runfolder import names
-from .runfolder.files import write_atomic
 from .runfolder.reader import Run, load_run
 
 
@@ -167,7 +166,7 @@ def _penalties(study, table, fronts, ref) -> dict:
     """The penalty columns of :func:`compare_flap_options` against the reference option
     ``ref`` (None: no option has a front); sets ``simpler_than_reference`` in ``table``."""
     eng, fuel = study.engine_size_column, "trip_fuel_kg"
-    eng_unit = eng.rsplit("_", 1)[1]
+    eng_unit = unit_of(eng)
     ext = {k: [] for k in ("extra_trip_fuel_at_equal_engine_kg",
                            "extra_trip_fuel_at_equal_engine_pct",
                            f"compared_engine_from_{eng_unit}", f"compared_engine_to_{eng_unit}",
@@ -265,34 +264,3 @@ def compare_flaps(run):
     archive = read_archive(run.run_dir, need)
     scales = run.info["hypervolume"]
     return compare_flap_options(study, archive, scales)
-
-
-def write_flaps(run: Run, table, fronts, force=False) -> Path:
-    """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
-    unless ``force``)."""
-    from .report.plots import _plt, flap_fronts
-    from .report.sheet import flaps_markdown
-    out = run.run_dir / names.FLAPS_DIR
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
-                          "flap comparison in it)")
-    out.mkdir(exist_ok=True)
-    write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "flaps.md", flaps_markdown(run.study, table).encode())
-    plt = _plt()
-    fig = flap_fronts(run.study, fronts, table)
-    for ext in ("png", "svg"):
-        fig.savefig(out / f"flaps.{ext}", dpi=130)
-    plt.close(fig)
-    return out
-
-
-def flaps_summary(study, table, out=None) -> str:
-    from .evaluation import CAUTION
-    from .report.sheet import flaps_text_table
-    lines = [f"study {study.name}: flap options compared under identical constraints and "
-             "budget (one NSGA-II each)", flaps_text_table(study, table)]
-    if out is not None:
-        lines.append(f"wrote {out}/ (flaps.csv, flaps.md, flaps.png/.svg)")
-    lines.append(CAUTION)
-    return "\n".join(lines)

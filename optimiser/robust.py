@@ -34,9 +34,10 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
+
+from .columns import CONSTRAINT_LABELS, unit_of
 
 UNCERTAIN_ASSUMPTIONS = {
     "cd0_clean": "clean zero-lift drag coefficient",
@@ -223,7 +224,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
     """
     import pandas as pd
     from .evaluation import evaluate
-    from .sizing import CONSTRAINT_LABELS, active_constraints, size_designs
+    from .sizing import active_constraints, size_designs
     unc = uncertainty if uncertainty is not None else (study.uncertainty or {})
     assumptions = unc.get("assumptions", {})
     if not assumptions:
@@ -291,7 +292,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
 def design_label(study, design_row) -> str:
     """A one-line description of a design (inputs only)."""
     load = study.loading_column
-    unit = "N/kW" if load == "power_loading_N_kW" else ""
+    unit = unit_of(load)
     return (f"W/S {design_row['wing_loading_N_m2']:.0f} N/m², "
             f"{'W/P' if unit else 'T/W'} {design_row[load]:.4g}{' ' + unit if unit else ''}, "
             f"AR {design_row['aspect_ratio']:.3g}, flap {design_row['flap']}")
@@ -329,50 +330,3 @@ def _dist_text(a):
     if a["distribution"] == "uniform":
         return f"uniform {a['low']:g} to {a['high']:g}"
     return f"triangular {a['low']:g} / {a['mode']:g} / {a['high']:g}"
-
-
-def plot_robustness(study, result: RobustResult, folder: Path):
-    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``."""
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    folder = Path(folder)
-    trip = result.samples["trip_fuel_kg"].to_numpy(float)
-    t = result.trip_fuel.iloc[0]
-    fig, ax = plt.subplots(figsize=(7, 4.4))
-    ax.hist(trip, bins=60, color="#7a9cc6", edgecolor="white", linewidth=0.4,
-            label=f"{result.n_samples} samples")
-    ax.axvline(t["nominal_kg"], color="k", lw=1.5, label=f"study's values {t['nominal_kg']:.1f} kg")
-    ax.axvline(t["mean_kg"], color="#c0392b", lw=1.2, ls="--", label=f"mean {t['mean_kg']:.1f} kg")
-    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
-        ax.axvline(t[q], color="#555555", lw=1.0, ls=ls)
-    ax.plot([], [], color="#555555", ls=":", label=f"5 % and 95 %: {t['p5_kg']:.1f}, "
-            f"{t['p95_kg']:.1f} kg")
-    ax.set_xlabel("trip fuel [kg]")
-    ax.set_ylabel("number of samples")
-    ax.set_title(f"{study.name}: trip fuel spread\n{design_label(study, result.design.iloc[0])}",
-                 fontsize=10)
-    ax.legend(fontsize=8)
-    fig.tight_layout()
-    for ext in ("png", "svg"):
-        fig.savefig(folder / f"trip_fuel_spread.{ext}", dpi=130)
-    plt.close(fig)
-
-    c = result.constraints
-    fig, ax = plt.subplots(figsize=(7, 0.45 * len(c) + 1.4))
-    y = np.arange(len(c))[::-1]
-    p = c["probability_met"].to_numpy(float)
-    err = np.vstack([p - c["probability_low_95"].to_numpy(float),
-                     c["probability_high_95"].to_numpy(float) - p])
-    colours = ["#2e8b57" if v >= 0.95 else ("#e0a030" if v >= 0.5 else "#c0392b") for v in p]
-    ax.barh(y, p, color=colours, xerr=err, capsize=3)
-    ax.set_yticks(y, c["constraint"])
-    ax.set_xlim(0, 1.05)
-    ax.set_xlabel("probability the constraint is met [-] (whiskers: Wilson 95 % interval)")
-    ax.set_title(f"{study.name}: probability each constraint is met", fontsize=10)
-    for yi, v in zip(y, p):
-        ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
-    fig.tight_layout()
-    for ext in ("png", "svg"):
-        fig.savefig(folder / f"constraint_probability.{ext}", dpi=130)
-    plt.close(fig)

@@ -74,7 +74,7 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))
     row_bytes = archive.archive_row_bytes(study, gens)
-    from .evaluation import COLUMN_DOCS
+    from .columns import COLUMN_DOCS
     from .sizing import active_constraints
     full_row_bytes = 25 * (len(COLUMN_DOCS) + len(active_constraints(study.spec)))
     front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS

@@ -22,6 +22,7 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
 from . import spec as S
+from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
 from .physics import aerodynamics, atmosphere, highlift, mission, performance
 
@@ -29,12 +30,6 @@ MAX_STUDY_BYTES = 1_000_000
 MAX_CRUISE_MACH = 0.82
 """Nita & Scholz's Mach factor k_eM falls to zero near M 0.85; the wave-drag law is calibrated
 to a drag-divergence Mach number of about 0.8."""
-OBJECTIVES = {
-    "trip_fuel": ("trip_fuel_kg", "trip fuel [kg]"),
-    "engine_size": (None, "engine size"),  # engine_power_kW or engine_thrust_kN
-    "maintenance": ("maintenance_index", "maintenance index [-]"),
-    "takeoff_mass": ("takeoff_mass_kg", "takeoff mass [kg]"),
-}
 DEFAULT_OBJECTIVES = ("trip_fuel", "engine_size", "maintenance")
 MAX_ENGINES = {"piston": 2, "turboprop": 4, "turbofan": 4}
 """Engine counts each family may have (common practice: no piston airplanes above twins here)."""
@@ -123,11 +118,10 @@ class Study:
 
     @property
     def engine_size_column(self) -> str:
-        return "engine_power_kW" if self.spec.uses_power_loading else "engine_thrust_kN"
+        return engine_size_column(self.spec.uses_power_loading)
 
     def objective_columns(self) -> tuple[str, ...]:
-        return tuple(self.engine_size_column if o == "engine_size" else OBJECTIVES[o][0]
-                     for o in self.objectives)
+        return tuple(objective_column(o, self.spec.uses_power_loading) for o in self.objectives)
 
     def variable(self, column: str) -> Variable:
         return next(v for v in self.variables if v.column == column)

@@ -20,6 +20,7 @@ from optimiser.campaign import price_table, run_campaign
 from optimiser.campaign_file import load_campaign, pick_compromise, toml_text
 from optimiser.errors import CampaignError
 from optimiser.evaluation import CAUTION, evaluate
+from optimiser.report.campaign_plots import plot_campaign
 from optimiser.study import load_study, parse_study
 
 try:
@@ -183,6 +184,11 @@ def test_small_campaign_on_a_local_cluster_then_resume(tmp_path):
     price = pd.read_csv(out / "price.csv")
     assert len(price) == 2 and set(price["axis"]) == {"departure.field_length"}
     assert CAUTION in (out / "summary.txt").read_text()
+    # the campaign layer draws no figure; reporting does (the CLI calls it after the runs)
+    assert not (out / "plots" / "sweep_departure_field_length.png").exists()
+    written = plot_campaign(campaign, result.summary, out)
+    assert [p.name for p in written[:2]] == ["sweep_departure_field_length.png",
+                                             "sweep_departure_field_length.svg"]
     assert (out / "plots" / "sweep_departure_field_length.png").is_file()
 
     # an interrupted campaign: one run lost its run.json; the rerun redoes only that one

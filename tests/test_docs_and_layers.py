@@ -14,9 +14,10 @@ import pytest
 
 import optimiser
 from optimiser import spec as S
-from optimiser.evaluation import CAUTION, COLUMN_DOCS, evaluate
+from optimiser import columns
+from optimiser.columns import COLUMN_DOCS, CONSTRAINT_LABELS
+from optimiser.evaluation import CAUTION, evaluate
 from optimiser.physics import aerodynamics
-from optimiser.sizing import CONSTRAINT_LABELS
 from optimiser.study import _SECTIONS, load_study, toml_key
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -92,3 +93,60 @@ def test_family_defaults_fill_every_optional_field():
                         "tsfc_cruise", "engine_thrust_to_weight", "engine_installation_factor"))
                 assert value is not None or irrelevant, f"{name}: {f.name} is None"
     assert set(S.FAMILY_DEFAULTS) == set(S.PROPULSION_FAMILIES)
+
+
+def test_column_reference_in_the_guide_is_generated_from_the_schema():
+    # DEVELOPERS.md's "Output columns of `evaluate`" is `python -m optimiser.columns --markdown`
+    guide = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    start = guide.index("## Output columns of `evaluate`")
+    end = guide.find("\n## ", start + 1)
+    section = guide[start:] if end < 0 else guide[start:end + 1]
+    assert section == columns.markdown(), "run: python -m optimiser.columns --markdown"
+    out = subprocess.run([sys.executable, "-m", "optimiser.columns", "--markdown"],
+                         capture_output=True, text=True, check=True)
+    assert out.stdout == columns.markdown()
+
+
+def test_results_schema_is_pure_data():
+    # the schema sits below sizing: importing it pulls no numpy, pandas, matplotlib or pymoo
+    code = ("import sys, optimiser.columns; "
+            "bad = [m for m in ('numpy', 'pandas', 'matplotlib', 'pymoo', 'pint', "
+            "'optimiser.sizing', 'optimiser.study') if m in sys.modules]; print(','.join(bad))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
+
+
+def test_schema_units_follow_the_column_names():
+    # the name's unit suffix and the Column's unit agree (DEVELOPERS.md conventions)
+    suffix_unit = {"_kg": "kg", "_m": "m", "_m2": "m^2", "_kW": "kW", "_kN": "kN", "_N": "N",
+                   "_m_s": "m/s", "_m_s2": "m/s^2", "_kg_m3": "kg/m^3", "_N_m2": "N/m^2",
+                   "_N_kW": "N/kW"}
+    for c in columns.COLUMNS:
+        suffix = next((s for s in sorted(suffix_unit, key=len, reverse=True)
+                       if c.name.endswith(s)), None)
+        if suffix is not None:
+            assert c.unit == suffix_unit[suffix], c.name
+    assert columns.heading("wing_area_m2") == "wing area [m²]"
+    assert columns.plot_label("engine_power_kW") == "installed engine power, all engines [kW]"
+    assert columns.engine_size_column(False) == "engine_thrust_kN"
+    assert set(columns.OBJECTIVES) == {"trip_fuel", "engine_size", "maintenance", "takeoff_mass"}
+
+
+@pytest.mark.parametrize("module", ["decide", "campaign", "robust", "runs", "evaluation",
+                                    "sizing", "columns"])
+def test_layers_below_reporting_draw_no_figure(module):
+    # DEVELOPERS.md layers: reporting owns every figure; nothing below it imports report or
+    # matplotlib (not even inside a function). runs.finish still calls report.write_plots
+    # for the run's own plots (allowed here until the run loop is split).
+    import ast
+    tree = ast.parse((ROOT / "optimiser" / f"{module}.py").read_text(encoding="utf-8"))
+    imported = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom):
+            imported.add(("." * node.level) + (node.module or ""))
+        elif isinstance(node, ast.Import):
+            imported.update(a.name for a in node.names)
+    allowed = {".report.plots"} if module == "runs" else set()
+    bad = {m for m in imported if (m.startswith(".report") or m.startswith("matplotlib"))
+           and m not in allowed}
+    assert bad == set()

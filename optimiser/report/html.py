@@ -15,21 +15,22 @@ sized airplanes); the clicked design is marked at its own wing loading and loadi
 
 from __future__ import annotations
 
-import base64
 import html
-import io
 import json
 from pathlib import Path
 
 import numpy as np
+
+from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, REPORT_KEY_COLUMNS, heading,
+                       plot_label, short_and_unit, unit_of)
+from . import palette
+from .figures import png_data_uri
 
 DIAGRAM_AR_STEP = 0.05
 """Aspect-ratio step of the interactive constraint diagrams (designs share a diagram when
 their aspect ratios round to the same step)."""
 DIAGRAM_GRID = 56
 """Grid points per axis of each interactive constraint diagram."""
-KEY_COLUMNS = ("takeoff_mass_kg", "wing_area_m2", "span_m", "takeoff_field_required_m",
-               "landing_distance_m", "stall_speed_m_s", "cruise_lift_to_drag")
 
 
 def latest_pick_settings(run):
@@ -49,14 +50,6 @@ def latest_pick_settings(run):
     return choose(run.study, run.front, "knee")
 
 
-def _png(fig, dpi=100) -> str:
-    from .plots import _plt
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=dpi)
-    _plt().close(fig)
-    return "data:image/png;base64," + base64.b64encode(buf.getvalue()).decode("ascii")
-
-
 def _r(x, sig=5):
     x = float(x)
     if not np.isfinite(x):
@@ -69,7 +62,7 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
     lists for the page: {"ar", "flap", "mass_kg", "x": [lo, hi], "y": [lo, hi],
     "lines": [{"name", "label", "pts"}], "region": [[[x, y], ...], ...]}."""
     import contourpy
-    from ..sizing import CONSTRAINT_LABELS, active_constraints
+    from ..sizing import active_constraints
     from .plots import constraint_grid
     ws, ld, frame = constraint_grid(study, design, n)
     shape = (len(ld), len(ws))
@@ -96,17 +89,15 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
 
 
 def _sheet_columns(study, front):
-    from ..evaluation import COLUMN_DOCS
-    from ..sizing import CONSTRAINT_LABELS, active_constraints
-    from .sheet import label_of
+    from ..sizing import active_constraints
     cols = []
     inputs = ["wing_loading_N_m2", study.loading_column, "aspect_ratio"]
     objectives = list(study.objective_columns())
     for c in inputs:
-        cols.append({"col": c, "section": "design variable", "unit": label_of(c)[1],
+        cols.append({"col": c, "section": "design variable", "unit": unit_of(c),
                      "meaning": COLUMN_DOCS.get(c, "")})
     for c in objectives:
-        cols.append({"col": c, "section": "objective", "unit": label_of(c)[1],
+        cols.append({"col": c, "section": "objective", "unit": unit_of(c),
                      "meaning": COLUMN_DOCS.get(c, "")})
     for c in active_constraints(study.spec):
         cols.append({"col": f"margin_{c}", "section": "margin", "unit": "%",
@@ -114,20 +105,18 @@ def _sheet_columns(study, front):
     skip = set(inputs) | set(objectives)
     for c in front.columns:
         if c in COLUMN_DOCS and c not in skip and front[c].dtype.kind in "fi":
-            cols.append({"col": c, "section": "sized", "unit": label_of(c)[1],
+            cols.append({"col": c, "section": "sized", "unit": unit_of(c),
                          "meaning": COLUMN_DOCS[c]})
     return cols
 
 
 def page_data(run, choice):
     """Everything the interactive view needs, as one JSON-able dict."""
-    from .plots import LABELS, _colours
-    from .sheet import BINDING_MARGIN, label_of
-    import matplotlib.colors as mcolors
+    from .sheet import BINDING_MARGIN
     study, front = run.study, run.front
     objectives = list(study.objective_columns())
     sheet_cols = _sheet_columns(study, front)
-    colours = {f: mcolors.to_hex(c) for f, c in _colours(study.flaps).items()}
+    colours = palette.flap_colours_hex(study.flaps)
     designs, diagrams, keys = [], {}, {}
     chosen = int(choice.design["front_row"]) if choice is not None else -1
     for i, (_, r) in enumerate(front.iterrows()):
@@ -145,11 +134,11 @@ def page_data(run, choice):
         })
     return {
         "study": study.name, "objectives": objectives,
-        "labels": {c: LABELS.get(c, c) for c in [*objectives, "wing_loading_N_m2",
-                                                 study.loading_column, "takeoff_mass_kg"]},
-        "units": {c: label_of(c)[1] for c in objectives},
-        "names": {c: label_of(c)[0] for c in [*objectives, *KEY_COLUMNS]},
-        "key_columns": [c for c in KEY_COLUMNS if c in front.columns],
+        "labels": {c: plot_label(c) for c in [*objectives, "wing_loading_N_m2",
+                                              study.loading_column, "takeoff_mass_kg"]},
+        "units": {c: unit_of(c) for c in objectives},
+        "names": {c: short_and_unit(c)[0] for c in [*objectives, *REPORT_KEY_COLUMNS]},
+        "key_columns": [c for c in REPORT_KEY_COLUMNS if c in front.columns],
         "loading_column": study.loading_column, "flaps": list(study.flaps),
         "colours": colours, "sheet_columns": sheet_cols, "designs": designs,
         "diagrams": diagrams, "binding_margin": BINDING_MARGIN, "chosen": chosen,
@@ -208,9 +197,9 @@ def write_report(run, choice=None, flaps=True) -> Path:
     if len(front):
         F = read_archive(run.run_dir, study.objective_columns(), feasible_only=True)\
             .to_numpy(float)
-        figs = [("objectives", _png(plots.objective_scatter(study, front, F)))]
+        figs = [("objectives", png_data_uri(plots.objective_scatter(study, front, F)))]
         if history is not None and len(history):
-            figs.append(("convergence", _png(plots.convergence(study, history))))
+            figs.append(("convergence", png_data_uri(plots.convergence(study, history))))
         sections.append("<section id='fronts'><h2>Fronts</h2>" + "".join(
             f"<figure><img alt='{n}' src='{src}'></figure>" for n, src in figs) + "</section>")
         sections.append(
@@ -236,7 +225,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
             "<section id='choice'><h2>Chosen compromise</h2>"
             f"<p>Picked by {esc(choice.describe())}.</p>"
             + _table(["quantity", "value", "unit"],
-                     [(sheet.label_of(q)[0], sheet._fmt(v), u) for q, v, u in
+                     [(short_and_unit(q)[0], sheet._fmt(v), u) for q, v, u in
                       tab[tab["section"].isin(["design variable", "objective (minimised)"])]
                       [["quantity", "value", "unit"]].itertuples(index=False)]
                      + [("takeoff mass", sheet._fmt(d["takeoff_mass_kg"]), "kg")], "kv")
@@ -245,14 +234,14 @@ def write_report(run, choice=None, flaps=True) -> Path:
             + _table(["constraint", "margin", "status"],
                      [(m, f"{float(v):+.1%}", s) for m, v, s in
                       zip(mar["meaning"], mar["value"], mar["status"])])
-            + f"<figure><img alt='constraint diagram of the chosen design' src='{_png(fig)}'>"
-            "</figure><h3>Runners-up</h3>"
-            + _table(["rank", "flap", *[f"{sheet.label_of(c)[0]} [{sheet.label_of(c)[1] or '-'}]"
+            + "<figure><img alt='constraint diagram of the chosen design' "
+            f"src='{png_data_uri(fig)}'></figure><h3>Runners-up</h3>"
+            + _table(["rank", "flap", *[heading(c)
                                         for c in cols], "what it trades against the choice"],
                      run_rows) + "</section>")
     if flaps and run.evaluations_path.is_file():
         table, fronts = compare_flaps(run)
-        eng_unit = study.engine_size_column.rsplit("_", 1)[1]
+        eng_unit = unit_of(study.engine_size_column)
         rows = []
         for _, r in table.iterrows():
             rows.append([r["flap"] + (" (reference)" if r["reference_option"] else ""),
@@ -263,7 +252,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
                          sheet._fmt(r["extra_trip_fuel_at_equal_engine_kg"]),
                          sheet._fmt(r[f"extra_engine_at_equal_trip_fuel_{eng_unit}"]),
                          r["note"]])
-        head = ["flap", "feasible", *[f"best {sheet.label_of(c)[0]} [{sheet.label_of(c)[1] or '-'}]"
+        head = ["flap", "feasible", *[f"best {heading(c)}"
                                       for c in study.objective_columns()],
                 "share of combined front", "hypervolume",
                 "extra trip fuel at equal engine size [kg]",
@@ -277,7 +266,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
             "smallest trip fuel each reaches with an engine no larger than that (and the same "
             "with the roles swapped); positive = worse than the reference.</p>"
             + _table(head, rows, "flaps") + f"<figure><img alt='flap fronts' src='"
-            f"{_png(plots.flap_fronts(study, fronts, table))}'></figure></section>")
+            f"{png_data_uri(plots.flap_fronts(study, fronts, table))}'></figure></section>")
     data = page_data(run, choice) if len(front) else None
     caution = f"<div class='caution'><b>Caution.</b> {esc(CAUTION, quote=False)}</div>"
     page = _TEMPLATE.format(
@@ -457,10 +446,9 @@ function drawDiagram(d){
   const [sx, sy] = axes(svg, {l: 58, r: 12, t: 44, b: 42 + legendH}, g.x, g.y, D.labels.wing_loading_N_m2,
                         D.labels[D.loading_column]);
   const path = pts => pts.map((p, i) => (i ? 'L' : 'M') + sx(p[0]).toFixed(1) + ' ' + sy(p[1]).toFixed(1)).join('');
-  if (g.region.length) el('path', {d: g.region.map(p => path(p) + 'Z').join(''), fill: '#2ca02c',
-    'fill-opacity': 0.15, 'fill-rule': 'evenodd', class: 'region'}, svg);
-  const pal = ['#1f77b4', '#ff7f0e', '#2ca02c', '#d62728', '#9467bd', '#8c564b', '#e377c2', '#7f7f7f',
-               '#bcbd22', '#17becf', '#393b79'];
+  if (g.region.length) el('path', {d: g.region.map(p => path(p) + 'Z').join(''), fill: '__REGION_FILL__',
+    'fill-opacity': __REGION_ALPHA__, 'fill-rule': 'evenodd', class: 'region'}, svg);
+  const pal = __LINE_COLOURS__;
   let ly = 400 + 22;
   g.lines.forEach((ln, k) => { const m = val(d, 'margin_' + ln.name);
     const bind = m < D.binding_margin, col = pal[k % pal.length];
@@ -506,3 +494,8 @@ function select(id){ state.selected = id; const d = D.designs[id];
 buildControls(); drawFront(); if (D.designs.length) select(state.selected);
 })();
 """
+
+_SCRIPT = (_SCRIPT.replace("__REGION_FILL__", palette.FEASIBLE_REGION_HEX)
+           .replace("__REGION_ALPHA__", f"{palette.FEASIBLE_REGION_ALPHA:g}")
+           .replace("__LINE_COLOURS__", palette.js_array(palette.REPORT_LINE_COLOURS)))
+"""The page script with the palette's colours filled in."""

@@ -1,7 +1,9 @@
 """Plots of a run: objective scatter with the front, 3-D front, decision variables of the
-front (parallel coordinates), convergence and a constraint diagram at a representative design. Each function takes the data and an optional
-``ax`` and returns the Figure; :func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``.
-matplotlib is imported inside the functions (Agg backend) and ``plt.show()`` is never called.
+front (parallel coordinates), convergence and a constraint diagram at a representative
+design. Each function takes the data and an optional ``ax`` and returns the Figure;
+:func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``. matplotlib comes from
+:func:`optimiser.report.figures.pyplot` (Agg, imported on first use), colours from
+:mod:`optimiser.report.palette`; ``plt.show()`` is never called.
 """
 
 from __future__ import annotations
@@ -11,39 +13,17 @@ from pathlib import Path
 
 import numpy as np
 
+from ..columns import CONSTRAINT_LABELS, plot_label
 from ..runfolder import names
 from ..runfolder.archive import read_archive
-
-LABELS = {
-    "trip_fuel_kg": "trip fuel [kg]",
-    "engine_power_kW": "installed engine power, all engines [kW]",
-    "engine_thrust_kN": "installed static thrust, all engines [kN]",
-    "maintenance_index": "maintenance index [-]",
-    "takeoff_mass_kg": "takeoff mass [kg]",
-    "wing_loading_N_m2": "wing loading [N/m²]",
-    "power_loading_N_kW": "power loading [N/kW]",
-    "thrust_to_weight": "thrust-to-weight [-]",
-    "aspect_ratio": "aspect ratio [-]",
-}
-
-
-def _plt():
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    return plt
-
-
-def _colours(flaps):
-    plt = _plt()
-    cmap = plt.get_cmap("tab10")
-    return {f: cmap(i % 10) for i, f in enumerate(flaps)}
+from . import palette
+from .figures import pyplot, save
 
 
 def objective_scatter(study, front, feasible_F, ax=None):
     """Pairwise objective scatter: every feasible evaluated design in grey, the front coloured
     by flap type."""
-    plt = _plt()
+    plt = pyplot()
     cols = list(study.objective_columns())
     pairs = list(itertools.combinations(range(len(cols)), 2))
     if ax is None:
@@ -52,18 +32,18 @@ def objective_scatter(study, front, feasible_F, ax=None):
     else:
         fig, axes = ax.figure, [ax]
         pairs = pairs[:1]
-    colours = _colours(study.flaps)
+    colours = palette.flap_colours(study.flaps)
     for a, (i, j) in zip(axes, pairs):
         if len(feasible_F):
-            a.scatter(feasible_F[:, i], feasible_F[:, j], s=4, c="0.78", label="feasible designs",
-                      rasterized=True)
+            a.scatter(feasible_F[:, i], feasible_F[:, j], s=4, c=palette.FEASIBLE_DESIGNS,
+                      label="feasible designs", rasterized=True)
         for flap in study.flaps:
             sel = front[front["flap"] == flap]
             if len(sel):
                 a.scatter(sel[cols[i]], sel[cols[j]], s=18, color=colours[flap],
-                          edgecolor="k", linewidth=0.3, label=f"front: {flap}")
-        a.set_xlabel(LABELS.get(cols[i], cols[i]))
-        a.set_ylabel(LABELS.get(cols[j], cols[j]))
+                          edgecolor=palette.DESIGN_MARKER, linewidth=0.3, label=f"front: {flap}")
+        a.set_xlabel(plot_label(cols[i]))
+        a.set_ylabel(plot_label(cols[j]))
         a.grid(alpha=0.3)
         if len(front):  # zoom on the front and the dominated band next to it
             for k, setter in ((i, a.set_xlim), (j, a.set_ylim)):
@@ -73,7 +53,8 @@ def objective_scatter(study, front, feasible_F, ax=None):
     axes[0].legend(fontsize=7, loc="best")
     if len(front):
         axes[-1].text(1.0, -0.16, "axes zoomed on the front; designs beyond are off the plot",
-                      transform=axes[-1].transAxes, ha="right", fontsize=7, color="0.4")
+                      transform=axes[-1].transAxes, ha="right", fontsize=7,
+                      color=palette.NOTE_TEXT)
     fig.suptitle(f"{study.name}: objectives (front highlighted)")
     fig.tight_layout()
     return fig
@@ -81,21 +62,21 @@ def objective_scatter(study, front, feasible_F, ax=None):
 
 def front_3d(study, front, ax=None):
     """3-D view of the front, coloured by flap type (three objectives only)."""
-    plt = _plt()
+    plt = pyplot()
     cols = list(study.objective_columns())[:3]
     if ax is None:
         fig = plt.figure(figsize=(6.5, 5.5))
         ax = fig.add_subplot(projection="3d")
     fig = ax.figure
-    colours = _colours(study.flaps)
+    colours = palette.flap_colours(study.flaps)
     for flap in study.flaps:
         sel = front[front["flap"] == flap]
         if len(sel):
             ax.scatter(sel[cols[0]], sel[cols[1]], sel[cols[2]], color=colours[flap], s=16,
                        label=flap)
-    ax.set_xlabel(LABELS.get(cols[0], cols[0]), fontsize=8)
-    ax.set_ylabel(LABELS.get(cols[1], cols[1]), fontsize=8)
-    ax.set_zlabel(LABELS.get(cols[2], cols[2]), fontsize=8)
+    ax.set_xlabel(plot_label(cols[0]), fontsize=8)
+    ax.set_ylabel(plot_label(cols[1]), fontsize=8)
+    ax.set_zlabel(plot_label(cols[2]), fontsize=8)
     ax.legend(fontsize=7, title="flap type")
     ax.set_title(f"{study.name}: front")
     return fig
@@ -104,14 +85,14 @@ def front_3d(study, front, ax=None):
 def decision_variables(study, front, ax=None):
     """Parallel coordinates of the front's decision variables, each axis normalised to its
     bounds (labelled with the bounds and units); the flap type is the last axis."""
-    plt = _plt()
+    plt = pyplot()
     if ax is None:
         fig, ax = plt.subplots(figsize=(8, 4.5))
     fig = ax.figure
     vars_ = list(study.variables)
     flaps = list(study.flaps)
     n = len(vars_) + 1
-    colours = _colours(flaps)
+    colours = palette.flap_colours(flaps)
     Z = []
     for v in vars_:
         x = front[v.column].to_numpy(float)
@@ -127,14 +108,14 @@ def decision_variables(study, front, ax=None):
         seen.add(flap)
     labels = []
     for v in vars_:
-        name = LABELS.get(v.column, v.column)
+        name = plot_label(v.column)
         labels.append(f"{name}\n{v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
     labels.append("flap type\n(study list order)")
     ax.set_xticks(xs, labels, fontsize=7)
     ax.set_ylabel("position within bounds [-] (0 = lower, 1 = upper)")
     ax.set_ylim(-0.05, 1.05)
     for x in xs:
-        ax.axvline(x, color="0.5", lw=0.8)
+        ax.axvline(x, color=palette.GUIDE_LINES, lw=0.8)
     ax.legend(fontsize=7, loc="best", title="flap type")
     ax.set_title(f"{study.name}: decision variables of the front")
     fig.tight_layout()
@@ -143,7 +124,7 @@ def decision_variables(study, front, ax=None):
 
 def convergence(study, history, ax=None):
     """Hypervolume of the merged feasible front against evaluations."""
-    plt = _plt()
+    plt = pyplot()
     if ax is None:
         fig, ax = plt.subplots(figsize=(6, 4))
     fig = ax.figure
@@ -158,28 +139,18 @@ def convergence(study, history, ax=None):
 
 def write_plots(study, run_dir, front, history, scales=None):
     """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths."""
-    plt = _plt()
     out = Path(run_dir) / names.PLOTS_DIR
     out.mkdir(exist_ok=True)
-    written = []
-
-    def save(fig, name):
-        for ext in ("png", "svg"):
-            p = out / f"{name}.{ext}"
-            fig.savefig(p, dpi=130)
-            written.append(p)
-        plt.close(fig)
-
-    save(convergence(study, history), "convergence")
+    written = save(convergence(study, history), out / "convergence")
     if len(front):
         F = read_archive(run_dir, study.objective_columns(), feasible_only=True)\
             .to_numpy(float)
-        save(objective_scatter(study, front, F), "objectives")
+        written += save(objective_scatter(study, front, F), out / "objectives")
         if len(study.objectives) == 3:
-            save(front_3d(study, front), "front_3d")
-        save(decision_variables(study, front), "decision_variables")
-        save(constraint_diagram(study, representative_design(study, front)),
-             "constraint_diagram")
+            written += save(front_3d(study, front), out / "front_3d")
+        written += save(decision_variables(study, front), out / "decision_variables")
+        written += save(constraint_diagram(study, representative_design(study, front)),
+                        out / "constraint_diagram")
     return written
 
 
@@ -200,7 +171,7 @@ def constraint_diagram(study, design, n=120, ax=None):
     them shaded, and the design marked."""
     from ..evaluation import size_frame
     from ..sizing import active_constraints
-    plt = _plt()
+    plt = pyplot()
     if ax is None:
         fig, ax = plt.subplots(figsize=(7, 5))
     fig = ax.figure
@@ -211,22 +182,25 @@ def constraint_diagram(study, design, n=120, ax=None):
     flap = study.spec.high_lift_names.index(design["flap"])
     frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, design["aspect_ratio"]),
                        np.full(W.size, flap))
-    colours = plt.get_cmap("tab10")
+    colours = palette.constraint_colours(active_constraints(study.spec))
     handles = []
-    for k, c in enumerate(active_constraints(study.spec)):
+    for c in active_constraints(study.spec):
         M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
         if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours(k % 10)], linewidths=1.5)
-            handles.append(plt.Line2D([], [], color=colours(k % 10), label=c.replace("_", " ")))
+            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]], linewidths=1.5)
+            handles.append(plt.Line2D([], [], color=colours[c], label=c.replace("_", " ")))
     feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
-    ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=["tab:green"], alpha=0.15)
-    handles.append(plt.Rectangle((0, 0), 1, 1, color="tab:green", alpha=0.15,
+    ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=[palette.FEASIBLE_REGION],
+                    alpha=palette.FEASIBLE_REGION_ALPHA)
+    handles.append(plt.Rectangle((0, 0), 1, 1, color=palette.FEASIBLE_REGION,
+                                 alpha=palette.FEASIBLE_REGION_ALPHA,
                                  label="all constraints met"))
-    ax.plot(design["wing_loading_N_m2"], design[study.loading_column], "k*", ms=12)
-    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=10,
+    ax.plot(design["wing_loading_N_m2"], design[study.loading_column],
+            palette.DESIGN_MARKER + "*", ms=12)
+    handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=10,
                               label="representative front design"))
-    ax.set_xlabel(LABELS["wing_loading_N_m2"])
-    ax.set_ylabel(LABELS[study.loading_column])
+    ax.set_xlabel(plot_label("wing_loading_N_m2"))
+    ax.set_ylabel(plot_label(study.loading_column))
     ax.legend(handles=handles, fontsize=7, loc="best")
     ax.set_title(f"{study.name}: constraints at aspect ratio {design['aspect_ratio']:.2f}, "
                  f"flap {design['flap']}\n(each line: margin = 0; each point a sized airplane)",
@@ -266,38 +240,40 @@ def design_constraint_diagram(study, design, label="chosen design", n=120, ax=No
     is zero (every grid point a completely sized airplane), the region meeting all of them
     shaded, binding constraints drawn thicker, and the design marked where it was sized, with
     its takeoff mass. At the marked point the grid airplane is the design itself."""
-    from ..sizing import CONSTRAINT_LABELS, active_constraints
+    from ..sizing import active_constraints
     from .sheet import BINDING_MARGIN
-    plt = _plt()
+    plt = pyplot()
     if ax is None:
         fig, ax = plt.subplots(figsize=(10.5, 5.4))
     fig = ax.figure
     ws, ld, frame = constraint_grid(study, design, n)
     W, L = np.meshgrid(ws, ld)
-    colours = plt.get_cmap("tab10")
+    colours = palette.constraint_colours(active_constraints(study.spec))
     handles = []
-    for k, c in enumerate(active_constraints(study.spec)):
+    for c in active_constraints(study.spec):
         M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
         binding = float(design[f"margin_{c}"]) < BINDING_MARGIN
         if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours(k % 10)],
+            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]],
                        linewidths=3.0 if binding else 1.4)
-            handles.append(plt.Line2D([], [], color=colours(k % 10), lw=3.0 if binding else 1.4,
+            handles.append(plt.Line2D([], [], color=colours[c], lw=3.0 if binding else 1.4,
                                       label=CONSTRAINT_LABELS.get(c, c)
                                       + (" (binding)" if binding else "")))
     feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
     if feas.max() > 0:
-        ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=["tab:green"], alpha=0.15)
-    handles.append(plt.Rectangle((0, 0), 1, 1, color="tab:green", alpha=0.15,
+        ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=[palette.FEASIBLE_REGION],
+                    alpha=palette.FEASIBLE_REGION_ALPHA)
+    handles.append(plt.Rectangle((0, 0), 1, 1, color=palette.FEASIBLE_REGION,
+                                 alpha=palette.FEASIBLE_REGION_ALPHA,
                                  label="all constraints met"))
     x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
-    ax.plot(x0, y0, "k*", ms=15, zorder=5)
-    handles.append(plt.Line2D([], [], color="k", marker="*", ls="", ms=11,
+    ax.plot(x0, y0, palette.DESIGN_MARKER + "*", ms=15, zorder=5)
+    handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=11,
                               label=f"{label}: takeoff mass {float(design['takeoff_mass_kg']):.0f} kg"))
     ax.annotate(f"{label}\n{x0:.0f} N/m², {y0:.3g}", (x0, y0), xytext=(10, 10),
                 textcoords="offset points", fontsize=8)
-    ax.set_xlabel(LABELS["wing_loading_N_m2"])
-    ax.set_ylabel(LABELS[study.loading_column])
+    ax.set_xlabel(plot_label("wing_loading_N_m2"))
+    ax.set_ylabel(plot_label(study.loading_column))
     ax.legend(handles=handles, fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0),
               title="zero-margin lines", title_fontsize=7)
     ax.set_title(f"{study.name}: constraints at aspect ratio {float(design['aspect_ratio']):.2f}, "
@@ -314,14 +290,14 @@ def flap_fronts(study, fronts, table, ax=None):
     and, beside it, the best of each objective per option. Options with no feasible design
     are named in the legend with the failing constraint."""
     from ..flaps import lower_envelope
-    plt = _plt()
+    plt = pyplot()
     eng = study.engine_size_column
     if ax is None:
         fig, (ax, ax2) = plt.subplots(1, 2, figsize=(12.5, 5.0),
                                       gridspec_kw={"width_ratios": [1.5, 1]})
     else:
         fig, ax2 = ax.figure, None
-    colours = _colours(study.flaps)
+    colours = palette.flap_colours(study.flaps)
     rows = {r["flap"]: r for _, r in table.iterrows()}
     for flap in study.flaps:
         fr = fronts[flap]
@@ -337,8 +313,8 @@ def flap_fronts(study, fronts, table, ax=None):
         ax.plot(env[:, 0], env[:, 1], "-o", ms=4, lw=1.8, color=colours[flap],
                 label=f"{flap}{ref}: HV {r['hypervolume']:.3f}, "
                       f"{r['share_of_combined_front']:.0%} of combined front")
-    ax.set_xlabel(LABELS.get(eng, eng))
-    ax.set_ylabel(LABELS["trip_fuel_kg"])
+    ax.set_xlabel(plot_label(eng))
+    ax.set_ylabel(plot_label("trip_fuel_kg"))
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7, title="flap type (line: trip fuel vs engine size front)",
               title_fontsize=7, loc="best")

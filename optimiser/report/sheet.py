@@ -1,52 +1,23 @@
 """The design sheet of one sized design (CSV and Markdown) and the flap-comparison tables.
 
 A sheet lists every number of the design's row: the design variables, the objectives, every
-sized number with its unit and meaning (from :data:`optimiser.evaluation.COLUMN_DOCS`), and
-every constraint margin with its status (``binding`` when below
-:data:`BINDING_MARGIN`, ``limiting`` for the smallest, ``met`` or
-``violated``). Every Markdown text ends with the caution.
+sized number with its unit and meaning (from the results schema, :mod:`optimiser.columns`),
+and every constraint margin with its status (``binding`` when below :data:`BINDING_MARGIN`,
+``limiting`` for the smallest, ``met`` or ``violated``). Every Markdown text ends with the caution.
 """
 
 from __future__ import annotations
 
 import math
-import re
 
 import numpy as np
+
+from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, heading, short_and_unit,
+                       unit_of)
 
 BINDING_MARGIN = 0.01
 """A constraint whose margin is below 1 % of its limit counts as binding (a convention of
 this tool: the search pushes designs against their active constraints)."""
-
-_UNIT = re.compile(r"\[([^\]]*)\]")
-
-
-def label_of(column: str) -> tuple[str, str]:
-    """(plain name, unit) of a column: ``trip_fuel_kg`` -> ("trip fuel", "kg")."""
-    from ..evaluation import COLUMN_DOCS
-    special = {"engine_power_kW": ("engine power", "kW"), "engine_thrust_kN": ("engine thrust", "kN"),
-               "maintenance_index": ("maintenance index", ""), "trip_fuel_kg": ("trip fuel", "kg"),
-               "takeoff_mass_kg": ("takeoff mass", "kg"),
-               "wing_loading_N_m2": ("wing loading", "N/m²"),
-               "power_loading_N_kW": ("power loading", "N/kW"),
-               "thrust_to_weight": ("thrust-to-weight", ""), "aspect_ratio": ("aspect ratio", "")}
-    if column in special:
-        return special[column]
-    doc = COLUMN_DOCS.get(column, "")
-    m = _UNIT.search(doc)
-    unit = m.group(1) if m else ""
-    unit = "" if unit == "-" else unit.replace("^2", "²").replace("^3", "³")
-    name = column
-    for suffix in _NAME_SUFFIXES:
-        if name.endswith(suffix):
-            name = name[: -len(suffix)]
-            break
-    return name.replace("_", " "), unit
-
-
-_NAME_SUFFIXES = ("_kg_m3", "_m_s2", "_N_m2", "_N_kW", "_m_s", "_kg", "_m2", "_kW", "_kN", "_N",
-                  "_m")
-
 
 def binding_constraints(study, design) -> list[str]:
     """Constraints of ``design`` with a margin below :data:`BINDING_MARGIN`."""
@@ -59,17 +30,16 @@ def design_sheet(study, design):
     """Long table of every number of one design: section, quantity, value, unit, status,
     meaning. ``design`` is a row of front.csv (or of :func:`optimiser.evaluate`)."""
     import pandas as pd
-    from ..evaluation import COLUMN_DOCS
-    from ..sizing import CONSTRAINT_LABELS, active_constraints
+    from ..sizing import active_constraints
     rows = []
     inputs = ["flap", "wing_loading_N_m2", study.loading_column, "aspect_ratio"]
     objectives = list(study.objective_columns())
     for c in inputs:
         v = design[c]
-        rows.append(("design variable", c, v, label_of(c)[1] if c != "flap" else "", "",
+        rows.append(("design variable", c, v, unit_of(c) if c != "flap" else "", "",
                      COLUMN_DOCS.get(c, "")))
     for c in objectives:
-        rows.append(("objective (minimised)", c, float(design[c]), label_of(c)[1], "",
+        rows.append(("objective (minimised)", c, float(design[c]), unit_of(c), "",
                      COLUMN_DOCS.get(c, "")))
     skip = set(inputs) | set(objectives) | {"generation", "score", "front_row", "feasible",
                                             "limiting_constraint", "most_violated",
@@ -78,7 +48,7 @@ def design_sheet(study, design):
     for c in design.index:
         if c in skip or c in margins or c.startswith("margin_") or c not in COLUMN_DOCS:
             continue
-        rows.append(("sized", c, float(design[c]), label_of(c)[1], "", COLUMN_DOCS[c]))
+        rows.append(("sized", c, float(design[c]), unit_of(c), "", COLUMN_DOCS[c]))
     limiting = str(design.get("limiting_constraint", ""))
     for c in active_constraints(study.spec):
         m = float(design[f"margin_{c}"])
@@ -128,12 +98,12 @@ def sheet_markdown(study, design, title, how="", runners=None) -> str:
               f"> **Caution.** {CAUTION}", ""]
     var = table[table["section"] == "design variable"]
     lines += ["## Design", "", _md_table(["quantity", "value", "unit"],
-                                         [(label_of(q)[0], _fmt(v), u) for q, v, u in
+                                         [(short_and_unit(q)[0], _fmt(v), u) for q, v, u in
                                           zip(var["quantity"], var["value"], var["unit"])]), ""]
     obj = table[table["section"].str.startswith("objective")]
     lines += ["## Objectives (all minimised)", "",
               _md_table(["objective", "value", "unit"],
-                        [(label_of(q)[0], _fmt(v), u) for q, v, u in
+                        [(short_and_unit(q)[0], _fmt(v), u) for q, v, u in
                          zip(obj["quantity"], obj["value"], obj["unit"])]), ""]
     mar = table[table["section"] == "margin"].copy()
     mar["order"] = mar["value"].astype(float)
@@ -154,7 +124,7 @@ def sheet_markdown(study, design, title, how="", runners=None) -> str:
                              sized["meaning"])]), ""]
     if runners is not None and len(runners):
         cols = list(study.objective_columns())
-        head = ["rank", "flap"] + [f"{label_of(c)[0]} [{label_of(c)[1] or '-'}]" for c in cols] \
+        head = ["rank", "flap"] + [heading(c) for c in cols] \
             + ["what it trades against the choice"]
         lines += ["## Runners-up", "",
                   _md_table(head, [[r["rank"], r["flap"], *[_fmt(r[c]) for c in cols],
@@ -193,7 +163,7 @@ FLAP_COLUMNS_DOC = {
 def flaps_text_table(study, table) -> str:
     """A plain-text table of the flap comparison for the terminal."""
     eng = study.engine_size_column
-    unit = eng.rsplit("_", 1)[1]
+    unit = unit_of(eng)
     head = (f"{'flap':<22}{'feasible':>9}{'best fuel kg':>13}{'best eng ' + unit:>12}"
             f"{'best MI':>8}{'front %':>8}{'HV':>7}{'+fuel @eng kg':>14}"
             f"{'+eng @fuel ' + unit:>14}")
@@ -220,9 +190,9 @@ def flaps_markdown(study, table) -> str:
     """The flap comparison as Markdown with the meaning of each column and the caution."""
     from ..evaluation import CAUTION
     eng = study.engine_size_column
-    unit = eng.rsplit("_", 1)[1]
+    unit = unit_of(eng)
     cols = list(study.objective_columns())
-    head = ["flap", "feasible", *[f"best {label_of(c)[0]} [{label_of(c)[1] or '-'}]"
+    head = ["flap", "feasible", *[f"best {heading(c)}"
                                   for c in cols],
             "share of combined front", "hypervolume",
             "extra trip fuel at equal engine size [kg]",

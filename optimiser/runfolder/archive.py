@@ -13,16 +13,9 @@ from pathlib import Path
 
 import numpy as np
 
+from ..columns import ARCHIVE_SUMMARY_COLUMNS, ENGINE_SIZE_COLUMNS
 from ..errors import RunError
 from . import files, names
-
-ARCHIVE_SUMMARY_COLUMNS = (
-    "takeoff_mass_kg", "empty_mass_kg", "fuel_mass_kg", "trip_fuel_kg", "wing_area_m2",
-    "span_m", "engine_power_kW", "engine_thrust_kN", "maintenance_index")
-"""Sized numbers the archive keeps beside the inputs, objectives and margins (those the
-model gives for the study's propulsion family). The performance numbers behind the margins
-(stall speed, field lengths, climb, cruise speed, ceiling) are not repeated: each is its
-margin's limit times (1 - margin) or (1 + margin)."""
 
 ARCHIVE_BUFFER_ROWS = 20_000
 """Rows of evaluations.csv held in memory at most before they are written (ours: a few MB);
@@ -45,8 +38,7 @@ def archive_columns(study) -> list[str]:
     from ..sizing import active_constraints
     inputs = list(design_columns(study)[:3])
     objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
-    engine = "engine_power_kW" if study.spec.uses_power_loading else "engine_thrust_kN"
-    other = {"engine_power_kW", "engine_thrust_kN"} - {engine}  # not this family's
+    other = set(ENGINE_SIZE_COLUMNS.values()) - {study.engine_size_column}  # not this family's
     summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c not in objectives and c not in other]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]
     return ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",

@@ -6,23 +6,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..columns import CONSTRAINT_LABELS  # noqa: F401  (re-exported from the results schema)
 from ..physics import G0
 from ..spec import AircraftSpec
-
-CONSTRAINT_LABELS = {
-    "mass_closure": "takeoff mass closes",
-    "takeoff_mass_limit": "takeoff mass within the certification basis' limit",
-    "runway_acceleration": "accelerates on the runway",
-    "stall_speed": "stall speed, landing configuration",
-    "takeoff_field": "takeoff field length",
-    "landing_field": "landing field length",
-    "climb_rate": "all-engines rate of climb",
-    "climb_gradient": "all-engines climb gradient (regulatory)",
-    "oei_climb_gradient": "one-engine-inoperative climb gradient",
-    "cruise_speed": "cruise speed at cruise altitude",
-    "service_ceiling": "service ceiling",
-}
-"""Every constraint the model can check, with a plain description."""
 
 
 def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:

@@ -1,0 +1,99 @@
+"""The files and terminal summaries of a pick and of the flap comparison.
+
+``optimiser pick`` writes ``RUN_DIR/pick-<method>/`` (:func:`write_pick`) and ``optimiser
+flaps`` writes ``RUN_DIR/flaps/`` (:func:`write_flaps`); the choice and the comparison
+themselves are made by :mod:`optimiser.decide`, which writes no figure.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..columns import short_and_unit
+from ..decide import RUNNERS_UP, Choice, runners_up
+from ..errors import DecideError
+from ..evaluation import CAUTION
+from ..runfolder import names
+from ..runfolder.files import write_atomic
+from ..runfolder.reader import Run
+from ..runfolder.runinfo import json_bytes
+from . import sheet
+from .figures import save
+
+
+def pick_folder(run_dir, method) -> Path:
+    return Path(run_dir) / f"{names.PICK_DIR_PREFIX}{method}"
+
+
+def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
+    """Write ``RUN_DIR/pick-<method>/``: design.csv, design.md, constraint_diagram.png/.svg,
+    runners_up.csv, choice.json. An existing folder is refused unless ``force``."""
+    from .plots import design_constraint_diagram
+    out = pick_folder(run.run_dir, choice.method)
+    if out.exists() and any(out.iterdir()) and not force:
+        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
+                          "the pick files in it)")
+    out.mkdir(exist_ok=True)
+    study = run.study
+    runners = runners_up(study, choice, n_runners)
+    table = sheet.design_sheet(study, choice.design)
+    write_atomic(out / "design.csv", table.to_csv(index=False).encode())
+    write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
+    md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
+                              how=choice.describe(), runners=runners)
+    write_atomic(out / "design.md", md.encode())
+    info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
+            "caution": CAUTION}
+    write_atomic(out / names.PICK_CHOICE, json_bytes(info))
+    save(design_constraint_diagram(study, choice.design, label="chosen design"),
+         out / "constraint_diagram")
+    return out
+
+
+def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str:
+    """The terminal summary of a pick: the design, its objectives, binding constraints,
+    runners-up and the caution."""
+    d = choice.design
+    lines = [f"study {study.name}: picked by {choice.describe()}",
+             f"  flap {d['flap']}, wing loading {d['wing_loading_N_m2']:.0f} N/m2, "
+             f"{study.loading_column} {d[study.loading_column]:.4g}, aspect ratio "
+             f"{d['aspect_ratio']:.2f}, takeoff mass {d['takeoff_mass_kg']:.0f} kg"]
+    for c in study.objective_columns():
+        name, unit = short_and_unit(c)
+        lines.append(f"  {name}: {d[c]:.4g} {unit}".rstrip())
+    bind = sheet.binding_constraints(study, d)
+    lines.append("  binding constraints: " + (", ".join(bind) if bind else "none within 1 %"))
+    if len(runners):
+        lines.append("  runners-up:")
+        for _, r in runners.iterrows():
+            lines.append(f"    {r['rank']}. {r['flap']}: {r['trade']}")
+    if out is not None:
+        lines.append(f"wrote {out}/ (design.csv, design.md, constraint_diagram.png/.svg, "
+                     "runners_up.csv, choice.json)")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def write_flaps(run: Run, table, fronts, force=False) -> Path:
+    """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
+    unless ``force``)."""
+    from .plots import flap_fronts
+    out = run.run_dir / names.FLAPS_DIR
+    if out.exists() and any(out.iterdir()) and not force:
+        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
+                          "flap comparison in it)")
+    out.mkdir(exist_ok=True)
+    write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
+    write_atomic(out / "flaps.md", sheet.flaps_markdown(run.study, table).encode())
+    save(flap_fronts(run.study, fronts, table), out / "flaps")
+    return out
+
+
+def flaps_summary(study, table, out=None) -> str:
+    """The terminal summary of the flap comparison, with the caution."""
+    lines = [f"study {study.name}: flap options compared under identical constraints and "
+             "budget (one NSGA-II each)", sheet.flaps_text_table(study, table)]
+    if out is not None:
+        lines.append(f"wrote {out}/ (flaps.csv, flaps.md, flaps.png/.svg)")
+    lines.append(CAUTION)
+    return "\n".join(lines)
