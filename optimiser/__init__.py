@@ -5,6 +5,7 @@ Public API (each name is the implementation itself, loaded on first use so that
 
 - :func:`load_study`, :func:`evaluate`, :data:`CAUTION` — a study and the sizing of designs;
 - :func:`optimise`, :func:`resume`, :func:`load_run` — runs and their folders;
+  :func:`write_plots` — a run's figures (pass ``plots=optimiser.write_plots`` to a run);
 - :func:`choose`, :func:`compare_flaps` — one compromise from a front, the flap options;
 - :func:`monte_carlo` — robustness of a design; :func:`load_campaign`, :func:`run_campaign`;
 - :class:`OptimiserError` — the base of every error a user can fix (one-line message).
@@ -23,6 +24,7 @@ _LAZY = {
     "monte_carlo": "robust",
     "load_campaign": "campaign_file", "run_campaign": "campaign",
     "OptimiserError": "errors", "StudyError": "errors",
+    "write_plots": "report.plots",
 }
 
 
@@ -42,4 +44,4 @@ def __dir__():
 
 __all__ = ["CAUTION", "OptimiserError", "StudyError", "choose", "compare_flaps", "evaluate",
            "load_campaign", "load_run", "load_study", "monte_carlo", "optimise", "resume",
-           "run_campaign", "__version__"]
+           "run_campaign", "write_plots", "__version__"]

@@ -137,6 +137,7 @@ def _rejoin_split_duration(args):
 
 
 def cmd_run(args):
+    from .report.plots import write_plots
     from .runs import optimise, summary_text
     _rejoin_split_duration(args)
     study = _study(args.study)
@@ -144,15 +145,16 @@ def cmd_run(args):
     result = optimise(study, out=args.out, force=args.force, seed=args.seed,
                       generations=args.gens, population=args.pop, evaluations=args.evals,
                       time_budget_s=time_s, stall_generations=args.stall_gens,
-                      checkpoint_every=args.checkpoint_every, progress=True)
+                      checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots)
     print(summary_text(study, result))
     return 0
 
 
 def cmd_resume(args):
+    from .report.plots import write_plots
     from .runs import load_checkpoint, resume, summary_text
     from .study import parse_study
-    result = resume(args.run_dir, progress=True)
+    result = resume(args.run_dir, progress=True, plots=write_plots)
     state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
     study = parse_study(state.study_text, state.study_path)
     print(summary_text(study, result))

@@ -100,11 +100,13 @@ def run_flaps(args) -> int:
                               f"run folder {src}")
         run = load_run(src)
     elif src.is_file():
+        from .report.plots import write_plots
         from .runs import optimise
         from .study import load_study
         study = load_study(src)
         result = optimise(study, out=args.out, force=args.force, seed=args.seed,
-                          generations=args.gens, population=args.pop, progress=True)
+                          generations=args.gens, population=args.pop, progress=True,
+                          plots=write_plots)
         print(result.message)
         run = load_run(result.run_dir)
     else:

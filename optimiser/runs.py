@@ -146,15 +146,17 @@ def _progress_fn(progress):
 
 def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
              evaluations=None, time_budget_s=None, stall_generations=None,
-             checkpoint_every=None, force=False, progress=False, plots=True) -> RunResult:
+             checkpoint_every=None, force=False, progress=False, plots=None) -> RunResult:
     """Search the study's variables for the Pareto front of its objectives.
 
     ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's
     [search] population x generations unless given; ``evaluations`` and ``time_budget_s``
     (wall clock, measured here) stop earlier; ``stall_generations`` stops when the merged
     front's hypervolume has not grown for that many generations. ``progress`` is True (print a
-    line per generation), False, or a callable ``progress(row, state)``. Writes the run folder
-    (``out``, default ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
+    line per generation), False, or a callable ``progress(row, state)``. ``plots`` draws the
+    run's figures into ``plots/``: pass :func:`optimiser.report.plots.write_plots` (or any
+    callable of the same signature); None draws none. Writes the run folder (``out``, default
+    ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
     Raises :class:`RunInterrupted` after saving a checkpoint when interrupted.
     """
     from .study import Study, load_study
@@ -186,9 +188,9 @@ def _drive(study, state, run_dir, progress, plots):
             progress.close()
 
 
-def resume(run_dir, *, progress=False, plots=True) -> RunResult:
+def resume(run_dir, *, progress=False, plots=None) -> RunResult:
     """Continue an interrupted run from its checkpoint to its original budget. With the same
-    seed the result equals that of an uninterrupted run."""
+    seed the result equals that of an uninterrupted run. ``plots`` as for :func:`optimise`."""
     from .study import parse_study
     run_dir = Path(run_dir)
     state = load_checkpoint(run_dir)

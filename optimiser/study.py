@@ -110,7 +110,7 @@ class Study:
     objectives: tuple[str, ...]
     search: dict
     sha256: str
-    uncertainty: dict | None = None  # [uncertainty] table, read by optimiser.robust
+    uncertainty: dict | None = None  # [uncertainty] table, read by optimiser.uncertainty
 
     @property
     def loading_column(self) -> str:
@@ -467,7 +467,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     search = _read_search(rd, raw.get("search", {}))
     uncertainty = None
     if "uncertainty" in raw:
-        from .robust import read_uncertainty
+        from .uncertainty import read_uncertainty
         uncertainty = read_uncertainty(rd.fail, raw["uncertainty"], family)
     return Study(name=name, description=description, path=path, text=text, spec=spec,
                  variables=variables, flaps=flaps, objectives=objectives, search=search,

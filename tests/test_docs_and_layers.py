@@ -132,21 +132,68 @@ def test_schema_units_follow_the_column_names():
     assert set(columns.OBJECTIVES) == {"trip_fuel", "engine_size", "maintenance", "takeoff_mass"}
 
 
-@pytest.mark.parametrize("module", ["decide", "campaign", "robust", "runs", "evaluation",
-                                    "sizing", "columns"])
-def test_layers_below_reporting_draw_no_figure(module):
-    # DEVELOPERS.md layers: reporting owns every figure; nothing below it imports report or
-    # matplotlib (not even inside a function). runs.finish still calls report.write_plots
-    # for the run's own plots (allowed here until the run loop is split).
+LAYERS = (
+    ("leaves", ("physics", "spec", "columns", "errors")),
+    ("loading and sizing", ("study", "uncertainty", "sizing", "solvers")),
+    ("evaluation and search", ("evaluation", "designs", "search", "problem")),
+    ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
+    ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
+                                        "campaign_file")),
+    ("reporting", ("report",)),
+    ("command line", ("cli", "cli_decide", "cli_campaign", "__main__")),
+)
+"""The layer order of DEVELOPERS.md, lowest first: a module imports only its own layer or
+lower ones. ``optimiser/__init__.py`` (the lazy public API) stands above them all."""
+LAYER_OF = {m: i for i, (_, members) in enumerate(LAYERS) for m in members}
+
+
+def _internal_imports(path: Path, root: Path = ROOT) -> set[str]:
+    """Top-level ``optimiser`` subpackages or modules that ``path`` imports, anywhere in it
+    (at the top or inside a function: a lazy import is still a dependency)."""
     import ast
-    tree = ast.parse((ROOT / "optimiser" / f"{module}.py").read_text(encoding="utf-8"))
-    imported = set()
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    package = path.relative_to(root).parts[:-1]          # ('optimiser', 'report'), ...
+    found = set()
     for node in ast.walk(tree):
-        if isinstance(node, ast.ImportFrom):
-            imported.add(("." * node.level) + (node.module or ""))
+        if isinstance(node, ast.ImportFrom) and node.level:
+            target = list(package[:len(package) - node.level + 1])
+            target += node.module.split(".") if node.module else []
+            if len(target) == 1:                          # from . import a, b
+                found.update(a.name for a in node.names)
+            else:
+                found.add(target[1])
+        elif isinstance(node, ast.ImportFrom) and (node.module or "").startswith("optimiser."):
+            found.add(node.module.split(".")[1])
         elif isinstance(node, ast.Import):
-            imported.update(a.name for a in node.names)
-    allowed = {".report.plots"} if module == "runs" else set()
-    bad = {m for m in imported if (m.startswith(".report") or m.startswith("matplotlib"))
-           and m not in allowed}
-    assert bad == set()
+            found.update(a.name.split(".")[1] for a in node.names
+                         if a.name.startswith("optimiser."))
+    return found - {"__version__"}
+
+
+MODULES = sorted(p for p in (ROOT / "optimiser").rglob("*.py")
+                 if p != ROOT / "optimiser" / "__init__.py")
+
+
+def test_every_module_has_a_layer():
+    tops = {p.relative_to(ROOT / "optimiser").parts[0].removesuffix(".py") for p in MODULES}
+    assert tops - set(LAYER_OF) == set()
+
+
+@pytest.mark.parametrize("path", MODULES, ids=lambda p: str(p.relative_to(ROOT)))
+def test_no_import_points_up_the_layers(path):
+    # DEVELOPERS.md: physics <- sizing <- evaluation/search <- runs <- decide/campaign <-
+    # report <- cli; a backward import (even a lazy one inside a function) fails here
+    me = path.relative_to(ROOT / "optimiser").parts[0].removesuffix(".py")
+    upward = {dep: LAYERS[LAYER_OF[dep]][0] for dep in _internal_imports(path)
+              if LAYER_OF.get(dep, -1) > LAYER_OF[me]}
+    assert upward == {}, f"{LAYERS[LAYER_OF[me]][0]} module imports from above: {upward}"
+
+
+def test_the_layer_check_catches_a_backward_import(tmp_path):
+    # the check itself must see a lazy backward import (a probe module written here)
+    probe = tmp_path / "optimiser" / "sizing" / "_layer_probe.py"
+    probe.parent.mkdir(parents=True)
+    probe.write_text("import numpy\nfrom . import stages_x\nfrom ..physics import atmosphere\n"
+                     "def f():\n    from ..report.plots import write_plots\n"
+                     "    import optimiser.cli\n    return write_plots\n")
+    assert _internal_imports(probe, tmp_path) == {"sizing", "physics", "report", "cli"}

@@ -20,7 +20,7 @@ IMPLEMENTATIONS = {
     "choose": "optimiser.decide", "compare_flaps": "optimiser.flaps",
     "monte_carlo": "optimiser.robust", "load_campaign": "optimiser.campaign_file",
     "run_campaign": "optimiser.campaign", "OptimiserError": "optimiser.errors",
-    "StudyError": "optimiser.errors",
+    "StudyError": "optimiser.errors", "write_plots": "optimiser.report.plots",
 }
 
 

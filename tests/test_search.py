@@ -23,7 +23,7 @@ TINY = dict(population=16, generations=6)
 @pytest.fixture(scope="module")
 def tiny_run(study, tmp_path_factory):
     out = tmp_path_factory.mktemp("tiny") / "run"
-    return optimiser.optimise(study, out=out, **TINY)
+    return optimiser.optimise(study, out=out, plots=optimiser.write_plots, **TINY)
 
 
 def _dominated_any(F):
