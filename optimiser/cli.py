@@ -186,6 +186,23 @@ def cmd_robust(args):
     return run_robust(args)
 
 
+def cmd_studies(args):
+    from .bundled import copy_bundled, describe_bundled
+    if args.copy is None:
+        if args.folder is not None:
+            raise UserError(f"studies: got folder {args.folder!r} without --copy; expected "
+                            "'optimiser studies --copy NAME [DIR]'")
+        rows = describe_bundled()
+        width = max(len(name) for name, _, _ in rows)
+        for name, kind, description in rows:
+            print(f"{name:<{width}}  {kind:<8}  {description}")
+        print("start your own: optimiser studies --copy NAME [DIR]")
+        return 0
+    for path in copy_bundled(args.copy, args.folder or "."):
+        print(f"wrote {path}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     from . import __version__
     p = argparse.ArgumentParser(prog="optimiser", description=(
@@ -227,6 +244,13 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")
     s.add_argument("run_dir", metavar="RUN_DIR", help="the run folder")
     s.set_defaults(func=cmd_resume)
+    b = sub.add_parser("studies", help="list the bundled demo studies, or copy one (with its "
+                       "sample designs, or a campaign with its base study) as the start of "
+                       "your own")
+    b.add_argument("--copy", metavar="NAME", help="bundled study or campaign to copy")
+    b.add_argument("folder", nargs="?", metavar="DIR", help="folder to copy into (default: "
+                   "the current folder); an existing file is never replaced")
+    b.set_defaults(func=cmd_studies)
     from .cli_decide import add_parsers
     add_parsers(sub, cmd_pick, cmd_flaps, cmd_report)
     from .cli_campaign import add_robust_parser, add_sweep_parser

@@ -580,14 +580,10 @@ def load_study(path) -> Study:
 
 
 def bundled_study_path(name: str | None = None) -> Path:
-    """Path of a bundled demo study (the default study when ``name`` is None)."""
-    package = Path(__file__).resolve().parent
-    for folder in (package.parent / "problems", package / "data"):
-        candidate = folder / f"{name or DEFAULT_STUDY}.toml"
-        if candidate.exists():
-            return candidate
-    raise StudyError(f"no bundled study named {name or DEFAULT_STUDY!r}; expected a file in "
-                     f"{package.parent / 'problems'}")
+    """Path of a bundled demo study (the default study when ``name`` is None); see
+    :mod:`optimiser.bundled`."""
+    from .bundled import bundled_path
+    return bundled_path(name or DEFAULT_STUDY)
 
 
 DEFAULT_STUDY = "high_strip_utility"
