@@ -16,7 +16,12 @@ from __future__ import annotations
 from importlib import resources
 from pathlib import Path
 
-from .study import StudyError, tomllib
+from .errors import StudyError
+
+try:  # Python 3.11+
+    import tomllib
+except ModuleNotFoundError:  # pragma: no cover - Python 3.10
+    import tomli as tomllib
 
 BUNDLED_PACKAGE = "optimiser.problems"
 CAMPAIGN_SUFFIX = ".campaign"

@@ -190,7 +190,7 @@ def cmd_studies(args):
     from .bundled import copy_bundled, describe_bundled
     if args.copy is None:
         if args.folder is not None:
-            raise UserError(f"studies: got folder {args.folder!r} without --copy; expected "
+            raise UsageError(f"studies: got folder {args.folder!r} without --copy; expected "
                             "'optimiser studies --copy NAME [DIR]'")
         rows = describe_bundled()
         width = max(len(name) for name, _, _ in rows)

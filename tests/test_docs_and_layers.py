@@ -133,7 +133,7 @@ def test_schema_units_follow_the_column_names():
 
 
 LAYERS = (
-    ("leaves", ("physics", "spec", "columns", "errors")),
+    ("leaves", ("physics", "spec", "columns", "errors", "bundled")),
     ("loading and sizing", ("study", "uncertainty", "sizing", "solvers")),
     ("evaluation and search", ("evaluation", "designs", "search", "problem")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),

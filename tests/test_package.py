@@ -14,7 +14,7 @@ import pytest
 
 import optimiser
 from optimiser.bundled import bundled_folder, bundled_names, bundled_path, companion_files
-from optimiser.campaign import load_campaign
+from optimiser.campaign_file import load_campaign
 from optimiser.study import DEFAULT_STUDY, StudyError, load_study, tomllib
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -138,7 +138,7 @@ def test_studies_folder_without_copy_and_unknown_name_exit_2(tmp_path):
 
 
 def test_version_is_one_value_metadata_cli_and_run_json():
-    from optimiser.runs import versions
+    from optimiser.runfolder.runinfo import versions
     assert metadata.version("optimiser") == optimiser.__version__
     out = cli("--version", cwd=ROOT)
     assert out.stdout.strip() == f"optimiser {optimiser.__version__}"
