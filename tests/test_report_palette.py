@@ -5,7 +5,7 @@ Colours today are matplotlib's "tab10" cycle (its published hex values: matplotl
 
 import matplotlib.colors as mcolors
 
-from optimiser.report import figures, html, palette
+from optimiser.report import figures, page, palette
 
 TAB10_FIRST = ("#1f77b4", "#ff7f0e", "#2ca02c", "#d62728")  # tab10 entries 0-3
 
@@ -30,9 +30,9 @@ def test_probability_colours_by_threshold():
 
 def test_report_script_takes_its_colours_from_the_palette():
     for colour in palette.REPORT_LINE_COLOURS:
-        assert f"'{colour}'" in html._SCRIPT
-    assert f"fill: '{palette.FEASIBLE_REGION_HEX}'" in html._SCRIPT
-    assert "__REGION" not in html._SCRIPT and "__LINE_COLOURS__" not in html._SCRIPT
+        assert f"'{colour}'" in page.PAGE_SCRIPT
+    assert f"fill: '{palette.FEASIBLE_REGION_HEX}'" in page.PAGE_SCRIPT
+    assert "__REGION" not in page.PAGE_SCRIPT and "__LINE_COLOURS__" not in page.PAGE_SCRIPT
 
 
 def test_save_writes_png_and_svg_and_closes(tmp_path):
