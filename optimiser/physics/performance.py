@@ -441,6 +441,11 @@ def part23_aeo_climb_gradient_min(takeoff_mass, family):
     the performance-based 14 CFR 23.2120 that replaced them leaves the numbers to means of
     compliance, and the consensus means of compliance carry them forward. The applicable
     authority decides which numbers apply. Seaplanes (6.7 %, 23.65(a)) are not covered.
+    Conditions (rule text from memory): (a) at sea level, at most maximum continuous power on
+    each engine, gear retracted, takeoff flaps, at least 1.2 V_S1 (and 1.1 V_MC for twins);
+    (b) takeoff power on each engine, gear extended unless it retracts in 7 s or less, takeoff
+    flaps, the same speed. Commuter-category airplanes have their own takeoff climb rules
+    (23.67(c)), not covered here.
 
     References
     ----------
@@ -665,8 +670,9 @@ def best_rate_of_climb(thrust_at, weight, wing_loading, density, cd0, k, v_low, 
     def rate(v):
         return v * (thrust_at(v) / w - drag_to_weight(v, wing_loading, density, cd0, k))
 
-    v_best, roc = maximise_on_bracket(rate, np.broadcast_to(v_low, np.shape(w)),
-                                      np.broadcast_to(v_high, np.shape(w)), iterations)
+    low, high, _ = np.broadcast_arrays(np.asarray(v_low, dtype=float),
+                                       np.asarray(v_high, dtype=float), w)
+    v_best, roc = maximise_on_bracket(rate, low, high, iterations)
     return roc, v_best
 
 

@@ -236,6 +236,10 @@ def test_best_rate_of_climb_at_the_floor_speed():
     v_mp = float(perf.minimum_power_speed(ws, rho, cd0, k))
     roc, v = perf.best_rate_of_climb(lambda s: ep / s, w, ws, rho, cd0, k, 1.5 * v_mp, 3 * v_mp)
     assert float(v) == pytest.approx(1.5 * v_mp, rel=1e-9)
+    # one weight, a batch of brackets: the result has the brackets' shape
+    roc2, v2 = perf.best_rate_of_climb(lambda s: ep / s, w, ws, rho, cd0, k,
+                                       np.array([0.5, 1.5]) * v_mp, np.array([3.0, 3.0]) * v_mp)
+    assert_allclose(v2, [v_mp, 1.5 * v_mp], rtol=1e-6)
 
 
 def test_maximise_on_bracket_parabola():
