@@ -49,7 +49,9 @@ def _mass_columns(spec: AircraftSpec, sized) -> dict:
     rated = ap.engines.rated
     if spec.propulsion.family == "turbofan":
         out["engine_thrust_kN"] = rated / 1e3
-        out["static_thrust_N"] = rated
+        # static thrust at the departure airfield: the sea-level rating lapsed to its
+        # pressure and temperature at zero speed (the ground roll starts from the same)
+        out["static_thrust_N"] = sized.takeoff.engines.thrust(np.zeros_like(rated), 1.0)
     else:
         out["engine_power_kW"] = rated / 1e3
         out["propeller_diameter_m"] = ap.engines.propeller_diameter_m
