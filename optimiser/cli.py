@@ -99,6 +99,8 @@ def cmd_check(args):
     for v in study.variables:
         print(f"  {v.column}: {v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
     print(f"  objectives: {', '.join(study.objectives)}")
+    for name, reason in sp.requirements.skip_checks:
+        print(f"  check {name} switched off: {reason}")
     print("study is valid")
     print(CAUTION)
     return 0

@@ -369,6 +369,10 @@ WET_RUNWAY_FACTOR = 1.15
 of the dry requirement of 121.195(b) (the same 115 % in 135.385(d) and, from memory, in
 CAT.POL.A.235 of the European rules) [-]."""
 
+WET_RUNWAY_DRY_SURFACE = {"paved_wet": "paved_dry"}
+"""Wet runway surfaces (keys of :data:`RUNWAY_SURFACES`) and the dry surface whose braking
+gives the dry landing distance that the 115 % of 14 CFR 121.195(d) multiplies."""
+
 
 def landing_field_length_required(landing_distance, rule="transport", wet=False,
                                   operator_applies_dispatch_factor=False):
