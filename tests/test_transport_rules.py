@@ -177,3 +177,15 @@ def test_skip_checks_errors_name_the_key(line, words):
     assert "\n" not in message
     for w in words:
         assert w in message
+
+
+def test_constraint_diagram_grid_draws_landing_at_the_required_length():
+    # the diagram contours margin_landing_field = 0 over a grid of sized designs, so its line
+    # is where the landing distance is 60 % of the runway (14 CFR 121.195(b))
+    from optimiser.report.plots import constraint_grid
+    study, f = _frame("light_twin_jet")
+    _, _, grid = constraint_grid(study, f.iloc[0], n=12)
+    field = study.spec.destination.field_length_m
+    np.testing.assert_allclose(grid["margin_landing_field"],
+                               1.0 - grid["landing_distance_m"] / 0.6 / field, rtol=1e-12)
+    assert (grid["margin_landing_field"] < 0).any() and (grid["margin_landing_field"] > 0).any()
