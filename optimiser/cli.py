@@ -12,6 +12,7 @@ import sys
 from pathlib import Path
 
 from .errors import UsageError, OptimiserError, RunInterrupted
+from .runstate import STALL_TOLERANCE
 
 EXIT_USAGE = 2
 EXIT_INTERRUPTED = 130
@@ -98,6 +99,8 @@ def cmd_check(args):
     for v in study.variables:
         print(f"  {v.column}: {v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
     print(f"  objectives: {', '.join(study.objectives)}")
+    for name, reason in sp.requirements.skip_checks:
+        print(f"  check {name} switched off: {reason}")
     print("study is valid")
     print(CAUTION)
     return 0
@@ -145,7 +148,8 @@ def cmd_run(args):
     result = optimise(study, out=args.out, force=args.force, seed=args.seed,
                       generations=args.gens, population=args.pop, evaluations=args.evals,
                       time_budget_s=time_s, stall_generations=args.stall_gens,
-                      checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots)
+                      checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots,
+                      stall_tolerance=args.stall_tol)
     print(summary_text(study, result))
     return 0
 
@@ -236,7 +240,11 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--time", help="wall-clock budget: seconds, or a number with a unit (s, min, h), "
                    "e.g. 90s, 5min, '5 min' (quoted), 45m, 8h, 1h30m")
     r.add_argument("--stall-gens", type=int, dest="stall_gens", help="stop when the front's "
-                   "hypervolume has not grown for this many generations")
+                   "hypervolume has not grown by more than --stall-tol for this many "
+                   "generations")
+    r.add_argument("--stall-tol", type=float, dest="stall_tol", default=None,
+                   help="relative hypervolume growth that counts as progress for --stall-gens "
+                   f"(default {STALL_TOLERANCE:g})")
     r.add_argument("--checkpoint-every", type=int, default=None, dest="checkpoint_every",
                    help="generations between checkpoints (default: one every 30 s of "
                         "running)")

@@ -49,9 +49,13 @@ def _least_table(study, least: DesignSet):
     return table
 
 
-def _no_front_message(state) -> str:
-    """Why nothing feasible was found, and where the closest designs are."""
-    worst = min(state.best_margin, key=state.best_margin.get)
+def _no_front_message(state, least=None) -> str:
+    """Why nothing feasible was found, and where the closest designs are.
+
+    ``least`` is the least-violating table (row 0 the closest to feasible): the constraint
+    named is the one that design misses worst, with its margin there, so the figure quoted is
+    always negative. (Each constraint's best margin on its own can be positive while no
+    design meets them all at once, which would read as a contradiction.)"""
     closure = state.best_margin.get("mass_closure", 0.0)
     if closure < 0:  # not one design closed: the mission itself is out of reach
         return (f"no feasible design found in {state.n_evaluations} evaluations: the "
@@ -60,9 +64,23 @@ def _no_front_message(state) -> str:
                 f"(mass_closure, best margin reached {closure:+.1%}); shorten the "
                 f"range, lighten the payload or widen the bounds; the designs closest "
                 f"to feasible are in {names.LEAST_VIOLATING}")
+    missed = {}
+    if least is not None and len(least):
+        row = least.iloc[0]
+        missed = {c[len("margin_"):]: float(row[c]) for c in least.columns
+                  if c.startswith("margin_") and float(row[c]) < 0.0}
+    if not missed:  # no table to read: the best margin of each constraint on its own
+        worst = min(state.best_margin, key=state.best_margin.get)
+        return (f"no feasible design found in {state.n_evaluations} evaluations: the "
+                "requirements cannot all be met together within the variable bounds "
+                f"(hardest: {worst}); the designs closest to feasible are in "
+                f"{names.LEAST_VIOLATING}")
+    worst = min(missed, key=missed.get)
+    others = len(missed) - 1
+    also = f" and {others} other constraint(s)" if others else ""
     return (f"no feasible design found in {state.n_evaluations} evaluations: the "
-            f"requirements cannot all be met within the variable bounds (hardest: "
-            f"{worst}, best margin reached {state.best_margin[worst]:+.1%}); the "
+            "requirements cannot all be met together within the variable bounds; the design "
+            f"closest to feasible still misses {worst} (margin {missed[worst]:+.1%}){also}; the "
             f"designs closest to feasible are in {names.LEAST_VIOLATING}")
 
 
@@ -86,7 +104,7 @@ def _write_tables(study, state: RunState, run_dir: Path):
     front = pd.DataFrame(columns=list(least.columns[1:]))
     files.write_atomic(run_dir / names.LEAST_VIOLATING, files.csv_bytes(least))
     (run_dir / names.FRONT).unlink(missing_ok=True)
-    return front, least, _no_front_message(state)
+    return front, least, _no_front_message(state, least)
 
 
 def run_info(study, state: RunState, front, history, message, ended_utc) -> dict:
@@ -103,6 +121,7 @@ def run_info(study, state: RunState, front, history, message, ended_utc) -> dict
                    "flap_options": list(study.flaps),
                    "evaluations": b.evaluations, "time_s": b.time_s,
                    "stall_generations": b.stall_generations,
+                   "stall_tolerance": getattr(b, "stall_tolerance", None),
                    "checkpoint_every": b.checkpoint_every,
                    "checkpoint_interval_s": (CHECKPOINT_INTERVAL_S if b.checkpoint_every is None
                                              else None)},

@@ -34,7 +34,7 @@ from .outputs import finish, summary_text
 from .runfolder import archive, files, names, place
 from .runfolder.checkpoint import checkpoint_bytes, load_checkpoint, save_checkpoint
 from .runfolder.runinfo import is_finished
-from .runstate import Budget, DesignSet, RunResult, RunState
+from .runstate import STALL_TOLERANCE, Budget, DesignSet, RunResult, RunState
 
 __all__ = ["Budget", "DesignSet", "RunError", "RunInterrupted", "RunResult", "RunState",
            "estimate_output_bytes", "finish", "load_checkpoint", "optimise", "resume",
@@ -99,7 +99,8 @@ def _check_positive(name, value, integer=True):
 
 
 def start(study, *, out=None, force=False, seed=None, generations=None, population=None,
-          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=None):
+          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=None,
+          stall_tolerance=None):
     """Validate the options, create the run folder and the initial state."""
     from .search import make_algorithms, plan_budget, reference_scales
     _check_positive("--gens", generations)
@@ -108,6 +109,7 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     _check_positive("--time", time_budget_s, integer=False)
     _check_positive("--stall-gens", stall_generations)
     _check_positive("--checkpoint-every", checkpoint_every)
+    _check_positive("--stall-tol", stall_tolerance, integer=False)
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, (int, np.integer))
                              or not 0 <= seed < 2 ** 32):
         raise RunError(f"--seed: got {seed!r}; expected a whole number from 0 to {2**32 - 1}")
@@ -122,7 +124,9 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     per, run_gens = plan_budget(len(study.flaps), pop, gens)
     budget = Budget(generations=run_gens, population=pop, option_population=per,
                     evaluations=evaluations, time_s=time_budget_s,
-                    stall_generations=stall_generations, checkpoint_every=checkpoint_every)
+                    stall_generations=stall_generations, checkpoint_every=checkpoint_every,
+                    stall_tolerance=STALL_TOLERANCE if stall_tolerance is None
+                    else float(stall_tolerance))
     state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
                      budget=budget, algos=make_algorithms(study, seed, per, run_gens),
                      scales=reference_scales(study), started_utc=files.utc_now())
@@ -146,17 +150,20 @@ def _progress_fn(progress):
 
 def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
              evaluations=None, time_budget_s=None, stall_generations=None,
-             checkpoint_every=None, force=False, progress=False, plots=None) -> RunResult:
+             checkpoint_every=None, force=False, progress=False, plots=None,
+             stall_tolerance=None) -> RunResult:
     """Search the study's variables for the Pareto front of its objectives.
 
     ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's
     [search] population x generations unless given; ``evaluations`` and ``time_budget_s``
     (wall clock, measured here) stop earlier; ``stall_generations`` stops when the merged
-    front's hypervolume has not grown for that many generations. ``progress`` is True (print a
-    line per generation), False, or a callable ``progress(row, state)``. ``plots`` draws the
-    run's figures into ``plots/``: pass :func:`optimiser.report.plots.write_plots` (or any
-    callable of the same signature); None draws none. Writes the run folder (``out``, default
-    ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
+    front's hypervolume has not grown by more than ``stall_tolerance`` (relative, default
+    :data:`~optimiser.runstate.STALL_TOLERANCE`) for that many generations. ``progress`` is
+    True (print a line per generation), False, or a callable ``progress(row, state)``.
+    ``plots`` draws the run's figures into ``plots/``: pass
+    :func:`optimiser.report.plots.write_plots` (or any callable of the same signature); None
+    draws none. Writes the run folder (``out``, default ``results/<study>-<UTC time>``) and
+    returns a :class:`RunResult`.
     Raises :class:`RunInterrupted` after saving a checkpoint when interrupted.
     """
     from .study import Study, load_study
@@ -164,7 +171,7 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
     state, run_dir = start(study, out=out, force=force, seed=seed, generations=generations,
                            population=population, evaluations=evaluations,
                            time_budget_s=time_budget_s, stall_generations=stall_generations,
-                           checkpoint_every=checkpoint_every)
+                           checkpoint_every=checkpoint_every, stall_tolerance=stall_tolerance)
     return _drive(study, state, run_dir, _progress_fn(progress), plots)
 
 

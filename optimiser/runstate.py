@@ -30,6 +30,12 @@ class RunResult:
                 f"termination={self.termination!r}, run_dir={str(self.run_dir)!r})")
 
 
+STALL_TOLERANCE = 1e-4
+"""Default relative growth of the front's hypervolume that counts as progress for a stall
+stop (common practice for a convergence test: well above rounding, well below a step that a
+user would notice on the front)."""
+
+
 @dataclass
 class Budget:
     generations: int
@@ -39,6 +45,9 @@ class Budget:
     time_s: float | None = None
     stall_generations: int | None = None
     checkpoint_every: int | None = None  # generations; None: every CHECKPOINT_INTERVAL_S
+    # relative growth of the front's hypervolume that counts as progress for
+    # stall_generations (a front that only creeps, by rounding-level additions, has stalled)
+    stall_tolerance: float = STALL_TOLERANCE
 
 
 @dataclass

@@ -179,6 +179,10 @@ class Requirements:
     max_takeoff_mass_kg: float | None = _f(None, unit="kg", lo=10.0, hi=500000.0,
                                            doc="upper limit of takeoff mass; default from the "
                                            "certification basis (Part 23 weight limits)")
+    landing_dispatch_factor: bool = _f(False, doc="Part 23: the operator applies the 60 % "
+                                       "landing rule (14 CFR 135.385(b)); Part 25 always does")
+    skip_checks: tuple[tuple[str, str], ...] = _f((), doc="Part 25 climb checks switched off, "
+                                                  "a table name = \"reason\"")
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -240,6 +244,7 @@ class Certification:
     aeo_climb_altitude_m: float
     balanced_field: bool
     field_length_factor: float
+    landing_rule: str = "part23"  # key of performance.LANDING_DISTANCE_SHARE
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -275,6 +275,11 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
         meta = f.metadata
         if (section, key) in _CHOICES:
             values[f.name] = rd.choice(where, value, _CHOICES[(section, key)])
+        elif f.type in ("bool", bool):
+            values[f.name] = value if isinstance(value, bool) else \
+                rd.fail(where, f"got {value!r}; expected true or false")
+        elif f.name == "skip_checks":
+            values[f.name] = _skip_checks(rd, where, value)
         elif f.type in ("str", str):
             values[f.name] = rd.choice(where, value, (value,)) if isinstance(value, str) else \
                 rd.fail(where, f"got {value!r}; expected a string")
@@ -295,6 +300,26 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
                 rd.fail(f"[{section}]", f"missing required key "
                         f"{toml_key(f.name, unit)!r}{hint}")
     return cls(**values)
+
+
+SKIPPABLE_CHECKS = ("first_segment_climb", "final_takeoff_climb", "approach_climb",
+                    "landing_climb")
+"""Constraints a study may switch off with a reason (``[requirements] skip_checks``)."""
+
+
+def _skip_checks(rd: _Reader, where: str, value) -> tuple[tuple[str, str], ...]:
+    """``{ approach_climb = "reason" }`` -> (("approach_climb", "reason"),), checked."""
+    if not isinstance(value, dict):
+        rd.fail(where, f"got {value!r}; expected a table such as "
+                '{ approach_climb = "reason it does not apply" }')
+    for name, reason in value.items():
+        if name not in SKIPPABLE_CHECKS:
+            rd.fail(f"{where}.{name}", f"unknown check {name!r}{_suggest(name, SKIPPABLE_CHECKS)}"
+                    "; expected one of: " + ", ".join(SKIPPABLE_CHECKS))
+        if not isinstance(reason, str) or not reason.strip():
+            rd.fail(f"{where}.{name}", f"got {reason!r}; expected a non-empty string giving "
+                    "the reason the check is switched off")
+    return tuple((name, reason.strip()) for name, reason in value.items())
 
 
 def _bounds(rd: _Reader, key: str, raw, unit, lo_ok, hi_ok) -> tuple[float, float]:
@@ -434,9 +459,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                 f"expected at most {cert_numbers['max_takeoff_mass_kg']:.0f} kg, the limit of "
                 f"certification {basis!r} for this airplane")
     dep = _airfield(rd, "departure", raw["departure"], cert_numbers["obstacle_height_m"])
-    dst = _airfield(rd, "destination", raw["destination"], performance.OBSTACLE_HEIGHT["part23"]) \
-        if "destination" in raw else replace(dep, obstacle_height_m=performance.OBSTACLE_HEIGHT[
-            "part23"])
+    landing_rule = "transport" if basis == "part25" else "part23"
+    dispatch = landing_rule != "part23" or req.landing_dispatch_factor
+    dst = _airfield(rd, "destination", raw["destination"], performance.OBSTACLE_HEIGHT["part23"],
+                    dispatch) if "destination" in raw else _airfield(
+        rd, "departure", {k: v for k, v in raw["departure"].items() if k != "obstacle_height"},
+        performance.OBSTACLE_HEIGHT["part23"], dispatch)  # the departure, landing back
     mach = mis.cruise_speed_m_s / float(atmosphere.speed_of_sound(atmosphere.isa_temperature(
         mis.cruise_altitude_m, mis.cruise_temperature_offset_K)))
     if mach > MAX_CRUISE_MACH:
@@ -451,7 +479,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         oei_climb_altitude_m=cert_numbers["oei_climb_altitude_m"],
         oei_flaps_takeoff=cert_numbers["oei_flaps_takeoff"],
         aeo_climb_altitude_m=0.0, balanced_field=cert_numbers["balanced_field"],
-        field_length_factor=cert_numbers["field_length_factor"])
+        field_length_factor=cert_numbers["field_length_factor"], landing_rule=landing_rule)
 
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
@@ -475,9 +503,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                  uncertainty=uncertainty)
 
 
-def _airfield(rd, section, raw, default_obstacle):
+def _airfield(rd, section, raw, default_obstacle, dispatch_landing=False):
     af = _read_section(rd, section, raw, S.Airfield, {})
     roll, brake = performance.RUNWAY_SURFACES[af.runway]
+    if dispatch_landing and af.runway in performance.WET_RUNWAY_DRY_SURFACE:
+        # the dispatch rules apply their wet 115 % (121.195(d)) to the dry distance
+        brake = performance.RUNWAY_SURFACES[performance.WET_RUNWAY_DRY_SURFACE[af.runway]][1]
     return replace(af,
                    obstacle_height_m=default_obstacle if af.obstacle_height_m is None
                    else af.obstacle_height_m,

@@ -61,13 +61,18 @@ CONSTRAINTS = {
     "high_strip_utility": ["mass_closure", "takeoff_mass_limit", "runway_acceleration",
                            "stall_speed", "takeoff_field", "landing_field", "climb_rate",
                            "climb_gradient", "cruise_speed", "service_ceiling"],
-    # Part 25 twin: no Part 23 gradient or weight limit, one-engine-out second segment instead
+    # Part 25 twin: no Part 23 gradient or weight limit; the one-engine-out second segment and
+    # the first-segment, final-takeoff, approach (25.121(a), (c), (d)) and landing (25.119)
+    # climbs instead
     "twin_turboprop_commuter": ["mass_closure", "runway_acceleration", "stall_speed",
                                 "takeoff_field", "landing_field", "climb_rate",
-                                "oei_climb_gradient", "cruise_speed", "service_ceiling"],
+                                "oei_climb_gradient", "first_segment_climb",
+                                "final_takeoff_climb", "approach_climb", "landing_climb",
+                                "cruise_speed", "service_ceiling"],
     "light_twin_jet": ["mass_closure", "runway_acceleration", "stall_speed", "takeoff_field",
-                       "landing_field", "climb_rate", "oei_climb_gradient", "cruise_speed",
-                       "service_ceiling"],
+                       "landing_field", "climb_rate", "oei_climb_gradient",
+                       "first_segment_climb", "final_takeoff_climb", "approach_climb",
+                       "landing_climb", "cruise_speed", "service_ceiling"],
 }
 
 

@@ -52,9 +52,13 @@ def oswald_nita_scholz2012(aspect_ratio, taper_ratio, sweep_quarter_chord, fusel
     f = 0.0524 * x**4 - 0.15 * x**3 + 0.1659 * x**2 - 0.0706 * x + 0.0119
     e_theo = 1.0 / (1.0 + f * a)
     k_ef = oswald_fuselage_factor("nita_scholz2012", fuselage_span_ratio)
+    return e_theo * k_ef * k_ed0 * _mach_factor_nita_scholz(mach)
+
+
+def _mach_factor_nita_scholz(mach):
+    """k_eM of Nita & Scholz: 1 for M <= 0.3, else 1 - 0.001521 (M/0.3 - 1)^10.82 [-]."""
     m = np.asarray(mach, dtype=float)
-    k_em = np.where(m <= 0.3, 1.0, 1.0 - 0.001521 * np.maximum(m / 0.3 - 1.0, 0.0) ** 10.82)
-    return e_theo * k_ef * k_ed0 * k_em
+    return np.where(m <= 0.3, 1.0, 1.0 - 0.001521 * np.maximum(m / 0.3 - 1.0, 0.0) ** 10.82)
 
 
 def oswald_obert2009(aspect_ratio):
@@ -73,6 +77,48 @@ OSWALD_METHODS = {
     "obert2009": "Obert (2009), Aerodynamic Design of Transport Aircraft, p. 542; unswept to moderate sweep",
 }
 """Registry of Oswald-factor methods: key -> citation and validity."""
+
+
+OSWALD_MACH_RANGE = {"nita_scholz2012": (0.0, 0.8), "obert2009": (0.0, 0.7)}
+"""Flight Mach range [-] in which each Oswald method is used here.
+
+``nita_scholz2012``: its compressibility factor k_eM was fitted to data reaching about
+M 0.8 (from memory); above, k_eM falls steeply and reaches zero at M = 0.3 (1 +
+(1/0.001521)^(1/10.82)) = 0.8465, so the method is not extrapolated. ``obert2009``: no Mach
+term; the complete-aircraft value is used up to M 0.7, below the drag rise of the wings it
+was given for (common practice)."""
+
+
+def oswald_mach_factor(method, mach):
+    """The Mach-dependent factor of ``method``'s Oswald factor [-], per point.
+
+    e(M) = e(M <= 0.3) x oswald_mach_factor(method, M): Nita & Scholz's k_eM (see
+    :func:`oswald_nita_scholz2012`); Obert's e has no Mach term (1). Not clipped: use
+    :func:`oswald_mach_valid` to flag points outside the method's range.
+
+    Parameters
+    ----------
+    method : str
+        A key of :data:`OSWALD_METHODS`.
+    mach : array_like
+        Flight Mach number of each point [-].
+    """
+    if method == "nita_scholz2012":
+        return _mach_factor_nita_scholz(mach)
+    if method == "obert2009":
+        return np.ones_like(np.asarray(mach, dtype=float))
+    raise ValueError(f"unknown Oswald method {method!r}; choose one of: "
+                     + ", ".join(repr(k) for k in OSWALD_METHODS))
+
+
+def oswald_mach_valid(method, mach):
+    """True where ``mach`` [-] lies inside ``method``'s range (:data:`OSWALD_MACH_RANGE`)."""
+    if method not in OSWALD_MACH_RANGE:
+        raise ValueError(f"unknown Oswald method {method!r}; choose one of: "
+                         + ", ".join(repr(k) for k in OSWALD_METHODS))
+    low, high = OSWALD_MACH_RANGE[method]
+    m = np.asarray(mach, dtype=float)
+    return (m >= low) & (m <= high)
 
 
 def oswald_fuselage_factor(method, fuselage_span_ratio):

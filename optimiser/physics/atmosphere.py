@@ -92,3 +92,55 @@ def _density_unchecked(h, delta_isa):
                  P0 * (t_std / T0) ** (-G0 / (_LAPSE * R_AIR)),
                  _P_TROPOPAUSE * np.exp(-G0 * (h - _H_TROPOPAUSE) / (R_AIR * _T_TROPOPAUSE)))
     return p / (R_AIR * (t_std + delta_isa)), p, t_std + delta_isa
+
+
+A0 = float(np.sqrt(GAMMA * R_AIR * T0))
+"""Sea-level standard speed of sound, 340.294 [m s^-1]."""
+
+
+def calibrated_to_true_airspeed(calibrated_airspeed, pressure, density):
+    """True airspeed [m s^-1] from calibrated airspeed, compressible and subsonic.
+
+    Impact pressure from the calibrated airspeed at sea-level standard conditions,
+    q_c = p0 [(1 + 0.2 (V_c / a0)^2)^3.5 - 1]; Mach number from q_c and the static pressure,
+    M = sqrt(5 [(q_c / p + 1)^(2/7) - 1]); V = M sqrt(gamma p / rho) (isentropic
+    St Venant-Wantzel relation for a subsonic pitot-static system).
+
+    Parameters
+    ----------
+    calibrated_airspeed : array_like
+        Calibrated airspeed, below the speed of sound [m s^-1]. An indicated-airspeed limit is
+        taken as calibrated: instrument and position errors are ignored.
+    pressure : array_like
+        Static pressure [Pa].
+    density : array_like
+        Air density [kg m^-3] (with the temperature offset).
+
+    Returns
+    -------
+    ndarray
+        True airspeed [m s^-1].
+
+    Notes
+    -----
+    The equivalent-airspeed approximation V = V_c / sqrt(sigma) (:func:`equivalent_to_true_airspeed`
+    with V_e = V_c) drops the compressibility correction V_c - V_e: it overstates the true
+    airspeed by 0.8 % at 250 kn and 10 000 ft ISA (290.9 kn for 288.7 kn, see the tests).
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Introduction to Flight", McGraw-Hill, ch. 3 (measurement of
+       airspeed, subsonic compressible flow; from memory).
+    """
+    vc = np.asarray(calibrated_airspeed, dtype=float)
+    p = np.asarray(pressure, dtype=float)
+    qc = P0 * ((1.0 + 0.2 * (vc / A0) ** 2) ** 3.5 - 1.0)
+    mach = np.sqrt(5.0 * ((qc / p + 1.0) ** (2.0 / 7.0) - 1.0))
+    return mach * np.sqrt(GAMMA * p / np.asarray(density, dtype=float))
+
+
+def equivalent_to_true_airspeed(equivalent_airspeed, density):
+    """True airspeed [m s^-1] from equivalent airspeed [m s^-1]: V = V_e / sqrt(rho / rho0)
+    (definition of equivalent airspeed, same dynamic pressure)."""
+    return np.asarray(equivalent_airspeed, dtype=float) / np.sqrt(
+        np.asarray(density, dtype=float) / RHO0)

@@ -27,8 +27,9 @@ Sources of the numbers (each field of an entry):
     Largest spacing between hinges or tracks along the span (common practice): a longer flap
     needs more supports than the table's minimum.
 
-Airplane level (Raymer-style simple form, common practice):
-dCLmax = 0.9 dc_lmax (c'/c) (S_flapped / S) cos(Lambda_hinge).
+Airplane level (simple form, common practice):
+dCLmax = 0.9 dc_lmax (c'/c) (S_flapped / S) cos(Lambda_hinge), the hinge-line sweep from
+:func:`hinge_line_sweep`.
 """
 
 from __future__ import annotations
@@ -98,6 +99,49 @@ def clmax_increment_landing(section_cl_increment, chord_extension, span_fraction
     """
     return 0.9 * np.asarray(section_cl_increment, float) * chord_extension * span_fraction \
         * np.cos(hinge_sweep)
+
+
+def sweep_at_chord_fraction(sweep_quarter_chord, aspect_ratio, taper_ratio, chord_fraction):
+    """Sweep [rad] of the line at ``chord_fraction`` x/c of a straight-tapered wing.
+
+    tan(Lambda_x) = tan(Lambda_c/4) - (4 / A) (x - 1/4) (1 - lambda) / (1 + lambda).
+
+    Parameters
+    ----------
+    sweep_quarter_chord : array_like
+        Quarter-chord sweep [rad].
+    aspect_ratio : array_like
+        A = b^2 / S [-].
+    taper_ratio : array_like
+        Tip over root chord, 0 to 1 [-].
+    chord_fraction : array_like
+        Chordwise position of the line, 0 (leading edge) to 1 (trailing edge) [-].
+
+    Notes
+    -----
+    Derived from the trapezoidal planform: each chord line runs straight from root to tip, and
+    the line at x moves aft by x (c_t - c_r) over the semi-span b/2, with c_r - c_t =
+    2 S (1 - lambda) / (b (1 + lambda)); hence the difference of tangents
+    (x - 1/4) 2 (c_t - c_r) / b = -(4/A)(x - 1/4)(1 - lambda)/(1 + lambda). The same relation is
+    given in USAF Stability and Control DATCOM, sec. 2.2.2 (from memory). Tested against the
+    geometry of a trapezoidal wing.
+    """
+    lam = np.asarray(taper_ratio, dtype=float)
+    return np.arctan(np.tan(np.asarray(sweep_quarter_chord, dtype=float))
+                     - 4.0 / np.asarray(aspect_ratio, dtype=float)
+                     * (np.asarray(chord_fraction, dtype=float) - 0.25) * (1.0 - lam) / (1.0 + lam))
+
+
+def hinge_line_sweep(sweep_quarter_chord, aspect_ratio, taper_ratio,
+                     flap_chord_ratio=FLAP_CHORD_RATIO):
+    """Sweep of a trailing-edge flap's hinge line [rad], at x/c = 1 - c_f/c.
+
+    See :func:`sweep_at_chord_fraction` for the parameters; ``flap_chord_ratio`` c_f/c [-]
+    (default :data:`FLAP_CHORD_RATIO`, 0.30, common practice). The hinge is taken at the
+    flap's leading edge, a constant fraction of the local chord along the span.
+    """
+    return sweep_at_chord_fraction(sweep_quarter_chord, aspect_ratio, taper_ratio,
+                                   1.0 - np.asarray(flap_chord_ratio, dtype=float))
 
 
 def parse_high_lift_name(name, flap_catalogue):

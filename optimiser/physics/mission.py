@@ -32,8 +32,8 @@ def breguet_range_propeller(efficiency, sfc_power, lift_to_drag, weight_ratio):
 
     References
     ----------
-    .. [1] Breguet range equation, e.g. D. P. Raymer, "Aircraft Design: A Conceptual
-       Approach", AIAA, eq. 17.28 (from memory).
+    .. [1] Breguet range equation, e.g. J. D. Anderson, "Aircraft Performance and Design",
+       McGraw-Hill, 1999, sec. 5.13 (from memory).
     """
     return efficiency / (G0 * sfc_power) * lift_to_drag * np.log(weight_ratio)
 

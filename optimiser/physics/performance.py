@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import G0
+from . import atmosphere
 
 SERVICE_CEILING_CLIMB_RATE = 0.508
 """Rate of climb that defines the service ceiling, 100 ft/min [m s^-1] (common definition)."""
@@ -352,3 +353,351 @@ def falling_root(f, low, high, f_low, f_high, xtol, max_iterations=60):
     else:
         x[ix] = xi  # not converged in max_iterations: the last point tried
     return x
+
+
+# --- landing field length under the operating rules ---------------------------------------
+
+LANDING_DISTANCE_SHARE = {"transport": 0.6, "commuter": 0.6, "part23": 1.0}
+"""Share of the available runway the landing distance from 50 ft may use [-]:
+``transport`` 60 %, 14 CFR 121.195(b) (turbine-engined transport-category airplanes);
+``commuter`` 60 %, 14 CFR 135.385(b); the European operating rules set the same 60 % for
+commercial transport (EU Air Operations, CAT.POL.A.230, from memory); ``part23`` 100 %: no
+factor in the Part 23 airworthiness rules themselves (an operator who applies the 60 % rule
+passes ``operator_applies_dispatch_factor=True``)."""
+WET_RUNWAY_FACTOR = 1.15
+"""14 CFR 121.195(d): on a wet or slippery runway the effective runway must be at least 115 %
+of the dry requirement of 121.195(b) (the same 115 % in 135.385(d) and, from memory, in
+CAT.POL.A.235 of the European rules) [-]."""
+
+WET_RUNWAY_DRY_SURFACE = {"paved_wet": "paved_dry"}
+"""Wet runway surfaces (keys of :data:`RUNWAY_SURFACES`) and the dry surface whose braking
+gives the dry landing distance that the 115 % of 14 CFR 121.195(d) multiplies."""
+
+
+def landing_field_length_required(landing_distance, rule="transport", wet=False,
+                                  operator_applies_dispatch_factor=False):
+    """Runway length [m] needed for a landing distance under an operating rule.
+
+    L_req = d_land / share x (1.15 where wet), share of :data:`LANDING_DISTANCE_SHARE`.
+
+    Parameters
+    ----------
+    landing_distance : array_like
+        Landing distance from the screen height to a stop on a dry runway [m].
+    rule : {"transport", "commuter", "part23"}
+        Operating and certification basis (see :data:`LANDING_DISTANCE_SHARE`).
+    wet : array_like of bool, default False
+        Wet or slippery runway at the destination, per design or one for all.
+    operator_applies_dispatch_factor : bool, default False
+        Part 23 only: the operator applies the 60 % rule (and then the wet 115 %).
+
+    Returns
+    -------
+    ndarray
+        Required landing field length [m].
+
+    Notes
+    -----
+    The 115 % wet factor belongs to the dispatch rules (121.195(d), 135.385(d)); under Part 23
+    without the dispatch factor it is not applied: compute the landing distance itself with
+    wet-runway braking (:data:`RUNWAY_SURFACES` ``paved_wet``) instead.
+
+    References
+    ----------
+    .. [1] 14 CFR 121.195(b) and (d); 14 CFR 135.385(b) and (d) (from memory for 135.385(d)).
+    """
+    if rule not in LANDING_DISTANCE_SHARE:
+        raise ValueError(f"unknown landing rule {rule!r}; choose one of: "
+                         + ", ".join(repr(k) for k in LANDING_DISTANCE_SHARE))
+    dispatch = rule != "part23" or operator_applies_dispatch_factor
+    share = LANDING_DISTANCE_SHARE["transport"] if dispatch else 1.0
+    wet_factor = np.where(np.asarray(wet, dtype=bool) & dispatch, WET_RUNWAY_FACTOR, 1.0)
+    return np.asarray(landing_distance, dtype=float) / share * wet_factor
+
+
+# --- climb gradients by rule ----------------------------------------------------------------
+
+PART23_RECIPROCATING_MASS_LIMIT = 6000 * 0.45359237
+"""6000 lb (2721.554 kg) of 14 CFR 23.65(a)/(b) (before Amdt 23-64) [kg]."""
+
+
+def part23_aeo_climb_gradient_min(takeoff_mass, family):
+    """All-engines climb gradient required by 14 CFR 23.65 [-], per design.
+
+    8.3 % (23.65(a), landplanes) for reciprocating-engine airplanes of 6000 lb or less;
+    4 % (23.65(b)) for reciprocating-engine airplanes over 6000 lb and for turbine airplanes.
+
+    Parameters
+    ----------
+    takeoff_mass : array_like
+        Maximum takeoff mass [kg].
+    family : {"piston", "turboprop", "turbofan"}
+        Engine family; ``piston`` is reciprocating, the others turbine.
+
+    Returns
+    -------
+    ndarray
+        Minimum gradient of climb [-].
+
+    Notes
+    -----
+    These are the prescriptive numbers of Part 23 before amendment 23-64 (text of Amdt 23-62);
+    the performance-based 14 CFR 23.2120 that replaced them leaves the numbers to means of
+    compliance, and the consensus means of compliance carry them forward. The applicable
+    authority decides which numbers apply. Seaplanes (6.7 %, 23.65(a)) are not covered.
+    Conditions (rule text from memory): (a) at sea level, at most maximum continuous power on
+    each engine, gear retracted, takeoff flaps, at least 1.2 V_S1 (and 1.1 V_MC for twins);
+    (b) takeoff power on each engine, gear extended unless it retracts in 7 s or less, takeoff
+    flaps, the same speed. Commuter-category airplanes have their own takeoff climb rules
+    (23.67(c)), not covered here.
+
+    References
+    ----------
+    .. [1] 14 CFR 23.65(a) and (b), Amdt 23-62 (METHODS.md sec. 4, checked in the rule text).
+    """
+    if family not in ("piston", "turboprop", "turbofan"):
+        raise ValueError(f"unknown engine family {family!r}; choose one of: 'piston', "
+                         "'turboprop', 'turbofan'")
+    m = np.asarray(takeoff_mass, dtype=float)
+    light = (m <= PART23_RECIPROCATING_MASS_LIMIT) & (family == "piston")
+    return np.where(light, PART23_AEO_GRADIENT_RECIPROCATING, PART23_AEO_GRADIENT_TURBINE)
+
+
+PART25_CLIMB_SEGMENTS = {
+    "first_segment": {2: 0.0, 3: 0.003, 4: 0.005},
+    "second_segment": PART25_OEI_SECOND_SEGMENT,
+    "final_takeoff": {2: 0.012, 3: 0.015, 4: 0.017},
+    "approach": {2: 0.021, 3: 0.024, 4: 0.027},
+    "landing": {2: 0.032, 3: 0.032, 4: 0.032},
+}
+"""Part 25 climb gradients by segment and engine count [-] (rule text from memory, agreeing
+with METHODS.md sec. 4 where it is marked checked against the text):
+
+``first_segment``  25.121(a): one engine out, gear down, takeoff flaps, V_LOF, takeoff thrust;
+                   twins "positive" (0.0 here: the gradient must exceed it), 0.3 %, 0.5 %.
+``second_segment`` 25.121(b): gear up, takeoff flaps, V2; 2.4, 2.7, 3.0 %.
+``final_takeoff``  25.121(c): en-route configuration, V_FTO, maximum continuous; 1.2, 1.5, 1.7 %.
+``approach``       25.121(d): one engine out, approach flaps, gear up, at most 1.4 V_SR,
+                   go-around thrust; 2.1, 2.4, 2.7 %.
+``landing``        25.119: all engines, landing configuration, V_REF, the thrust 8 s after
+                   advancing the throttles from flight idle; 3.2 % for any engine count."""
+
+
+def part25_climb_gradient_min(segment, engine_count):
+    """Minimum climb gradient [-] of a Part 25 segment (:data:`PART25_CLIMB_SEGMENTS`).
+
+    Raises ValueError for an unknown segment or an engine count other than 2, 3 or 4.
+    """
+    if segment not in PART25_CLIMB_SEGMENTS:
+        raise ValueError(f"unknown climb segment {segment!r}; choose one of: "
+                         + ", ".join(repr(k) for k in PART25_CLIMB_SEGMENTS))
+    n = int(engine_count)
+    if n not in PART25_CLIMB_SEGMENTS[segment]:
+        raise ValueError(f"part25 climb segments need 2 to 4 engines, got {n}")
+    return PART25_CLIMB_SEGMENTS[segment][n]
+
+
+def climb_gradient_available(thrust, weight, speed, wing_area, density, cd0, k,
+                             cd0_increment=0.0):
+    """Steady climb gradient [-]: sin(gamma) = (T - D) / W.
+
+    D = q S (C_D0 + dC_D0) + K W^2 / (q S), the parabolic polar with the configuration's
+    increments (flaps, gear, windmilling or feathered engine, trim) summed in ``cd0_increment``.
+
+    Parameters
+    ----------
+    thrust : array_like
+        Thrust of the working engines at ``speed`` [N].
+    weight : array_like
+        Weight [N].
+    speed : array_like
+        True airspeed [m s^-1].
+    wing_area : array_like
+        Reference area [m^2].
+    density : array_like
+        Air density [kg m^-3].
+    cd0, k : array_like
+        Clean zero-lift drag coefficient and induced-drag factor [-].
+    cd0_increment : array_like, default 0.0
+        Sum of the configuration's zero-lift drag increments [-].
+
+    Returns
+    -------
+    ndarray
+        sin(gamma) [-]; negative where the airplane cannot hold altitude.
+
+    Notes
+    -----
+    Small-angle lift (L = W, cos(gamma) = 1): the induced drag is overstated by the factor
+    1/cos^2(gamma), 0.3 % of the induced drag at a 5 % gradient. The rules' gradient is height
+    over horizontal distance, tan(gamma) = sin(gamma) (1 + 0.1 %) below 5 %.
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, ch. 5,
+       steady climb (from memory).
+    """
+    w = np.asarray(weight, dtype=float)
+    wing_loading = w / np.asarray(wing_area, dtype=float)
+    return np.asarray(thrust, dtype=float) / w - drag_to_weight(
+        speed, wing_loading, density, np.asarray(cd0, dtype=float) + cd0_increment, k)
+
+
+# --- speed limit in climb -------------------------------------------------------------------
+
+SPEED_LIMIT_BELOW_10000FT = 250.0 * 1852.0 / 3600.0
+"""14 CFR 91.117(a): 250 kn indicated airspeed below 10 000 ft MSL [m s^-1] (128.61 m/s)."""
+SPEED_LIMIT_ALTITUDE = 10000 * 0.3048
+"""10 000 ft of 14 CFR 91.117(a) [m]."""
+
+
+def limit_climb_speed(true_airspeed, pressure_altitude, delta_isa=0.0,
+                      limit_calibrated_airspeed=SPEED_LIMIT_BELOW_10000FT,
+                      limit_altitude=SPEED_LIMIT_ALTITUDE):
+    """Climb speed [m s^-1] clipped to the speed limit below 10 000 ft (14 CFR 91.117(a)).
+
+    Below ``limit_altitude`` the true airspeed is at most the true airspeed of
+    ``limit_calibrated_airspeed`` at that altitude (:func:`atmosphere.calibrated_to_true_airspeed`,
+    compressible); at and above it the speed is returned unchanged.
+
+    Parameters
+    ----------
+    true_airspeed : array_like
+        Climb speed wanted [m s^-1].
+    pressure_altitude : array_like
+        Geopotential pressure altitude, -5 to 20 km [m]; the rule's MSL altitude is taken as the
+        pressure altitude (they agree on a standard day).
+    delta_isa : array_like, default 0.0
+        Temperature offset [K].
+    limit_calibrated_airspeed : float
+        Indicated airspeed limit, taken as calibrated (no instrument or position error)
+        [m s^-1].
+    limit_altitude : float
+        Altitude below which the limit applies [m].
+
+    Returns
+    -------
+    ndarray
+        Clipped true airspeed [m s^-1].
+    """
+    h = np.asarray(pressure_altitude, dtype=float)
+    v_limit = atmosphere.calibrated_to_true_airspeed(
+        limit_calibrated_airspeed, atmosphere.isa_pressure(h), atmosphere.isa_density(h, delta_isa))
+    v = np.asarray(true_airspeed, dtype=float)
+    return np.where(h < limit_altitude, np.minimum(v, v_limit), v)
+
+
+# --- best rate of climb ---------------------------------------------------------------------
+
+_GOLDEN = 0.5 * (np.sqrt(5.0) - 1.0)
+
+
+def maximise_on_bracket(f, low, high, iterations=60):
+    """Maximum of a unimodal function on [low, high], by golden-section search on a batch.
+
+    A fixed number of iterations for every element (no Python loop over elements); the
+    bracket shrinks by 0.618 per iteration (60: 3e-13 of its width). ``f`` maps an array
+    shaped like ``low`` to one of the same shape. A maximum at an end is approached to within
+    the final bracket.
+
+    Returns
+    -------
+    x_best, f_best : ndarray
+        Argument of the largest value found and that value.
+
+    References
+    ----------
+    .. [1] J. Kiefer, "Sequential minimax search for a maximum", Proc. Amer. Math. Soc. 4,
+       1953, 502-506.
+    """
+    a = np.array(low, dtype=float, copy=True)
+    b = np.array(high, dtype=float, copy=True)
+    c = b - _GOLDEN * (b - a)
+    d = a + _GOLDEN * (b - a)
+    fc, fd = f(c), f(d)
+    for _ in range(iterations):
+        left = fc >= fd  # the maximum lies in [a, d]
+        b = np.where(left, d, b)
+        a = np.where(left, a, c)
+        new = np.where(left, b - _GOLDEN * (b - a), a + _GOLDEN * (b - a))
+        c, d = np.where(left, new, d), np.where(left, c, new)
+        fc, fd = np.where(left, np.nan, fd), np.where(left, fc, np.nan)
+        f_new = f(new)
+        fc, fd = np.where(left, f_new, fc), np.where(left, fd, f_new)
+    best = fc >= fd
+    return np.where(best, c, d), np.where(best, fc, fd)
+
+
+def best_rate_of_climb(thrust_at, weight, wing_loading, density, cd0, k, v_low, v_high,
+                       iterations=60):
+    """Best steady rate of climb [m s^-1] and its speed, maximising the specific excess power.
+
+    ROC(V) = V (T(V) - D(V)) / W, D/W of :func:`drag_to_weight` (small angle), maximised over
+    [v_low, v_high] by :func:`maximise_on_bracket` under the caller's thrust model (propeller
+    blend of :func:`propulsion.propeller_thrust`, turbofan lapse, one engine out: pass the
+    working engines' thrust).
+
+    Parameters
+    ----------
+    thrust_at : callable
+        ``thrust_at(V)`` total thrust [N] for an array of speeds shaped like ``v_low``.
+    weight : array_like
+        Weight [N].
+    wing_loading : array_like
+        W/S [N m^-2].
+    density : array_like
+        Air density [kg m^-3].
+    cd0, k : array_like
+        Zero-lift drag (with the configuration's increments) and induced-drag factor [-].
+    v_low, v_high : array_like
+        Speed bracket [m s^-1]: e.g. the minimum climb speed (1.2 V_s) and a speed beyond
+        the best, e.g. the highest level speed or 3 V_md.
+    iterations : int
+        Golden-section iterations.
+
+    Returns
+    -------
+    rate : ndarray
+        Best rate of climb [m s^-1] (negative above the absolute ceiling).
+    speed : ndarray
+        True airspeed of the best rate [m s^-1].
+
+    Notes
+    -----
+    The excess power of a parabolic polar with a thrust that does not rise with speed is
+    unimodal on the bracket, as golden-section search needs. For constant thrust the result
+    is Anderson's closed form (:func:`best_climb_speed_constant_thrust`); for constant power
+    (thrust eta P / V) the minimum-power speed (:func:`minimum_power_speed`).
+    """
+    w = np.asarray(weight, dtype=float)
+
+    def rate(v):
+        return v * (thrust_at(v) / w - drag_to_weight(v, wing_loading, density, cd0, k))
+
+    low, high, _ = np.broadcast_arrays(np.asarray(v_low, dtype=float),
+                                       np.asarray(v_high, dtype=float), w)
+    v_best, roc = maximise_on_bracket(rate, low, high, iterations)
+    return roc, v_best
+
+
+def best_climb_speed_constant_thrust(thrust_to_weight, wing_loading, density, cd0, k):
+    """Speed of the best rate of climb [m s^-1] under constant thrust (jets).
+
+    V = {(W/S) / (3 rho C_D0) [T/W + sqrt((T/W)^2 + 12 C_D0 K)]}^(1/2).
+
+    References
+    ----------
+    .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, ch. 5,
+       maximum rate of climb of a jet (from memory).
+    """
+    tw = np.asarray(thrust_to_weight, dtype=float)
+    return np.sqrt(wing_loading / (3.0 * density * cd0) * (tw + np.sqrt(tw**2 + 12.0 * cd0 * k)))
+
+
+def minimum_power_speed(wing_loading, density, cd0, k):
+    """Speed of minimum power required [m s^-1], C_L = sqrt(3 C_D0 / K): the best-climb speed
+    under constant power (thrust eta P / V).
+
+    V = sqrt(2 (W/S) / (rho sqrt(3 C_D0 / K))) (Anderson, APD 1999, ch. 5, from memory).
+    """
+    return np.sqrt(2.0 * np.asarray(wing_loading, dtype=float) / (density * np.sqrt(3.0 * cd0 / k)))

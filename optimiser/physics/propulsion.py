@@ -87,10 +87,86 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
 def propeller_diameter(power_per_engine, coefficient=0.56):
     """Propeller diameter [m] from shaft power per engine [W]: D = k (P [kW])^0.25.
 
-    k = 0.56 two-blade, 0.52 three-blade, 0.49 four-blade (metric form of D = K_p HP^0.25 in
-    D. P. Raymer, "Aircraft Design: A Conceptual Approach", AIAA, ch. 10; from memory).
+    A statistical power law kept for today's results (k = 0.56, 0.52, 0.49 for two, three
+    and four blades: common practice, no source cited here); superseded by
+    :func:`propeller_diameter_tip_limits`, derived from the tip-speed limits.
     """
     return coefficient * (np.maximum(np.asarray(power_per_engine, dtype=float), 0.0) / 1e3) ** 0.25
+
+
+PROPELLER_TIP_MACH_MAX = 0.85
+"""Helical tip Mach number limit in cruise [-]: 0.85 for metal blades of conventional
+sections, to keep the tip below its drag rise and noise in bounds (common practice; 0.8 to 0.9
+is used)."""
+PROPELLER_TIP_SPEED_MAX_TAKEOFF = 260.0
+"""Static tip speed limit at takeoff [m s^-1]: 260 m/s (M 0.76 at sea level), for the
+takeoff noise of a propeller of a light airplane (common practice; 240 to 290 m/s is used)."""
+
+
+def helical_tip_speed(diameter, rotational_speed, true_airspeed):
+    """Helical tip speed [m s^-1]: V_tip = sqrt((pi n D)^2 + V^2), the vector sum of the
+    rotational tip speed and the flight speed.
+
+    Parameters
+    ----------
+    diameter : array_like
+        Propeller diameter [m].
+    rotational_speed : array_like
+        n, propeller revolutions per second [s^-1] (rpm / 60).
+    true_airspeed : array_like
+        Flight speed [m s^-1].
+    """
+    tip = np.pi * np.asarray(rotational_speed, dtype=float) * np.asarray(diameter, dtype=float)
+    return np.sqrt(tip * tip + np.asarray(true_airspeed, dtype=float) ** 2)
+
+
+def propeller_diameter_tip_limits(rotational_speed_cruise, cruise_speed, cruise_sound_speed,
+                                  rotational_speed_takeoff=None, takeoff_speed=0.0,
+                                  tip_mach_max=PROPELLER_TIP_MACH_MAX,
+                                  tip_speed_max_takeoff=PROPELLER_TIP_SPEED_MAX_TAKEOFF):
+    """Largest propeller diameter [m] within the cruise tip Mach and takeoff tip-speed limits.
+
+    From the helical tip speed (:func:`helical_tip_speed`) set equal to each limit:
+    cruise, D_cr = sqrt((M_tip a)^2 - V_cr^2) / (pi n_cr); takeoff,
+    D_TO = sqrt(V_tip,TO^2 - V_TO^2) / (pi n_TO); D = min(D_cr, D_TO).
+
+    Parameters
+    ----------
+    rotational_speed_cruise : array_like
+        Propeller revolutions per second in cruise [s^-1] (rpm / 60, after any gearbox).
+    cruise_speed : array_like
+        Cruise true airspeed [m s^-1].
+    cruise_sound_speed : array_like
+        Speed of sound at cruise altitude [m s^-1].
+    rotational_speed_takeoff : array_like, optional
+        Revolutions per second at takeoff [s^-1]; default: the cruise value.
+    takeoff_speed : array_like, default 0.0
+        Speed at which the takeoff limit applies, 0 for the static case [m s^-1].
+    tip_mach_max : array_like
+        Helical tip Mach limit in cruise [-] (:data:`PROPELLER_TIP_MACH_MAX`).
+    tip_speed_max_takeoff : array_like
+        Helical tip speed limit at takeoff [m s^-1] (:data:`PROPELLER_TIP_SPEED_MAX_TAKEOFF`).
+
+    Returns
+    -------
+    ndarray
+        Diameter [m]; 0 where the flight speed alone exceeds a limit.
+
+    Notes
+    -----
+    Kinematics only (derived here): the diameter a given rpm allows. A propeller also needs
+    the disc area to absorb its power at a sensible loading and ground clearance; the caller
+    checks those.
+    """
+    n_cr = np.asarray(rotational_speed_cruise, dtype=float)
+    n_to = n_cr if rotational_speed_takeoff is None else np.asarray(rotational_speed_takeoff,
+                                                                    dtype=float)
+    tip_cr = np.asarray(tip_mach_max, dtype=float) * np.asarray(cruise_sound_speed, dtype=float)
+    d_cr = np.sqrt(np.maximum(tip_cr**2 - np.asarray(cruise_speed, dtype=float) ** 2, 0.0)) \
+        / (np.pi * n_cr)
+    d_to = np.sqrt(np.maximum(np.asarray(tip_speed_max_takeoff, dtype=float) ** 2
+                              - np.asarray(takeoff_speed, dtype=float) ** 2, 0.0)) / (np.pi * n_to)
+    return np.minimum(d_cr, d_to)
 
 
 def static_thrust_momentum(power, density, disc_area, figure_of_merit=0.70):

@@ -9,7 +9,8 @@ function returning a frozen dataclass of arrays:
 ``cruise_consumption`` -> ``closure_inputs`` -> ``close_takeoff_mass`` (with
 ``mission_fuel`` and ``mass_groups`` inside) -> ``installed_propulsion``,
 ``low_speed_polar`` -> :class:`Airplane` -> ``takeoff``, ``oei_climb_gradient``,
-``takeoff_field``, ``landing``, ``climb_and_ceiling``, ``cruise_speed`` ->
+``takeoff_field``, ``landing``, ``landing_field_required``, ``climb_and_ceiling``,
+``aeo_climb_gradient_required``, ``transport_climb_segments``, ``cruise_speed`` ->
 ``constraint_margins``.
 
 The stages after the closure take only an :class:`Airplane` (geometry, engines, high lift,
@@ -34,8 +35,11 @@ from .closure import (ClosureInputs, MassClosure, MassGroups, MissionFuel, close
 from .columns import output_columns
 from .engines import (CruiseConsumption, InstalledPropulsion, cruise_consumption,
                       installed_propulsion)
-from .field import Landing, Takeoff, TakeoffField, landing, takeoff, takeoff_field
-from .flight import Climb, CruiseSpeed, climb_and_ceiling, cruise_speed, oei_climb_gradient
+from .field import (Landing, Takeoff, TakeoffField, landing, landing_field_required, takeoff,
+                    takeoff_field)
+from .flight import (Climb, CruiseSpeed, TransportClimb, aeo_climb_gradient_required,
+                     climb_and_ceiling, cruise_speed, oei_climb_gradient,
+                     transport_climb_segments)
 from .inputs import OVERRIDE_KEYS, DesignBatch, design_batch
 from .margins import CONSTRAINT_LABELS, Margins, active_constraints, constraint_margins
 
@@ -43,11 +47,12 @@ __all__ = [
     "CONSTRAINT_LABELS", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
     "ClosureInputs", "CruiseConsumption", "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
     "Margins", "MassClosure", "MassGroups", "MissionFuel", "SizedBatch", "Takeoff",
-    "TakeoffField", "active_constraints", "air_states", "airplane", "clean_drag",
+    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required", "air_states", "airplane", "clean_drag",
     "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
     "cruise_consumption", "cruise_speed", "design_batch", "high_lift", "installed_propulsion",
-    "landing", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
+    "landing", "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
     "oei_climb_gradient", "size_batch", "size_designs", "takeoff", "takeoff_field",
+    "transport_climb_segments",
 ]
 
 
@@ -67,6 +72,9 @@ class SizedBatch:
     cruise_speed: CruiseSpeed
     margins: Margins
     maintenance_index: np.ndarray  # [-]
+    landing_field_required_m: np.ndarray
+    climb_gradient_required: np.ndarray  # [-]
+    transport_climb: TransportClimb
 
 
 def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
@@ -92,18 +100,22 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
     oei = oei_climb_gradient(spec, ap, air)
     field = takeoff_field(spec, ap, air, to, oei)
     land = landing(spec, ap, air)
+    land_required = landing_field_required(spec, land.distance_m)
     climb = climb_and_ceiling(spec, ap)
+    gradient_required = aeo_climb_gradient_required(spec, ap)
+    transport = transport_climb_segments(spec, ap, air, to.liftoff_speed_m_s)
     cruise = cruise_speed(spec, ap, air, consumption.propeller_efficiency,
                           st.fuel.start_cruise_weight_N, st.induced_drag_factor_cruise)
     margins = constraint_margins(
         spec, closure_margin=closure.closure_margin, takeoff_mass_kg=ap.mass_kg,
         min_runway_acceleration_m_s2=to.min_runway_acceleration_m_s2,
         stall_speed_m_s=land.stall_speed_m_s, takeoff_field_required_m=field.required_m,
-        landing_distance_m=land.distance_m, climb_rate_m_s=climb.climb_rate_m_s,
-        climb_gradient=climb.climb_gradient, oei_climb_gradient=oei,
+        landing_field_required_m=land_required, climb_rate_m_s=climb.climb_rate_m_s,
+        climb_gradient=climb.climb_gradient, climb_gradient_required=gradient_required,
+        oei_climb_gradient=oei, transport_climb=transport,
         cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
-                      maintenance_index(ap))
+                      maintenance_index(ap), land_required, gradient_required, transport)
 
 
 def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,

@@ -49,7 +49,9 @@ def _mass_columns(spec: AircraftSpec, sized) -> dict:
     rated = ap.engines.rated
     if spec.propulsion.family == "turbofan":
         out["engine_thrust_kN"] = rated / 1e3
-        out["static_thrust_N"] = rated
+        # static thrust at the departure airfield: the sea-level rating lapsed to its
+        # pressure and temperature at zero speed (the ground roll starts from the same)
+        out["static_thrust_N"] = sized.takeoff.engines.thrust(np.zeros_like(rated), 1.0)
     else:
         out["engine_power_kW"] = rated / 1e3
         out["propeller_diameter_m"] = ap.engines.propeller_diameter_m
@@ -97,12 +99,21 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
         "landing_flare_m": land.flare_m,
         "landing_ground_roll_m": land.ground_roll_m,
         "landing_distance_m": land.distance_m,
+        "landing_field_required_m": sized.landing_field_required_m,
         "climb_speed_m_s": climb.climb_speed_m_s,
         "climb_rate_m_s": climb.climb_rate_m_s,
         "climb_gradient": climb.climb_gradient,
     })
+    if spec.certification.basis == "part23":
+        out["climb_gradient_required"] = sized.climb_gradient_required
     if spec.propulsion.engine_count > 1:
         out["oei_climb_gradient"] = sized.oei_climb_gradient
+    if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
+        tc = sized.transport_climb
+        out.update({"first_segment_gradient": tc.first_segment,
+                    "final_takeoff_gradient": tc.final_takeoff,
+                    "approach_climb_gradient": tc.approach,
+                    "landing_climb_gradient": tc.landing})
     out.update({
         "cruise_speed_m_s": cruise.speed_m_s,
         "cruise_mach": cruise.mach,

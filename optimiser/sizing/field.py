@@ -185,3 +185,34 @@ def landing(spec: AircraftSpec, ap: Airplane, air: AirStates) -> Landing:
     vs_land_dst = performance.stall_speed(ws_land, rho_ld, cl_l_arr)
     return Landing(vs_landing_sl, sp.approach_speed_factor * vs_land_dst, s_app, s_flare, s_lg,
                    total, cl_l_arr)
+
+
+def landing_field_required(spec: AircraftSpec, landing_distance_m) -> np.ndarray:
+    """Landing field length the operating rules require at the destination.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: the landing rule of the basis (``transport`` for Part 25, ``part23``),
+        the operator's 60 % rule under Part 23, the destination's runway (``paved_wet`` is
+        wet).
+    landing_distance_m : ndarray
+        Landing distance from the screen height [m] (dry braking where the dispatch factor
+        applies: see
+        :data:`optimiser.physics.performance.WET_RUNWAY_DRY_SURFACE`).
+
+    Returns
+    -------
+    ndarray
+        Required landing field length [m]: the distance / 0.6 (x 1.15 on a wet runway) under
+        the dispatch rules, the distance itself otherwise.
+
+    References
+    ----------
+    .. [1] 14 CFR 121.195(b), (d) and 135.385(b), (d), via
+       :func:`optimiser.physics.performance.landing_field_length_required`.
+    """
+    return performance.landing_field_length_required(
+        landing_distance_m, spec.certification.landing_rule,
+        spec.destination.runway in performance.WET_RUNWAY_DRY_SURFACE,
+        spec.requirements.landing_dispatch_factor)

@@ -316,3 +316,130 @@ def _level_speed_prediction(flight, v_free, v_start, v_hi, a_d, b_d, t_max):
             for _ in range(6):
                 v = v - (a_d * v**4 - t_max * v + b_d) / (4.0 * a_d * v**3 - t_max)
     return np.clip(np.nan_to_num(v, nan=0.0), v_start, v_hi)
+
+
+def aeo_climb_gradient_required(spec: AircraftSpec, ap: Airplane) -> np.ndarray:
+    """All-engines climb gradient the basis requires of each design, from its own mass.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: basis, engine family.
+    ap : Airplane
+        The airplane at takeoff mass [kg].
+
+    Returns
+    -------
+    ndarray
+        Minimum gradient [-]: Part 23 8.3 % (reciprocating, 6000 lb or less) or 4 % (heavier
+        or turbine); 0 under Part 25 (its segments are separate constraints).
+
+    References
+    ----------
+    .. [1] 14 CFR 23.65(a), (b) before Amdt 23-64, via
+       :func:`optimiser.physics.performance.part23_aeo_climb_gradient_min`.
+    """
+    if spec.certification.basis != "part23":
+        return np.zeros_like(ap.mass_kg)
+    return performance.part23_aeo_climb_gradient_min(ap.mass_kg, spec.propulsion.family)
+
+
+APPROACH_CLIMB_SPEED_FACTOR = 1.5
+"""Approach climb speed over the stall speed in the approach configuration [-]: 1.5 V_S, the
+upper limit of 14 CFR 25.121(d) before Amdt 25-108 (1.4 V_SR after it; from memory)."""
+LANDING_CLIMB_SPEED_FACTOR = 1.3
+"""Landing climb speed over the landing stall speed, V_REF = 1.3 V_S [-] (14 CFR 25.119(b)
+before Amdt 25-108; 1.23 V_SR0 after it; from memory)."""
+FINAL_TAKEOFF_HEIGHT_M = 1500 * 0.3048
+"""Height above the departure airfield where the final takeoff segment is checked: the end of
+the takeoff path, 1500 ft, 14 CFR 25.111(a) (from memory) [m]."""
+
+
+@dataclass(frozen=True, slots=True)
+class TransportClimb:
+    """Part 25 climb gradients other than the second segment [-] (sin gamma)."""
+
+    first_segment: np.ndarray  # 25.121(a)
+    final_takeoff: np.ndarray  # 25.121(c)
+    approach: np.ndarray  # 25.121(d)
+    landing: np.ndarray  # 25.119
+
+
+def transport_climb_segments(spec: AircraftSpec, ap: Airplane, air: AirStates,
+                             liftoff_speed_m_s) -> TransportClimb:
+    """Climb gradients of the Part 25 segments checked beside the second segment.
+
+    Configurations (the thrust of the working engines from :func:`engines_at`; drag from
+    :func:`optimiser.physics.performance.climb_gradient_available`, out of ground effect):
+
+    - first segment, 25.121(a): departure airfield, V_LOF, takeoff flaps, gear down, one
+      engine out (engine-out drag), takeoff rating, takeoff mass;
+    - final takeoff, 25.121(c): departure elevation + 1500 ft (departure offset), clean (en-
+      route configuration), climb (max-continuous) setting, one engine out, at the study's
+      ``climb_speed_factor`` x the clean stall speed there, takeoff mass;
+    - approach climb, 25.121(d): destination airfield, the takeoff flap increments as the
+      approach setting (the catalogue has takeoff and landing settings only), gear up, one
+      engine out, takeoff (go-around) rating, 1.5 V_S of that configuration, landing mass;
+    - landing climb, 25.119: destination airfield, all engines, landing flaps and gear down,
+      1.3 V_S landing (V_REF), landing mass; the thrust 8 s after advancing the throttles from
+      flight idle is taken as the takeoff rating (a simplification: it overstates the
+      thrust of engines that spool up slowly).
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: engine count, climb power fraction [-], climb speed factor [-],
+        engine-out drag [-], landing mass ratio [-], departure and destination airfields.
+    ap : Airplane
+        The airplane at takeoff mass.
+    air : AirStates
+        Departure and destination density [kg m^-3], temperature [K], pressure [Pa].
+    liftoff_speed_m_s : ndarray
+        V_LOF of the all-engines takeoff (TAS). [m s^-1]
+
+    Returns
+    -------
+    TransportClimb
+        The four gradients [-]; zeros for a single-engine airplane.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.111(a), 25.119, 25.121(a), (c), (d) (conditions from memory; gradients in
+       :data:`optimiser.physics.performance.PART25_CLIMB_SEGMENTS`).
+    """
+    pr, ad, sp, dep = spec.propulsion, spec.aerodynamics, spec.speeds, spec.departure
+    ws_c, w, s_ref = ap.wing_loading_N_m2, ap.weight_N, ap.wing_area_m2
+    k, eta, hl, polar = (ap.polar.induced_drag_factor, ap.engines.propeller_efficiency_climb,
+                         ap.high_lift, ap.polar)
+    if pr.engine_count <= 1:
+        zero = np.zeros_like(ws_c)
+        return TransportClimb(zero, zero, zero, zero)
+    n_out = pr.engine_count - 1
+    d_oei = ad.engine_out_drag_increment
+
+    def gradient(rho, t, p, setting, working, v, weight, cd0):
+        eng = engines_at(spec, ap.engines, rho, t, p, setting, working)
+        return performance.climb_gradient_available(eng.thrust(v, eta), weight, v, s_ref, rho,
+                                                    cd0, k)
+
+    rho_to, t_to, p_to = (air.density_takeoff_kg_m3, air.temperature_takeoff_K,
+                          air.pressure_takeoff_Pa)
+    first = gradient(rho_to, t_to, p_to, 1.0, n_out, liftoff_speed_m_s, w,
+                     polar.cd0_takeoff + d_oei)
+    rho_f, t_f, p_f, _ = isa_state(dep.elevation_m + FINAL_TAKEOFF_HEIGHT_M,
+                                   dep.temperature_offset_K)
+    v_fto = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_f, ad.cl_max_clean)
+    final = gradient(rho_f, t_f, p_f, pr.climb_power_fraction, n_out, v_fto, w,
+                     ap.drag.cd0 + d_oei)
+    rho_l, t_l, p_l, _ = isa_state(spec.destination.elevation_m,
+                                   spec.destination.temperature_offset_K)
+    w_land = w * spec.mission.landing_mass_ratio
+    ws_land = ws_c * spec.mission.landing_mass_ratio
+    v_app = APPROACH_CLIMB_SPEED_FACTOR * performance.stall_speed(ws_land, rho_l,
+                                                                  hl.cl_max_takeoff)
+    approach = gradient(rho_l, t_l, p_l, 1.0, n_out, v_app, w_land,
+                        polar.cd0_takeoff_flaps + d_oei)
+    v_ref = LANDING_CLIMB_SPEED_FACTOR * performance.stall_speed(ws_land, rho_l,
+                                                                 hl.cl_max_landing)
+    landing_climb = gradient(rho_l, t_l, p_l, 1.0, None, v_ref, w_land, polar.cd0_landing)
+    return TransportClimb(first, final, approach, landing_climb)

@@ -7,8 +7,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..columns import CONSTRAINT_LABELS  # noqa: F401  (re-exported from the results schema)
-from ..physics import G0
+from ..physics import G0, performance
 from ..spec import AircraftSpec
+
+
+TRANSPORT_CLIMB_CHECKS = {"first_segment_climb": "first_segment",
+                          "final_takeoff_climb": "final_takeoff", "approach_climb": "approach",
+                          "landing_climb": "landing"}
+"""Part 25 climb constraints (beside the second segment, ``oei_climb_gradient``) and their
+segment in :data:`optimiser.physics.performance.PART25_CLIMB_SEGMENTS`."""
 
 
 def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
@@ -22,6 +29,9 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
         names.append("climb_gradient")
     if spec.propulsion.engine_count > 1 and spec.certification.oei_climb_gradient_min > 0:
         names.append("oei_climb_gradient")
+    skipped = {name for name, _ in spec.requirements.skip_checks}
+    if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
+        names += [c for c in TRANSPORT_CLIMB_CHECKS if c not in skipped]
     names += ["cruise_speed", "service_ceiling"]
     return tuple(names)
 
@@ -38,7 +48,8 @@ class Margins:
 
 def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        min_runway_acceleration_m_s2, stall_speed_m_s, takeoff_field_required_m,
-                       landing_distance_m, climb_rate_m_s, climb_gradient, oei_climb_gradient,
+                       landing_field_required_m, climb_rate_m_s, climb_gradient,
+                       climb_gradient_required, oei_climb_gradient, transport_climb,
                        cruise_speed_m_s, service_ceiling_m) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
@@ -55,12 +66,14 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         [m s^-2]
     stall_speed_m_s : ndarray
         Landing configuration, sea level. [m s^-1]
-    takeoff_field_required_m, landing_distance_m : ndarray
-        [m]
+    takeoff_field_required_m, landing_field_required_m : ndarray
+        Field lengths the rules require. [m]
     climb_rate_m_s : ndarray
         [m s^-1]
-    climb_gradient, oei_climb_gradient : ndarray
-        [-]
+    climb_gradient, climb_gradient_required, oei_climb_gradient : ndarray
+        All-engines gradient, its minimum per design, the one-engine-out gradient. [-]
+    transport_climb : TransportClimb
+        Part 25 segment gradients (first segment, final takeoff, approach, landing). [-]
     cruise_speed_m_s : ndarray
         Highest level speed. [m s^-1]
     service_ceiling_m : ndarray
@@ -83,14 +96,19 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         "runway_acceleration": min_runway_acceleration_m_s2 / G0,
         "stall_speed": 1.0 - stall_speed_m_s / rq.stall_speed_m_s,
         "takeoff_field": 1.0 - takeoff_field_required_m / spec.departure.field_length_m,
-        "landing_field": 1.0 - landing_distance_m / spec.destination.field_length_m,
+        "landing_field": 1.0 - landing_field_required_m / spec.destination.field_length_m,
         "climb_rate": climb_rate_m_s / rq.climb_rate_m_s - 1.0,
-        "climb_gradient": climb_gradient / max(cert.aeo_climb_gradient_min, 1e-9) - 1.0,
+        "climb_gradient": climb_gradient / np.maximum(climb_gradient_required, 1e-9) - 1.0,
         "oei_climb_gradient": oei_climb_gradient / max(cert.oei_climb_gradient_min, 1e-9) - 1.0,
         "cruise_speed": cruise_speed_m_s / spec.mission.cruise_speed_m_s - 1.0,
         "service_ceiling": service_ceiling_m / rq.service_ceiling_m - 1.0,
     }
     names = active_constraints(spec)
+    for name, segment in TRANSPORT_CLIMB_CHECKS.items():
+        if name in names:
+            margins[name] = transport_climb_margin(
+                getattr(transport_climb, segment),
+                performance.part25_climb_gradient_min(segment, spec.propulsion.engine_count))
     matrix = np.column_stack([margins[c] for c in names])
     matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
     feasible = np.all(matrix >= 0.0, axis=1)
@@ -98,3 +116,18 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     # at the capped mass and mean little (mass_closure is always the first constraint)
     limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(matrix, axis=1))
     return Margins(names, matrix, feasible, limiting)
+
+
+TWIN_FIRST_SEGMENT_SCALE = 0.005
+"""Gradient that stands for one unit of margin where the rule asks only for a positive
+gradient (twins' first segment, 14 CFR 25.121(a)) [-] (common practice: the smallest
+positive minimum of the segment, 0.5 %, keeps the margin's scale like the others')."""
+
+
+def transport_climb_margin(gradient, minimum) -> np.ndarray:
+    """Margin of a Part 25 climb gradient [-]: ``gradient / minimum - 1``, or, where the
+    minimum is 0 (a positive gradient required), ``gradient / 0.5 %`` (see
+    :data:`TWIN_FIRST_SEGMENT_SCALE`). Source: 14 CFR 25.121(a) for the positive gradient."""
+    if minimum > 0.0:
+        return np.asarray(gradient, dtype=float) / minimum - 1.0
+    return np.asarray(gradient, dtype=float) / TWIN_FIRST_SEGMENT_SCALE

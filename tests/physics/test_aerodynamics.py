@@ -7,6 +7,7 @@ printed value (McCormick, h/b = 0.06) is a published check.
 
 import numpy as np
 import pytest
+from numpy.testing import assert_allclose
 from hypothesis import given, settings, strategies as st
 
 from optimiser.physics import aerodynamics as aero
@@ -202,3 +203,42 @@ def test_lock_wave_drag_slope_is_its_derivative():
     numeric = (aero.wave_drag_lock(mach + h, 0.78) - aero.wave_drag_lock(mach - h, 0.78)) / (2 * h)
     np.testing.assert_allclose(slope, numeric, rtol=1e-6, atol=1e-12)
     assert slope[2] == pytest.approx(0.1, rel=1e-12)
+
+
+# --- Oswald factor at each point's Mach, and the methods' Mach ranges --------------------------
+
+def test_oswald_mach_factor_reproduces_nita_scholz_at_each_mach():
+    # e(M) = e(M <= 0.3) k_eM(M) with k_eM = 1 - 0.001521 (M/0.3 - 1)^10.82 (Nita & Scholz 2012,
+    # k-factors from memory); at M 0.78: (0.78/0.3 - 1)^10.82 = 1.6^10.82
+    mach = np.array([0.1, 0.3, 0.5, 0.78])
+    k_em = aero.oswald_mach_factor("nita_scholz2012", mach)
+    assert k_em[2] == pytest.approx(1.0 - 0.001521 * (0.5 / 0.3 - 1.0) ** 10.82, rel=1e-12)
+    assert k_em[3] == pytest.approx(1.0 - 0.001521 * 1.6**10.82, rel=1e-12)
+    assert k_em[3] == pytest.approx(0.754129, abs=1e-6)
+    assert_allclose(k_em[:2], 1.0)
+    low = aero.oswald_nita_scholz2012(8.0, 0.45, 0.0, 0.12, 0.2, 0.804)
+    at_m = aero.oswald_nita_scholz2012(8.0, 0.45, 0.0, 0.12, mach, 0.804)
+    assert_allclose(at_m, low * k_em, rtol=1e-14)
+    assert float(low) == pytest.approx(0.7694, abs=1e-3)  # METHODS.md sec. 2.2 check [D]
+
+
+def test_oswald_mach_factor_obert_has_no_mach_term():
+    assert_allclose(aero.oswald_mach_factor("obert2009", [0.2, 0.7]), 1.0)
+
+
+def test_oswald_mach_validity_flags_points_beyond_the_fit():
+    # k_eM reaches zero at M = 0.3 (1 + (1/0.001521)^(1/10.82)) = 0.8465 (from the formula)
+    m_zero = 0.3 * (1.0 + (1.0 / 0.001521) ** (1.0 / 10.82))
+    assert m_zero == pytest.approx(0.8465, abs=1e-4)
+    assert float(aero.oswald_mach_factor("nita_scholz2012", m_zero)) == pytest.approx(0.0, abs=1e-12)
+    valid = aero.oswald_mach_valid("nita_scholz2012", [0.2, 0.8, 0.81, m_zero])
+    assert valid.tolist() == [True, True, False, False]
+    assert aero.oswald_mach_valid("obert2009", [0.6, 0.75]).tolist() == [True, False]
+    assert set(aero.OSWALD_MACH_RANGE) == set(aero.OSWALD_METHODS)
+
+
+def test_oswald_mach_unknown_method():
+    with pytest.raises(ValueError, match="unknown Oswald method 'howe2000'"):
+        aero.oswald_mach_factor("howe2000", 0.5)
+    with pytest.raises(ValueError, match="unknown Oswald method 'howe2000'"):
+        aero.oswald_mach_valid("howe2000", 0.5)

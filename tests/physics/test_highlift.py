@@ -224,3 +224,48 @@ def test_parse_rejects_unknown_names(bad):
     assert "+slats" in msg
     with pytest.raises(ValueError):
         _config(bad)
+
+
+# --- hinge-line sweep against the exact geometry of a trapezoidal wing ------------------------
+
+def _line_sweep_from_geometry(sweep_c4, aspect_ratio, taper, x):
+    """Independent check: build the planform (span 10 m) and measure the line at x/c."""
+    b = 10.0
+    area = b**2 / aspect_ratio
+    c_root = 2.0 * area / (b * (1.0 + taper))
+    c_tip = taper * c_root
+    # quarter-chord points at root and tip, root leading edge at 0
+    x_c4_tip = 0.25 * c_root + 0.5 * b * np.tan(sweep_c4)
+    x_le_tip = x_c4_tip - 0.25 * c_tip
+    x_root, x_tip = x * c_root, x_le_tip + x * c_tip
+    return np.arctan((x_tip - x_root) / (0.5 * b))
+
+
+@pytest.mark.parametrize("sweep_deg, aspect_ratio, taper, flap_chord", [
+    (0.0, 7.0, 0.5, 0.30),
+    (25.0, 9.5, 0.25, 0.30),
+    (35.0, 8.0, 0.3, 0.25),
+    (10.0, 6.0, 1.0, 0.30),  # untapered: every line has the quarter-chord sweep
+    (0.0, 12.0, 0.1, 0.35),
+])
+def test_hinge_line_sweep_matches_trapezoidal_geometry(sweep_deg, aspect_ratio, taper, flap_chord):
+    sweep = np.radians(sweep_deg)
+    got = hl.hinge_line_sweep(sweep, aspect_ratio, taper, flap_chord)
+    assert float(got) == pytest.approx(
+        _line_sweep_from_geometry(sweep, aspect_ratio, taper, 1.0 - flap_chord), abs=1e-12)
+
+
+def test_sweep_at_chord_fraction_quarter_chord_and_leading_edge():
+    # x = 0.25 returns the quarter-chord sweep (definition); the leading edge of an unswept
+    # wing of A 7, taper 0.5: tan = 4/7 x 0.25 x 0.5/1.5 = 0.047619 (from the relation)
+    assert float(hl.sweep_at_chord_fraction(0.3, 7.0, 0.5, 0.25)) == pytest.approx(0.3, abs=1e-15)
+    assert np.tan(float(hl.sweep_at_chord_fraction(0.0, 7.0, 0.5, 0.0))) == pytest.approx(
+        1.0 / 21.0, rel=1e-12)
+
+
+def test_hinge_line_sweep_is_vectorised_over_designs():
+    ar = np.array([6.0, 8.0, 10.0])
+    got = hl.hinge_line_sweep(0.0, ar, 0.5)
+    assert got.shape == (3,)
+    # unswept tapered wing: the hinge line (x/c 0.7) sweeps forward, less so at high A
+    assert np.all(got < 0.0) and np.all(np.diff(got) > 0.0)

@@ -201,3 +201,39 @@ def test_propeller_thrust_non_increasing(power, eta, fm, d, v, dv):
 def test_propeller_diameter_regression_pin():
     # regression pin: D = 0.56 (P[kW])^0.25; 150 kW -> 1.95980 m (computed by us)
     assert prop.propeller_diameter(150e3) == pytest.approx(1.95980, abs=5e-6)
+
+
+# --- propeller diameter from the tip limits ---------------------------------------------------
+
+def test_helical_tip_speed_is_the_vector_sum():
+    # 3-4-5 triangle: pi n D = 240 with V = 180 gives 300 (Pythagoras)
+    d = 240.0 / (np.pi * 40.0)
+    assert float(prop.helical_tip_speed(d, 40.0, 180.0)) == pytest.approx(300.0, rel=1e-12)
+
+
+def test_propeller_diameter_tip_limits_worked_example():
+    # computed by hand from the relation (derived): 2700 rpm (n = 45 /s), cruise 70 m/s at
+    # 2500 m ISA (a = 330.56 m/s), M_tip 0.85: D_cr = sqrt(280.98^2 - 70^2) / (pi 45) = 1.9248 m;
+    # static tip speed 260 m/s: D_TO = 260 / (pi 45) = 1.8391 m -> D = 1.8391 m
+    a = float(atm.speed_of_sound(atm.isa_temperature(2500.0)))
+    assert a == pytest.approx(330.56, abs=0.01)  # sqrt(1.4 R 271.90 K), USSA 1976
+    d_cr = prop.propeller_diameter_tip_limits(45.0, 70.0, a, tip_speed_max_takeoff=1e9)
+    assert float(d_cr) == pytest.approx(np.sqrt((0.85 * a) ** 2 - 70.0**2) / (np.pi * 45.0),
+                                        rel=1e-12)
+    assert float(d_cr) == pytest.approx(1.9248, abs=1e-4)
+    d = prop.propeller_diameter_tip_limits(45.0, 70.0, a)
+    assert float(d) == pytest.approx(260.0 / (np.pi * 45.0), rel=1e-12)
+    assert float(d) == pytest.approx(1.8391, abs=1e-4)
+    # the limits hold at the result
+    assert float(prop.helical_tip_speed(d, 45.0, 70.0)) / a <= 0.85 + 1e-12
+    assert float(prop.helical_tip_speed(d, 45.0, 0.0)) <= 260.0 + 1e-9
+
+
+def test_propeller_diameter_tip_limits_geared_turboprop_and_vectorised():
+    # a slower-turning takeoff setting, a batch of cruise speeds: D_cr falls with speed
+    v = np.array([100.0, 150.0, 400.0])
+    d = prop.propeller_diameter_tip_limits(20.0, v, 300.0, rotational_speed_takeoff=19.0)
+    d_cr = np.sqrt(np.maximum((0.85 * 300.0) ** 2 - v**2, 0.0)) / (np.pi * 20.0)
+    d_to = 260.0 / (np.pi * 19.0)
+    np.testing.assert_allclose(d, np.minimum(d_cr, d_to), rtol=1e-12)
+    assert d[2] == 0.0  # the flight speed alone is above the tip Mach limit
