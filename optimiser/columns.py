@@ -160,7 +160,8 @@ COLUMNS = (
     _c("landing_distance_m", "performance", "m", "landing distance from the screen height",
         report_key=5),
     _c("climb_speed_m_s", "performance", "m/s",
-        "speed of the best all-engines climb at the departure airfield"),
+        "speed flown in the best all-engines climb at the departure airfield: the best-rate "
+        "speed, held to 250 kn indicated below 10 000 ft where the study applies the limit"),
     _c("climb_rate_m_s", "performance", "m/s",
         "best all-engines rate of climb at the departure airfield, clean"),
     _c("climb_gradient", "performance", "-",

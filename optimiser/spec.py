@@ -197,6 +197,9 @@ class Speeds:
                                    doc="approach path angle (3 deg)")
     free_roll_time_s: float = _f(3.0, unit="s", lo=0.0, hi=10.0,
                                  doc="free roll before braking (Anderson)")
+    climb_speed_limit: bool | None = _f(
+        None, doc="hold the climb to 250 kn indicated below 10 000 ft, 14 CFR 91.117(a) "
+        "(default: true for turbofan, false for propeller studies)")
 
 
 @dataclass(frozen=True, kw_only=True)

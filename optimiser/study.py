@@ -278,6 +278,10 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
         elif f.type in ("str", str):
             values[f.name] = rd.choice(where, value, (value,)) if isinstance(value, str) else \
                 rd.fail(where, f"got {value!r}; expected a string")
+        elif f.type in ("bool", "bool | None"):
+            if not isinstance(value, bool):
+                rd.fail(where, f"got {value!r}; expected true or false")
+            values[f.name] = value
         elif meta.get("unit"):
             values[f.name] = rd.quantity(where, value, meta["unit"], meta.get("min"),
                                          meta.get("max"), meta.get("min_open", False))
@@ -418,7 +422,8 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                            "fraction_climb", "fraction_descent", "fraction_landing"), fr))
     mis = _read_section(rd, "mission", raw["mission"], S.Mission, mis_preset)
     req = _read_section(rd, "requirements", raw["requirements"], S.Requirements, {})
-    speeds = _read_section(rd, "speeds", raw.get("speeds", {}), S.Speeds, {})
+    speeds = _read_section(rd, "speeds", raw.get("speeds", {}), S.Speeds,
+                           {"climb_speed_limit": family == "turbofan"})  # 14 CFR 91.117(a)
     if speeds.flare_speed_factor > speeds.approach_speed_factor:
         rd.fail("[speeds] flare_speed_factor", f"got {speeds.flare_speed_factor:g}; expected "
                 f"at most the approach_speed_factor {speeds.approach_speed_factor:g}")

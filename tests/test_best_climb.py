@@ -1,0 +1,121 @@
+"""Best all-engines climb under the model's own thrust and drag, and the airspace speed limit."""
+
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from optimiser import sizing
+from optimiser.physics import aerodynamics as aero
+from optimiser.physics import atmosphere as atm
+from optimiser.physics import performance
+from optimiser.sizing import flight
+from optimiser.sizing.engines import engines_at
+from optimiser.errors import StudyError
+from optimiser.study import load_study
+
+ROOT = Path(__file__).resolve().parent.parent
+STUDIES = ["high_strip_utility", "twin_turboprop_commuter", "light_twin_jet"]
+
+
+def _airplane(spec, ws, loading, ar, flap):
+    batch = sizing.design_batch(spec, ws, loading, ar, flap)
+    air = sizing.air_states(spec)
+    drag = sizing.clean_drag(spec, batch.aspect_ratio, air, {})
+    hl = sizing.high_lift(spec, batch.high_lift_index)
+    cons = sizing.cruise_consumption(spec, {})
+    closure = sizing.close_takeoff_mass(sizing.closure_inputs(spec, batch, air, drag, hl, cons))
+    st = closure.state
+    polar = sizing.low_speed_polar(spec, batch.aspect_ratio, st.span_m, drag, hl, {})
+    engines = sizing.installed_propulsion(spec, st.rated, {})
+    return sizing.airplane(closure.takeoff_mass_kg, batch.wing_loading_N_m2, batch.aspect_ratio,
+                           st.wing_area_m2, st.span_m, engines, hl, drag, polar)
+
+
+def _dense_best(spec, ap, h, n_grid=1500):
+    """Largest rate of climb [m s^-1] on a dense speed grid, same thrust, drag and e(M)."""
+    rho, p, t = atm._density_unchecked(np.asarray(h), 0.0)
+    ws, w = ap.wing_loading_N_m2, ap.weight_N
+    eng = engines_at(spec, ap.engines, rho, t, p, spec.propulsion.climb_power_fraction)
+    v_floor = spec.speeds.climb_speed_factor * performance.stall_speed(
+        ws, rho, spec.aerodynamics.cl_max_clean)
+    a = atm.speed_of_sound(t)
+    m_hi = aero.OSWALD_MACH_RANGE[spec.aerodynamics.oswald_method][1]
+    v = v_floor[:, None] + (np.maximum(m_hi * a, v_floor * 1.01)[:, None] - v_floor[:, None]) \
+        * np.linspace(0.0, 1.0, n_grid)
+    e_ratio = aero.oswald_mach_factor(spec.aerodynamics.oswald_method, np.minimum(v / a, m_hi)) \
+        / aero.oswald_mach_factor(spec.aerodynamics.oswald_method, 0.2)
+    k = ap.polar.induced_drag_factor[:, None] / e_ratio
+    roc = v * (eng.thrust(v, ap.engines.propeller_efficiency_climb) / w[:, None]
+               - performance.drag_to_weight(v, ws[:, None], rho, ap.drag.cd0, k))
+    return roc.max(axis=1)
+
+
+@pytest.mark.parametrize("name", STUDIES)
+@pytest.mark.parametrize("h", [0.0, 3000.0, 7000.0])
+def test_best_climb_matches_a_dense_speed_grid(name, h):
+    # the best rate is the maximum of V (T - D) / W (steady climb, small angle: Anderson,
+    # "Aircraft Performance and Design", 1999, ch. 5); golden section (Kiefer 1953) must find the
+    # same maximum as a grid of 1500 speeds to 0.02 m/s, with the ceiling's 10 iterations to 0.05 m/s
+    study = load_study(ROOT / "problems" / f"{name}.toml")
+    spec = _no_limit(study.spec)
+    rng = np.random.default_rng(3)
+    x = [rng.uniform(v.lower, v.upper, 200) for v in study.variables]
+    names = spec.high_lift_names
+    ap = _airplane(spec, *x, rng.choice([names.index(f) for f in study.flaps], 200))
+    dense = _dense_best(spec, ap, h)
+    n = ap.weight_N.size
+    roc, v = flight.best_climb(spec, ap, np.full(n, h), np.zeros(n), np.arange(n))
+    assert np.abs(roc - dense).max() < 0.02
+    roc1, _ = flight.best_climb(spec, ap, np.full(n, h), np.zeros(n), np.arange(n), iterations=10)
+    assert np.abs(roc1 - dense).max() < 0.05
+
+
+def _no_limit(spec):
+    return replace(spec, speeds=replace(spec.speeds, climb_speed_limit=False))
+
+
+def test_issue_example_climbs_faster_than_at_the_minimum_power_speed():
+    # default study, 600 N/m2, 46 N/kW, A 7, split flaps: 7.18 m/s at the minimum-power speed
+    # 34.9 m/s (Anderson's constant-power closed form) but 8.08 m/s at 44.9 m/s under the
+    # model's propeller thrust (static-thrust blend), found by the dense grid above
+    study = load_study(ROOT / "problems" / "high_strip_utility.toml")
+    spec = study.spec
+    out = sizing.size_designs(spec, np.array([600.0]), np.array([46.0]), np.array([7.0]),
+                              np.array([spec.high_lift_names.index("split")]))
+    assert out["climb_rate_m_s"][0] == pytest.approx(8.08, abs=0.01)
+    assert out["climb_speed_m_s"][0] == pytest.approx(44.9, abs=0.3)
+    assert not spec.speeds.climb_speed_limit  # propeller study: off by default
+
+
+def test_jet_climb_is_held_to_250_kn_indicated_below_10000_ft():
+    # 14 CFR 91.117(a): 250 kn indicated below 10 000 ft MSL; the jet demo's best speed
+    # (169 m/s true at the departure airfield) is above it, so the climb is flown at the
+    # true airspeed of 250 kn calibrated there (isentropic pitot relation)
+    study = load_study(ROOT / "problems" / "light_twin_jet.toml")
+    spec = study.spec
+    assert spec.speeds.climb_speed_limit  # turbofan study: on by default
+    x = [np.array([0.5 * (v.lower + v.upper)]) for v in study.variables]
+    flap = np.array([spec.high_lift_names.index(study.flaps[0])])
+    out = sizing.size_designs(spec, *x, flap)
+    free = sizing.size_designs(_no_limit(spec), *x, flap)
+    dep = spec.departure
+    rho, p, _ = atm._density_unchecked(np.asarray(dep.elevation_m), dep.temperature_offset_K)
+    v_limit = atm.calibrated_to_true_airspeed(performance.SPEED_LIMIT_BELOW_10000FT, p, rho)
+    assert free["climb_speed_m_s"][0] > v_limit + 10.0
+    assert out["climb_speed_m_s"][0] == pytest.approx(float(v_limit), rel=1e-9)
+    assert out["climb_rate_m_s"][0] < free["climb_rate_m_s"][0]
+
+
+def test_climb_speed_limit_key_is_read_and_checked(tmp_path):
+    # the study key [speeds] climb_speed_limit: a boolean, a clear error otherwise
+    text = (ROOT / "problems" / "high_strip_utility.toml").read_text(encoding="utf-8")
+    assert "[speeds]" not in text
+    p = tmp_path / "s.toml"
+    p.write_text(text + "\n[speeds]\nclimb_speed_limit = true\n", encoding="utf-8")
+    assert load_study(p).spec.speeds.climb_speed_limit is True
+    p.write_text(text + "\n[speeds]\nclimb_speed_limit = 1\n", encoding="utf-8")
+    with pytest.raises(StudyError, match="climb_speed_limit"):
+        load_study(p)
+
