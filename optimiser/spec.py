@@ -229,6 +229,8 @@ class HighLift:
     flapped_span_fraction: float
     slat_span_fraction: float
     support_weight: float
+    slat_cl_increment_takeoff: float = 0.0  # the slats' part of cl_increment_takeoff [-]
+    slat_cl_increment_landing: float = 0.0  # the slats' part of cl_increment_landing [-]
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -460,6 +460,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
 
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
+    # unswept increments (hinge sweep 0): sizing.aero.high_lift scales them per design
     configs = tuple(S.HighLift(**highlift.high_lift_config(
         n, catalogue, slat_entry, aero.flapped_span_fraction, aero.slat_span_fraction, 0.0,
         wts.actuator_unit_mass_kg)) for n in all_names)

@@ -23,7 +23,7 @@ def _airplane(spec, ws, loading, ar, flap):
     batch = sizing.design_batch(spec, ws, loading, ar, flap)
     air = sizing.air_states(spec)
     drag = sizing.clean_drag(spec, batch.aspect_ratio, air, {})
-    hl = sizing.high_lift(spec, batch.high_lift_index)
+    hl = sizing.high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
     cons = sizing.cruise_consumption(spec, {})
     closure = sizing.close_takeoff_mass(sizing.closure_inputs(spec, batch, air, drag, hl, cons))
     st = closure.state
@@ -119,3 +119,32 @@ def test_climb_speed_limit_key_is_read_and_checked(tmp_path):
     with pytest.raises(StudyError, match="climb_speed_limit"):
         load_study(p)
 
+
+
+def test_flap_increment_scales_with_the_hinge_line_sweep_of_each_design():
+    # airplane dCLmax = 0.9 dc_lmax (c'/c) (S_f/S) cos(Lambda_hinge) (common-practice form of
+    # the section increments of Franchini et al., see physics.highlift); the hinge at
+    # x/c = 0.7 of a trapezoidal wing, tan L_x = tan L_c/4 - (4/A)(x - 1/4)(1 - l)/(1 + l)
+    # (derived from the planform). Jet demo: 12 deg quarter-chord sweep.
+    study = load_study(ROOT / "problems" / "light_twin_jet.toml")
+    spec = study.spec
+    ad = spec.aerodynamics
+    names = spec.high_lift_names
+    i = names.index(study.flaps[0])
+    ar = np.array([6.0, 9.0, 12.0])
+    hl = sizing.high_lift(spec, np.full(3, i), ar)
+    lam = ad.taper_ratio
+    hinge = np.arctan(np.tan(ad.sweep_quarter_chord_rad) - 4.0 / ar * 0.45 * (1 - lam) / (1 + lam))
+    unswept = spec.high_lift[i]
+    assert unswept.slat_cl_increment_landing == 0.0
+    np.testing.assert_allclose(hl.cl_increment_landing,
+                               unswept.cl_increment_landing * np.cos(hinge), rtol=1e-12)
+    assert np.all(hl.cl_increment_landing < unswept.cl_increment_landing)
+    # slats at the leading-edge sweep (x/c = 0)
+    j = names.index(f"{study.flaps[0].split('+')[0]}+slats")
+    hs = sizing.high_lift(spec, np.full(3, j), ar)
+    le = np.arctan(np.tan(ad.sweep_quarter_chord_rad) + 4.0 / ar * 0.25 * (1 - lam) / (1 + lam))
+    s_land = spec.high_lift[j].slat_cl_increment_landing
+    assert s_land > 0.0
+    np.testing.assert_allclose(hs.cl_increment_landing, (spec.high_lift[j].cl_increment_landing
+                               - s_land) * np.cos(hinge) + s_land * np.cos(le), rtol=1e-12)
