@@ -173,6 +173,9 @@ COLUMNS = (
     _c("cruise_mach", "performance", "-", "Mach number of that speed"),
     _c("service_ceiling_m", "performance", "m",
         "altitude where the best climb rate is 100 ft/min, takeoff mass"),
+    _c("oswald_mach_in_range", "performance", "",
+        "cruise speed and ceiling found inside the Oswald method's Mach range (false: the "
+        "cruise speed is held at the method's top Mach, or the ceiling's climb needs more)"),
     _c("maintenance_index", "high-lift", "-",
         "relative maintenance complexity of the high-lift system, per side", archived=True),
     _c("feasible", "verdict", "", "every margin >= 0"),

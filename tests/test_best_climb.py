@@ -148,3 +148,32 @@ def test_flap_increment_scales_with_the_hinge_line_sweep_of_each_design():
     assert s_land > 0.0
     np.testing.assert_allclose(hs.cl_increment_landing, (spec.high_lift[j].cl_increment_landing
                                - s_land) * np.cos(hinge) + s_land * np.cos(le), rtol=1e-12)
+
+
+def test_top_speed_stays_inside_the_oswald_methods_mach_range_and_is_flagged():
+    # Nita & Scholz (DLRK 2012) k_eM is used up to M 0.8 (OSWALD_MACH_RANGE): a jet with
+    # thrust to spare at M 0.8 gets its cruise speed held there and oswald_mach_in_range
+    # false, not an extrapolated speed; a slower design keeps the flag true
+    study = load_study(ROOT / "problems" / "light_twin_jet.toml")
+    spec = study.spec
+    assert spec.aerodynamics.oswald_method == "nita_scholz2012"
+    v_ws, v_tw = study.variables[0], study.variables[1]  # wing loading, thrust to weight
+    names = spec.high_lift_names
+    flap = np.full(2, names.index(study.flaps[0]))
+    ws = np.full(2, v_ws.upper)
+    tw = np.array([v_tw.upper, v_tw.lower])
+    out = sizing.size_designs(spec, ws, tw, np.full(2, 9.0), flap)
+    assert out["cruise_mach"][0] == pytest.approx(0.8, rel=1e-9)
+    assert not out["oswald_mach_in_range"][0]
+    assert out["cruise_mach"][1] < 0.8
+    assert out["oswald_mach_in_range"][1]
+
+
+def test_induced_drag_factor_follows_the_flight_mach():
+    # K(M) = K(M_ref) k_eM(M_ref) / k_eM(M), k_eM = 1 - 0.001521 (M/0.3 - 1)^10.82 for M > 0.3
+    # (Nita & Scholz, DLRK 2012, eq. for k_e,M), held at M 0.8 above the method's range
+    spec = load_study(ROOT / "problems" / "light_twin_jet.toml").spec
+    k = flight._induced_drag_factor_at_mach(spec, np.array([0.05, 0.05, 0.05]),
+                                            np.array([0.25, 0.7, 0.95]))
+    ke = lambda m: 1.0 - 0.001521 * (m / 0.3 - 1.0) ** 10.82  # noqa: E731
+    np.testing.assert_allclose(k, [0.05, 0.05 / ke(0.7), 0.05 / ke(0.8)], rtol=1e-12)

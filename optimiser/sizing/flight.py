@@ -67,7 +67,7 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
 
     The speed of the best rate maximises V (T(V) - D(V)) / W under the model's own thrust
     (propeller blend of static and eta P / V thrust, turbofan lapse with Mach) and drag, with
-    the Oswald factor at the flight Mach of each speed (:func:`_climb_induced_drag_factor`).
+    the Oswald factor at the flight Mach of each speed (:func:`_induced_drag_factor_at_mach`).
     Golden-section search (:func:`optimiser.physics.performance.maximise_on_bracket`, which
     needs only unimodality: the turbofan lapse has a kink in Mach that parabolic steps miss)
     on a bracket around Anderson's closed form v0 (minimum-power speed for propellers, the
@@ -124,7 +124,7 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
 
     def rate(v):
         """Rate of climb [m s^-1] at true airspeeds ``v`` [m s^-1], one per design."""
-        k_m = _climb_induced_drag_factor(spec, k_i, v / sound)
+        k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
         return v * (eng.thrust(v, eta) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h,
                                                                           k_m))
 
@@ -134,24 +134,22 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     return rate(v), v
 
 
-def _climb_induced_drag_factor(spec: AircraftSpec, k_low, mach):
-    """Induced-drag factor K [-] at flight Mach ``mach`` [-] from the low-speed K (Mach 0.2).
+def _induced_drag_factor_at_mach(spec: AircraftSpec, k_ref, mach, mach_ref=0.2):
+    """Induced-drag factor K [-] at flight Mach ``mach`` [-] from K at ``mach_ref`` [-].
 
-    e(M) = e_low k_M(M) / k_M(0.2), k_M of :func:`optimiser.physics.aerodynamics.
-    oswald_mach_factor` (Nita & Scholz 2012; 1 for Obert's method), so K(M) = K_low k_M(0.2)
-    / k_M(M). Unchanged where the method has no Mach term. Above the method's Mach range
+    e(M) = e(M_ref) k_M(M) / k_M(M_ref), k_M of :func:`optimiser.physics.aerodynamics.
+    oswald_mach_factor` (Nita & Scholz 2012; 1 for Obert's method), so K(M) = K_ref
+    k_M(M_ref) / k_M(M). Above the method's Mach range
     (:data:`optimiser.physics.aerodynamics.OSWALD_MACH_RANGE`) the factor is held at the
-    range's upper end, not extrapolated (the climb search keeps its speeds inside the range
-    where the stall floor allows; the caller flags the rest).
+    range's upper end, not extrapolated: the searches keep their speeds inside the range and
+    the caller flags answers outside it (``oswald_mach_in_range``).
     """
     method = spec.aerodynamics.oswald_method
-    if method == "obert2009":
-        return k_low
-    if np.max(mach, initial=0.0) <= 0.3:  # no Mach term below M 0.3 in either method
-        return k_low
-    m = np.minimum(mach, aero.OSWALD_MACH_RANGE[method][1])
-    return k_low * (float(aero.oswald_mach_factor(method, 0.2))
-                    / aero.oswald_mach_factor(method, m))
+    if method == "obert2009" or np.max(np.maximum(mach, mach_ref), initial=0.0) <= 0.3:
+        return k_ref  # no Mach term (Obert), or below M 0.3 (Nita & Scholz)
+    m_hi = aero.OSWALD_MACH_RANGE[method][1]
+    return k_ref * (aero.oswald_mach_factor(method, np.minimum(mach_ref, m_hi))
+                    / aero.oswald_mach_factor(method, np.minimum(mach, m_hi)))
 
 
 @dataclass(frozen=True, slots=True)
@@ -162,6 +160,8 @@ class Climb:
     climb_rate_m_s: np.ndarray  # best, at the departure airfield, clean
     climb_gradient: np.ndarray  # regulatory all-engines gradient, takeoff flaps, gear up [-]
     service_ceiling_m: np.ndarray  # best climb rate 100 ft/min, at takeoff mass
+    ceiling_mach_in_range: np.ndarray  # the climb speed floor at the ceiling is inside the
+    # Oswald method's Mach range (else the ceiling rests on e held at the range's top)
 
 
 def _ceiling_residual(spec, ap, dt, target, h, ix):
@@ -225,7 +225,10 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
         np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req),
         np.where(above, f_req, f_sl), np.where(above, f_top, f_req), xtol=1.0)
     ceiling = np.where(f_sl < 0.0, 0.0, np.where(f_top >= 0.0, atm.H_MAX, ceiling))
-    return Climb(v3[:n], roc3[:n], climb_gradient, ceiling)
+    rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)
+    v_floor_c = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_c, ad.cl_max_clean)
+    in_range = aero.oswald_mach_valid(ad.oswald_method, v_floor_c / atm.speed_of_sound(t_c))
+    return Climb(v3[:n], roc3[:n], climb_gradient, ceiling, in_range)
 
 
 @dataclass(frozen=True, slots=True)
@@ -234,6 +237,7 @@ class CruiseSpeed:
 
     speed_m_s: np.ndarray  # 0 where the airplane cannot fly level there
     mach: np.ndarray  # [-]
+    at_mach_cap: np.ndarray  # the speed is the cap (0.98 or the Oswald method's top Mach)
 
 
 class _LevelFlight:
@@ -247,12 +251,14 @@ class _LevelFlight:
                                                                       cd0, eta)
 
     def excess(self, v, ix=slice(None)):
-        """(T - D) / W [-] at true airspeed ``v`` [m s^-1], Lock's wave drag included."""
+        """(T - D) / W [-] at true airspeed ``v`` [m s^-1], Lock's wave drag included, the
+        Oswald factor at the Mach of ``v`` (``k`` is K at the cruise Mach)."""
         pr, ad, air, eng = self.spec.propulsion, self.spec.aerodynamics, self.air, self.engines
         mach = v / air.sound_speed_cruise_m_s
+        k_m = _induced_drag_factor_at_mach(self.spec, self.k[ix], mach, air.cruise_mach)
         d_w = performance.drag_to_weight(
             v, self.wing_loading[ix], air.density_cruise_kg_m3,
-            at(self.cd0, ix) + aero.wave_drag_lock(mach, ad.drag_divergence_mach), self.k[ix])
+            at(self.cd0, ix) + aero.wave_drag_lock(mach, ad.drag_divergence_mach), k_m)
         if pr.family == "turbofan":
             thrust = eng.thrust_sl[ix] * propulsion.turbofan_thrust_lapse_mattingly(
                 air.temperature_cruise_K, air.pressure_cruise_Pa, mach,
@@ -290,8 +296,9 @@ def cruise_speed(spec: AircraftSpec, ap: Airplane, air: AirStates, propeller_eff
     Returns
     -------
     CruiseSpeed
-        Highest level speed [m s^-1] (0 where thrust is short of drag at every speed) and
-        its Mach number [-].
+        Highest level speed [m s^-1] (0 where thrust is short of drag at every speed), its
+        Mach number [-], and where it is held at the search's top Mach (0.98, or the Oswald
+        method's upper Mach: thrust still exceeds drag there, the method cannot say more).
 
     References
     ----------
@@ -321,14 +328,16 @@ def cruise_speed(spec: AircraftSpec, ap: Airplane, air: AirStates, propeller_eff
     else:
         t_max = propeller_efficiency * eng_cr.power / w_cr  # [W/N]: thrust x speed per weight
         v_free = (t_max / a_d) ** (1.0 / 3.0)
-    v_hi = np.maximum(np.minimum(v_free * 1.05, 0.98 * a_cr), v_start * 1.0001)
+    mach_top = min(0.98, aero.OSWALD_MACH_RANGE[spec.aerodynamics.oswald_method][1])
+    v_hi = np.maximum(np.minimum(v_free * 1.05, mach_top * a_cr), v_start * 1.0001)
     f_hi = flight.excess(v_hi)
     v_pred = _level_speed_prediction(flight, v_free, v_start, v_hi, a_d, b_d, t_max)
     solve = can_fly & (f_hi < 0.0)
     v_max = root_after_prediction(flight.excess, v_pred, v_start, v_hi, f_start, f_hi, solve,
                                   xtol=1e-3)
     v_max = np.where(can_fly, np.where(f_hi >= 0.0, v_hi, v_max), 0.0)
-    return CruiseSpeed(v_max, v_max / a_cr)
+    capped = can_fly & (f_hi >= 0.0) & (v_hi >= mach_top * a_cr * (1.0 - 1e-12))
+    return CruiseSpeed(v_max, v_max / a_cr, capped)
 
 
 def _level_speed_prediction(flight, v_free, v_start, v_hi, a_d, b_d, t_max):
