@@ -108,7 +108,8 @@ COLUMNS = (
         note=" (engine-size objective)", label="installed static thrust, all engines [kN]",
         archived=True),
     _c("propeller_diameter_m", "propulsion", "m",
-        "propeller diameter from power per engine (Raymer form)"),
+        "propeller diameter from the tip limits at the study's rpm (cruise tip Mach, takeoff "
+        "tip speed)"),
     _c("static_thrust_N", "propulsion", "N",
         "static thrust at the departure airfield, all engines"),
     _c("cd0", "aerodynamics", "-", "clean zero-lift drag coefficient"),

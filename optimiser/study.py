@@ -405,7 +405,8 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                 "two or more engines)")
     if family == "turbofan":
         for k in ("sfc_cruise", "propeller_efficiency_cruise", "propeller_efficiency_climb",
-                  "propeller_diameter_coefficient", "engine_specific_mass"):
+                  "propeller_rpm_cruise", "propeller_rpm_takeoff", "propeller_tip_mach_max",
+                  "propeller_tip_speed_takeoff_max", "engine_specific_mass"):
             if k in raw["propulsion"]:
                 rd.fail(f"[propulsion] {k}", "given for a turbofan study; expected it only for "
                         "piston or turboprop studies (use tsfc_cruise, engine_thrust_to_weight)")

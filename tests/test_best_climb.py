@@ -77,15 +77,17 @@ def _no_limit(spec):
 
 
 def test_issue_example_climbs_faster_than_at_the_minimum_power_speed():
-    # default study, 600 N/m2, 46 N/kW, A 7, split flaps: 7.18 m/s at the minimum-power speed
-    # 34.9 m/s (Anderson's constant-power closed form) but 8.08 m/s at 44.9 m/s under the
-    # model's propeller thrust (static-thrust blend), found by the dense grid above
+    # default study, 600 N/m2, 46 N/kW, A 7, split flaps: with the tip-limited propeller
+    # (1.84 m) the best rate under the model's propeller thrust (static-thrust blend) is
+    # 5.95 m/s at 50.0 m/s, above the minimum-power speed of Anderson's constant-power closed
+    # form (APD 1999, ch. 5); before that propeller change, 8.08 m/s at 44.9 m/s (7.18 m/s at
+    # 34.9 m/s at the minimum-power speed)
     study = load_study(ROOT / "problems" / "high_strip_utility.toml")
     spec = study.spec
     out = sizing.size_designs(spec, np.array([600.0]), np.array([46.0]), np.array([7.0]),
                               np.array([spec.high_lift_names.index("split")]))
-    assert out["climb_rate_m_s"][0] == pytest.approx(8.08, abs=0.01)
-    assert out["climb_speed_m_s"][0] == pytest.approx(44.9, abs=0.3)
+    assert out["climb_rate_m_s"][0] == pytest.approx(5.95, abs=0.01)
+    assert out["climb_speed_m_s"][0] == pytest.approx(50.0, abs=0.3)
     assert not spec.speeds.climb_speed_limit  # propeller study: off by default
 
 
@@ -177,3 +179,23 @@ def test_induced_drag_factor_follows_the_flight_mach():
                                             np.array([0.25, 0.7, 0.95]))
     ke = lambda m: 1.0 - 0.001521 * (m / 0.3 - 1.0) ** 10.82  # noqa: E731
     np.testing.assert_allclose(k, [0.05, 0.05 / ke(0.7), 0.05 / ke(0.8)], rtol=1e-12)
+
+
+@pytest.mark.parametrize("name", ["high_strip_utility", "twin_turboprop_commuter"])
+def test_propeller_diameter_is_set_by_the_tip_limits_at_the_study_rpm(name):
+    # helical tip speed sqrt((pi n D)^2 + V^2) (kinematics): cruise tip Mach 0.85 and static
+    # takeoff tip speed 260 m/s (limits common practice), D the smaller of the two
+    study = load_study(ROOT / "problems" / f"{name}.toml")
+    spec = study.spec
+    pr, ms = spec.propulsion, spec.mission
+    a = atm.speed_of_sound(atm.isa_temperature(ms.cruise_altitude_m,
+                                               ms.cruise_temperature_offset_K))
+    d_cr = np.sqrt((0.85 * a) ** 2 - ms.cruise_speed_m_s**2) / (np.pi * pr.propeller_rpm_cruise
+                                                               / 60.0)
+    d_to = 260.0 / (np.pi * pr.propeller_rpm_takeoff / 60.0)
+    x = [np.array([0.5 * (v.lower + v.upper)]) for v in study.variables]
+    out = sizing.size_designs(spec, *x, np.array([spec.high_lift_names.index(study.flaps[0])]))
+    assert out["propeller_diameter_m"][0] == pytest.approx(min(d_cr, d_to), rel=1e-12)
+    # piston at 2700 rpm takeoff: 260 / (pi 45) = 1.839 m (hand value)
+    if name == "high_strip_utility":
+        assert out["propeller_diameter_m"][0] == pytest.approx(1.839, abs=5e-4)
