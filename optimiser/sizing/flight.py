@@ -148,8 +148,12 @@ def _induced_drag_factor_at_mach(spec: AircraftSpec, k_ref, mach, mach_ref=0.2):
     if method == "obert2009" or np.max(np.maximum(mach, mach_ref), initial=0.0) <= 0.3:
         return k_ref  # no Mach term (Obert), or below M 0.3 (Nita & Scholz)
     m_hi = aero.OSWALD_MACH_RANGE[method][1]
-    return k_ref * (aero.oswald_mach_factor(method, np.minimum(mach_ref, m_hi))
-                    / aero.oswald_mach_factor(method, np.minimum(mach, m_hi)))
+    mach = np.asarray(mach, dtype=float)
+    ref = float(aero.oswald_mach_factor(method, min(mach_ref, m_hi)))
+    k = np.broadcast_to(k_ref * ref, mach.shape).copy()
+    high = mach > 0.3  # the factor is 1 at and below M 0.3: evaluate it only above
+    k[high] /= aero.oswald_mach_factor(method, np.minimum(mach[high], m_hi))
+    return k
 
 
 @dataclass(frozen=True, slots=True)
@@ -171,8 +175,9 @@ def _ceiling_residual(spec, ap, dt, target, h, ix):
 def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     """Best climb rate at the departure airfield, the regulatory gradient and the ceiling.
 
-    The best climb at the departure airfield, at sea level, at the required ceiling and at the
-    model's top altitude are found in one call; the latter three bracket the service ceiling,
+    The best climb at the departure airfield is found in one call, at sea level, at the
+    required ceiling and at the model's top altitude in a second (at the ceiling search's
+    iterations); the latter three bracket the service ceiling,
     solved from the half of the range (split at the required ceiling) that holds it, so that
     designs near the requirement start from a short, nearly linear bracket.
 
@@ -199,12 +204,11 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     ws_c = ap.wing_loading_N_m2
     n = ws_c.size
     h_req = min(max(spec.requirements.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
-    roc3, v3 = best_climb(
-        spec, ap,
-        np.concatenate([np.full(n, dep.elevation_m), np.zeros(n), np.full(n, h_req),
-                        np.full(n, atm.H_MAX)]),
-        np.concatenate([np.full(n, dep.temperature_offset_K), np.full(3 * n, dt_cr)]),
-        np.concatenate([np.arange(n)] * 4))
+    roc_dep, v_dep = best_climb(spec, ap, np.full(n, dep.elevation_m),
+                                np.full(n, dep.temperature_offset_K))
+    roc3, _ = best_climb(  # the ceiling's brackets, at the ceiling search's iterations
+        spec, ap, np.concatenate([np.zeros(n), np.full(n, h_req), np.full(n, atm.H_MAX)]),
+        np.full(3 * n, dt_cr), np.concatenate([np.arange(n)] * 3), iterations=10)
 
     rho_aeo, t_aeo, p_aeo, _ = isa_state(spec.certification.aeo_climb_altitude_m)
     eng_aeo = engines_at(spec, ap.engines, rho_aeo, t_aeo, p_aeo, pr.climb_power_fraction)
@@ -216,9 +220,9 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
                                                    ap.polar.induced_drag_factor)
 
     target = performance.SERVICE_CEILING_CLIMB_RATE
-    f_sl = roc3[n:2 * n] - target
-    f_req = roc3[2 * n:3 * n] - target
-    f_top = roc3[3 * n:] - target
+    f_sl = roc3[:n] - target
+    f_req = roc3[n:2 * n] - target
+    f_top = roc3[2 * n:] - target
     above = f_req >= 0.0
     ceiling = falling_root(
         functools.partial(_ceiling_residual, spec, ap, dt_cr, target),
@@ -228,7 +232,7 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)
     v_floor_c = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_c, ad.cl_max_clean)
     in_range = aero.oswald_mach_valid(ad.oswald_method, v_floor_c / atm.speed_of_sound(t_c))
-    return Climb(v3[:n], roc3[:n], climb_gradient, ceiling, in_range)
+    return Climb(v_dep, roc_dep, climb_gradient, ceiling, in_range)
 
 
 @dataclass(frozen=True, slots=True)
