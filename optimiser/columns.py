@@ -108,7 +108,8 @@ COLUMNS = (
         note=" (engine-size objective)", label="installed static thrust, all engines [kN]",
         archived=True),
     _c("propeller_diameter_m", "propulsion", "m",
-        "propeller diameter from power per engine (Raymer form)"),
+        "propeller diameter from the tip limits at the study's rpm (cruise tip Mach, takeoff "
+        "tip speed)"),
     _c("static_thrust_N", "propulsion", "N",
         "static thrust at the departure airfield, all engines"),
     _c("cd0", "aerodynamics", "-", "clean zero-lift drag coefficient"),
@@ -163,7 +164,8 @@ COLUMNS = (
         "landing field length the rules require: distance / 0.6 (x 1.15 wet) under the "
         "dispatch rules (14 CFR 121.195(b), (d)), else the distance"),
     _c("climb_speed_m_s", "performance", "m/s",
-        "speed of the best all-engines climb at the departure airfield"),
+        "speed flown in the best all-engines climb at the departure airfield: the best-rate "
+        "speed, held to 250 kn indicated below 10 000 ft where the study applies the limit"),
     _c("climb_rate_m_s", "performance", "m/s",
         "best all-engines rate of climb at the departure airfield, clean"),
     _c("climb_gradient", "performance", "-",
@@ -186,6 +188,9 @@ COLUMNS = (
     _c("cruise_mach", "performance", "-", "Mach number of that speed"),
     _c("service_ceiling_m", "performance", "m",
         "altitude where the best climb rate is 100 ft/min, takeoff mass"),
+    _c("oswald_mach_in_range", "performance", "",
+        "cruise speed and ceiling found inside the Oswald method's Mach range (false: the "
+        "cruise speed is held at the method's top Mach, or the ceiling's climb needs more)"),
     _c("maintenance_index", "high-lift", "-",
         "relative maintenance complexity of the high-lift system, per side", archived=True),
     _c("feasible", "verdict", "", "every margin >= 0"),

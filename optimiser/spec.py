@@ -69,8 +69,15 @@ class Propulsion:
                                                     doc="propeller efficiency in takeoff and climb")
     propeller_figure_of_merit: float = _f(0.70, lo=0.3, hi=0.9,
                                           doc="static figure of merit (McCormick, momentum theory)")
-    propeller_diameter_coefficient: float | None = _f(
-        None, lo=0.2, hi=1.2, doc="D [m] = k * (P per engine [kW])**0.25")
+    propeller_rpm_cruise: float | None = _f(None, lo=300.0, hi=6000.0,
+                                            doc="propeller rpm in cruise (after any gearbox)")
+    propeller_rpm_takeoff: float | None = _f(None, lo=300.0, hi=6000.0,
+                                             doc="propeller rpm at takeoff")
+    propeller_tip_mach_max: float = _f(0.85, lo=0.5, hi=1.0,
+                                       doc="helical tip Mach limit in cruise (common practice)")
+    propeller_tip_speed_takeoff_max_m_s: float = _f(
+        260.0, unit="m/s", lo=150.0, hi=340.0,
+        doc="static tip speed limit at takeoff (common practice)")
     cruise_power_fraction: float | None = _f(None, lo=0.3, hi=1.0,
                                              doc="power or thrust setting for the cruise-speed check")
     climb_power_fraction: float = _f(1.0, lo=0.3, hi=1.0,
@@ -201,6 +208,9 @@ class Speeds:
                                    doc="approach path angle (3 deg)")
     free_roll_time_s: float = _f(3.0, unit="s", lo=0.0, hi=10.0,
                                  doc="free roll before braking (Anderson)")
+    climb_speed_limit: bool | None = _f(
+        None, doc="hold the climb to 250 kn indicated below 10 000 ft, 14 CFR 91.117(a) "
+        "(default: true for turbofan, false for propeller studies)")
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -230,6 +240,8 @@ class HighLift:
     flapped_span_fraction: float
     slat_span_fraction: float
     support_weight: float
+    slat_cl_increment_takeoff: float = 0.0  # the slats' part of cl_increment_takeoff [-]
+    slat_cl_increment_landing: float = 0.0  # the slats' part of cl_increment_landing [-]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -278,7 +290,8 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
             sfc_cruise=7.5e-8,                 # 0.27 kg/kWh = 0.44 lb/(hp h), lean cruise [common practice]
             propeller_efficiency_cruise=0.80,  # Roskam Pt I Table 2.2 [from memory]
             propeller_efficiency_climb=0.75,   # Roskam Pt I Table 2.2, 0.7-0.77 [from memory]
-            propeller_diameter_coefficient=0.56,  # Raymer ch. 10, two-blade [from memory]
+            propeller_rpm_cruise=2400.0,       # direct-drive piston, 2200-2500 rpm [common practice]
+            propeller_rpm_takeoff=2700.0,      # direct-drive piston, rated 2600-2800 rpm [common practice]
             cruise_power_fraction=0.75,        # 75 % power cruise [common practice]
             engine_specific_mass=1.35),        # 0.9 kg/kW dry x 1.5 installed [common practice]
         "aerodynamics": dict(cd0_clean=0.028, cl_max_clean=1.5, oswald_k_ed0=0.804),
@@ -294,7 +307,8 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
             sfc_cruise=8.33e-8,                # 0.30 kg/kWh = 0.49 lb/(shp h), Roskam Tbl 2.2 0.4-0.6
             propeller_efficiency_cruise=0.85,  # Roskam Pt I Table 2.2 [from memory]
             propeller_efficiency_climb=0.80,
-            propeller_diameter_coefficient=0.49,  # Raymer ch. 10, four-blade [from memory]
+            propeller_rpm_cruise=1700.0,       # geared turboprop, 1200-2000 rpm [common practice]
+            propeller_rpm_takeoff=1700.0,      # constant-speed, same rpm at takeoff [common practice]
             cruise_power_fraction=0.90,        # max cruise power [common practice]
             engine_specific_mass=0.45),        # 0.25 kg/kW dry x 1.8 with propeller [common practice]
         "aerodynamics": dict(cd0_clean=0.024, cl_max_clean=1.5, oswald_k_ed0=0.804),

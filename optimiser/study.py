@@ -283,6 +283,10 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
         elif f.type in ("str", str):
             values[f.name] = rd.choice(where, value, (value,)) if isinstance(value, str) else \
                 rd.fail(where, f"got {value!r}; expected a string")
+        elif f.type in ("bool", "bool | None"):
+            if not isinstance(value, bool):
+                rd.fail(where, f"got {value!r}; expected true or false")
+            values[f.name] = value
         elif meta.get("unit"):
             values[f.name] = rd.quantity(where, value, meta["unit"], meta.get("min"),
                                          meta.get("max"), meta.get("min_open", False))
@@ -426,7 +430,8 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                 "two or more engines)")
     if family == "turbofan":
         for k in ("sfc_cruise", "propeller_efficiency_cruise", "propeller_efficiency_climb",
-                  "propeller_diameter_coefficient", "engine_specific_mass"):
+                  "propeller_rpm_cruise", "propeller_rpm_takeoff", "propeller_tip_mach_max",
+                  "propeller_tip_speed_takeoff_max", "engine_specific_mass"):
             if k in raw["propulsion"]:
                 rd.fail(f"[propulsion] {k}", "given for a turbofan study; expected it only for "
                         "piston or turboprop studies (use tsfc_cruise, engine_thrust_to_weight)")
@@ -443,7 +448,8 @@ def parse_study(text: str, path: str = "<study>") -> Study:
                            "fraction_climb", "fraction_descent", "fraction_landing"), fr))
     mis = _read_section(rd, "mission", raw["mission"], S.Mission, mis_preset)
     req = _read_section(rd, "requirements", raw["requirements"], S.Requirements, {})
-    speeds = _read_section(rd, "speeds", raw.get("speeds", {}), S.Speeds, {})
+    speeds = _read_section(rd, "speeds", raw.get("speeds", {}), S.Speeds,
+                           {"climb_speed_limit": family == "turbofan"})  # 14 CFR 91.117(a)
     if speeds.flare_speed_factor > speeds.approach_speed_factor:
         rd.fail("[speeds] flare_speed_factor", f"got {speeds.flare_speed_factor:g}; expected "
                 f"at most the approach_speed_factor {speeds.approach_speed_factor:g}")
@@ -483,6 +489,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
 
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
+    # unswept increments (hinge sweep 0): sizing.aero.high_lift scales them per design
     configs = tuple(S.HighLift(**highlift.high_lift_config(
         n, catalogue, slat_entry, aero.flapped_span_fraction, aero.slat_span_fraction, 0.0,
         wts.actuator_unit_mass_kg)) for n in all_names)

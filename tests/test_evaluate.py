@@ -176,8 +176,8 @@ def test_mass_closure_by_hand(studies, samples):
     assert r["structure_systems_mass_kg"] == pytest.approx(0.27 * m_to + 60.0, rel=1e-9)
     assert r["engine_mass_kg"] == pytest.approx(1.35 * m_to * G0 / 73.0, rel=1e-9)
     assert r["flap"] == "none" and r["high_lift_mass_kg"] == 0.0
-    # trip fuel by the Breguet range equation (propeller form, e.g. Raymer, Aircraft Design,
-    # eq. 6.11, from memory): W_i / W_f = exp(R g c / (eta L/D)), at the mid-cruise L/D,
+    # trip fuel by the Breguet range equation (propeller form, Anderson, "Aircraft Performance
+    # and Design", 1999, ch. 5, from memory): W_i / W_f = exp(R g c / (eta L/D)), at the mid-cruise L/D,
     # with the Roskam Pt I Table 2.1 fractions before (start, taxi, takeoff, climb) and
     # after (descent, landing) the cruise.
     ms = sp.mission

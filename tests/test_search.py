@@ -14,6 +14,7 @@ import optimiser
 from optimiser.cli import main
 from optimiser.evaluation import design_columns, size_frame
 from optimiser.runs import RunInterrupted, resume
+from optimiser.runstate import STALL_TOLERANCE
 from optimiser.search import flap_indices, hypervolume, nondominated_mask, reference_scales
 from optimiser.study import bundled_study_path, parse_study
 
@@ -193,7 +194,9 @@ def test_front_reaches_dense_reference_and_beats_random(study, tmp_path):
     cols = list(study.objective_columns())
     scales = reference_scales(study)
     hv_ref = hypervolume(_dense_reference(study, 25), scales)
-    result = optimiser.optimise(study, out=tmp_path / "q", population=60, generations=10,
+    # 20 generations: with 10 the threshold held only at the default seed (0.94 of the
+    # dense hypervolume; 0.78 and 0.73 at seeds 2 and 3 on the same model)
+    result = optimiser.optimise(study, out=tmp_path / "q", population=60, generations=20,
                                 plots=False)
     hv = hypervolume(result.front[cols].to_numpy(float), scales)
     rng = np.random.default_rng(12345)

@@ -201,7 +201,8 @@ def test_family_defaults_fill_omitted_values(default_study, turboprop_study, jet
     assert p.propeller_efficiency_cruise == pytest.approx(0.80)
     assert p.propeller_efficiency_climb == pytest.approx(0.75)
     assert p.engine_specific_mass == pytest.approx(1.35)
-    assert p.propeller_diameter_coefficient == pytest.approx(0.56)   # Raymer ch. 10, from memory
+    # propeller rpm 2400 cruise, 2700 takeoff (direct-drive piston, common practice)
+    assert (p.propeller_rpm_cruise, p.propeller_rpm_takeoff) == (2400.0, 2700.0)
     assert default_study.spec.weights.ultimate_load_factor == pytest.approx(5.7)  # 1.5 x 3.8
     # a value the study gives is NOT replaced by the family default (0.44 lb/hp/h != 7.5e-8)
     assert p.sfc_cruise != pytest.approx(S.FAMILY_DEFAULTS["piston"]["propulsion"]["sfc_cruise"])
@@ -223,7 +224,7 @@ def test_family_defaults_fill_omitted_values(default_study, turboprop_study, jet
                      sp.destination):
             for name, value in vars(part).items():
                 if name in ("sfc_cruise", "tsfc_cruise", "propeller_efficiency_cruise",
-                            "propeller_efficiency_climb", "propeller_diameter_coefficient",
+                            "propeller_efficiency_climb", "propeller_rpm_cruise", "propeller_rpm_takeoff",
                             "engine_specific_mass", "engine_thrust_to_weight",
                             "engine_installation_factor"):
                     continue  # the other family's keys stay None
@@ -534,6 +535,11 @@ def test_check_accepts_the_default_study(tmp_path):
 
 # --- the flap catalogue --------------------------------------------------------------------
 
+COS_HINGE_A8 = math.cos(math.atan(-(4.0 / 8.0) * 0.45 * 0.4 / 1.6))
+"""cos of the hinge-line sweep (x/c = 0.7) of the default study's wing at A 8 (trapezoidal
+planform, tan L_x = tan L_c/4 - (4/A)(x - 1/4)(1 - taper)/(1 + taper), derived)."""
+
+
 def _config(study, name):
     return next(h for h in study.spec.high_lift if h.name == name)
 
@@ -550,11 +556,14 @@ def test_flap_catalogue_override_changes_the_increments(default_study):
     # the other fields and the other flaps are untouched
     assert new.cd0_increment_landing == old.cd0_increment_landing
     assert _config(study, "plain") == _config(default_study, "plain")
-    # ... and the sized airplane sees it: CLmax landing = 1.5 + 1.08
+    # ... and the sized airplane sees it: CLmax landing = 1.5 + 1.08 cos(hinge sweep), the
+    # hinge at x/c 0.7 of the unswept (c/4), taper 0.6, A 8 wing: tan = -(4/8) 0.45 (0.4/1.6)
     d = {"wing_loading_N_m2": [1000.0], "power_loading_N_kW": [70.0], "aspect_ratio": [8.0],
          "flap": ["fowler"]}
-    assert optimiser.evaluate(study, d)["cl_max_landing"].iloc[0] == pytest.approx(2.58)
-    assert optimiser.evaluate(default_study, d)["cl_max_landing"].iloc[0] == pytest.approx(2.3775)
+    assert optimiser.evaluate(study, d)["cl_max_landing"].iloc[0] == pytest.approx(
+        1.5 + 1.08 * COS_HINGE_A8)
+    assert optimiser.evaluate(default_study, d)["cl_max_landing"].iloc[0] == pytest.approx(
+        1.5 + 0.8775 * COS_HINGE_A8)
 
 
 def test_new_flap_type_with_every_field_is_usable(default_study):
@@ -574,7 +583,8 @@ def test_new_flap_type_with_every_field_is_usable(default_study):
     frame = optimiser.evaluate(study, pd.DataFrame({
         "wing_loading_N_m2": [1000.0, 1000.0], "power_loading_N_kW": [70.0, 70.0],
         "aspect_ratio": [8.0, 8.0], "flap": ["slotted_plain", "plain"]}))
-    assert frame["cl_max_landing"].tolist() == pytest.approx([1.5 + 0.6534, 1.5 + 0.486])
+    assert frame["cl_max_landing"].tolist() == pytest.approx(
+        [1.5 + 0.6534 * COS_HINGE_A8, 1.5 + 0.486 * COS_HINGE_A8])
     assert frame["within_bounds"].tolist() == [True, True]
     assert np.isfinite(frame.select_dtypes("number").to_numpy()).all()
 

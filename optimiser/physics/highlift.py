@@ -181,7 +181,7 @@ def high_lift_config(name, flap_catalogue, slat_entry, flapped_span_fraction,
         slat_area_ratio=0.0, slat_mass_per_area_kg_m2=0.0, slat_items=0.0,
         slat_supports_min=0.0, slat_support_spacing_m=1.0,
         flapped_span_fraction=float(flapped_span_fraction) if has_flap else 0.0,
-        slat_span_fraction=0.0,
+        slat_span_fraction=0.0, slat_cl_increment_takeoff=0.0, slat_cl_increment_landing=0.0,
         support_weight=MAINTENANCE_WEIGHTS["supports"])
     if slats:
         s = slat_entry
@@ -196,7 +196,9 @@ def high_lift_config(name, flap_catalogue, slat_entry, flapped_span_fraction,
                    slat_mass_per_area_kg_m2=float(s["mass_per_area_kg_m2"]),
                    slat_items=float(slat_items), slat_supports_min=float(s["supports"]),
                    slat_support_spacing_m=float(s["support_spacing_m"]),
-                   slat_span_fraction=float(slat_span_fraction))
+                   slat_span_fraction=float(slat_span_fraction),
+                   slat_cl_increment_takeoff=s["takeoff_fraction"] * s_land,
+                   slat_cl_increment_landing=s_land)
         out["actuators"] += float(s["actuators"])
     out.update(cl_increment_takeoff=d_to, cl_increment_landing=d_land,
                cd0_increment_takeoff=cd_to, cd0_increment_landing=cd_l,

@@ -84,16 +84,6 @@ def turbofan_thrust_lapse_mattingly(temperature, pressure, mach, throttle_ratio=
     return np.maximum(base, 0.0)
 
 
-def propeller_diameter(power_per_engine, coefficient=0.56):
-    """Propeller diameter [m] from shaft power per engine [W]: D = k (P [kW])^0.25.
-
-    A statistical power law kept for today's results (k = 0.56, 0.52, 0.49 for two, three
-    and four blades: common practice, no source cited here); superseded by
-    :func:`propeller_diameter_tip_limits`, derived from the tip-speed limits.
-    """
-    return coefficient * (np.maximum(np.asarray(power_per_engine, dtype=float), 0.0) / 1e3) ** 0.25
-
-
 PROPELLER_TIP_MACH_MAX = 0.85
 """Helical tip Mach number limit in cruise [-]: 0.85 for metal blades of conventional
 sections, to keep the tip below its drag rise and noise in bounds (common practice; 0.8 to 0.9

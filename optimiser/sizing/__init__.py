@@ -88,7 +88,7 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
     ov = batch.overrides
     air = air_states(spec)
     drag = clean_drag(spec, batch.aspect_ratio, air, ov)
-    hl = high_lift(spec, batch.high_lift_index)
+    hl = high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
     consumption = cruise_consumption(spec, ov)
     closure = close_takeoff_mass(closure_inputs(spec, batch, air, drag, hl, consumption))
     st = closure.state

@@ -10,6 +10,7 @@ import numpy as np
 
 from ..physics import aerodynamics as aero
 from ..physics import atmosphere as atm
+from ..physics import highlift
 from ..spec import AircraftSpec
 
 
@@ -91,6 +92,8 @@ class HighLift:
     flapped_span_fraction: np.ndarray
     slat_span_fraction: np.ndarray
     support_weight: np.ndarray
+    slat_cl_increment_takeoff: np.ndarray  # the slats' part, swept wing [-]
+    slat_cl_increment_landing: np.ndarray  # the slats' part, swept wing [-]
     cl_max_takeoff: np.ndarray  # airplane CLmax, takeoff configuration [-]
     cl_max_landing: np.ndarray  # airplane CLmax, landing configuration [-]
 
@@ -104,15 +107,24 @@ def _high_lift_table(options):
     return {f: np.array([getattr(h, f) for h in options], dtype=float) for f in _CATALOGUE_FIELDS}
 
 
-def high_lift(spec: AircraftSpec, high_lift_index) -> HighLift:
+def high_lift(spec: AircraftSpec, high_lift_index, aspect_ratio) -> HighLift:
     """Catalogue numbers of each design's high-lift option and the airplane CLmax with it.
+
+    The catalogue's CLmax increments are those of an unswept hinge line; each design's are
+    scaled by cos(Lambda) of its own planform: the flap's part by the hinge-line sweep at
+    x/c = 1 - c_f/c (c_f/c of :data:`optimiser.physics.highlift.FLAP_CHORD_RATIO`), the slats'
+    part by the leading-edge sweep (x/c = 0), both from the quarter-chord sweep, taper and
+    this design's aspect ratio (:func:`optimiser.physics.highlift.sweep_at_chord_fraction`).
 
     Parameters
     ----------
     spec : AircraftSpec
-        Resolved study: the high-lift options and the clean CLmax [-].
+        Resolved study: the high-lift options, the clean CLmax [-], quarter-chord sweep [rad]
+        and taper ratio [-].
     high_lift_index : ndarray of int
         Index into ``spec.high_lift``, one per design. [-]
+    aspect_ratio : ndarray
+        Wing aspect ratio, one per design. [-]
 
     Returns
     -------
@@ -122,11 +134,23 @@ def high_lift(spec: AircraftSpec, high_lift_index) -> HighLift:
 
     References
     ----------
-    .. [1] The catalogue of :mod:`optimiser.physics.highlift` (each entry cites its source).
+    .. [1] The catalogue of :mod:`optimiser.physics.highlift` (each entry cites its source;
+       dCLmax proportional to cos(Lambda_hinge)); trapezoidal planform geometry (derived
+       there).
     """
+    ad = spec.aerodynamics
     table = _high_lift_table(spec.high_lift)
     hl = {f: v[high_lift_index] for f, v in table.items()}
-    cl_clean = spec.aerodynamics.cl_max_clean
+    cos_hinge = np.cos(highlift.hinge_line_sweep(ad.sweep_quarter_chord_rad, aspect_ratio,
+                                                 ad.taper_ratio))
+    cos_le = np.cos(highlift.sweep_at_chord_fraction(ad.sweep_quarter_chord_rad, aspect_ratio,
+                                                     ad.taper_ratio, 0.0))
+    for phase in ("takeoff", "landing"):
+        slat = hl[f"slat_cl_increment_{phase}"] * cos_le
+        hl[f"cl_increment_{phase}"] = (hl[f"cl_increment_{phase}"]
+                                       - hl[f"slat_cl_increment_{phase}"]) * cos_hinge + slat
+        hl[f"slat_cl_increment_{phase}"] = slat
+    cl_clean = ad.cl_max_clean
     return HighLift(**hl, cl_max_takeoff=cl_clean + hl["cl_increment_takeoff"],
                     cl_max_landing=cl_clean + hl["cl_increment_landing"])
 

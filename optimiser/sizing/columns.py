@@ -124,6 +124,7 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
         out[f"margin_{c}"] = mg.matrix[:, k]
     seen: set = set()
     out = {k: finite(v, ws_c.shape, seen) for k, v in out.items()}
+    out["oswald_mach_in_range"] = climb.ceiling_mach_in_range & ~cruise.at_mach_cap
     out["feasible"] = mg.feasible
     out["limiting_index"] = mg.limiting_index
     return out

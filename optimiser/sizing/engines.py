@@ -67,10 +67,17 @@ class InstalledPropulsion:
 def installed_propulsion(spec: AircraftSpec, rated, overrides) -> InstalledPropulsion:
     """Propeller diameter and climb efficiency of engines of the given rating.
 
+    The diameter is the largest the tip limits allow at the study's propeller rpm: helical
+    tip Mach in cruise (cruise speed and altitude of the mission) and static tip speed at
+    takeoff (:func:`optimiser.physics.propulsion.propeller_diameter_tip_limits`), the same for
+    every design of a study.
+
     Parameters
     ----------
     spec : AircraftSpec
-        Resolved study: engine count, propeller diameter coefficient, climb efficiency [-].
+        Resolved study: engine count, propeller rpm in cruise and at takeoff [min^-1], tip
+        Mach [-] and tip speed [m s^-1] limits, cruise speed [m s^-1] and altitude [m], climb
+        efficiency [-].
     rated : ndarray
         Sea-level static thrust [N] (turbofan) or rated power [W], all engines.
     overrides : dict
@@ -84,14 +91,19 @@ def installed_propulsion(spec: AircraftSpec, rated, overrides) -> InstalledPropu
 
     References
     ----------
-    Propeller diameter from power per engine, a Raymer-style form (the source is cited in
-    :func:`optimiser.physics.propulsion.propeller_diameter`).
+    Helical tip speed sqrt((pi n D)^2 + V^2) set to each limit (kinematics, derived in
+    :func:`optimiser.physics.propulsion.propeller_diameter_tip_limits`); the limits are common
+    practice.
     """
-    pr = spec.propulsion
+    pr, ms = spec.propulsion, spec.mission
     if pr.family == "turbofan":
         return InstalledPropulsion(rated, None, 1.0)
-    diameter = propulsion.propeller_diameter(rated / pr.engine_count,
-                                             pr.propeller_diameter_coefficient)
+    t_cr = atm.isa_temperature(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
+    d = propulsion.propeller_diameter_tip_limits(
+        pr.propeller_rpm_cruise / 60.0, ms.cruise_speed_m_s, atm.speed_of_sound(t_cr),
+        pr.propeller_rpm_takeoff / 60.0, 0.0, pr.propeller_tip_mach_max,
+        pr.propeller_tip_speed_takeoff_max_m_s)
+    diameter = np.full_like(np.asarray(rated, dtype=float), float(d))
     return InstalledPropulsion(rated, diameter, overrides.get("propeller_efficiency_climb",
                                                               pr.propeller_efficiency_climb))
 

@@ -51,7 +51,7 @@ def test_bsfc_unit():
 
 def test_regression_pin_breguet_propeller():
     # regression pin: eta 0.8, 7.5e-8 kg/J, L/D 11, W_f/W_i 0.9 -> 1260.60 km
-    # (METHODS sec. 6 [D]; ours 1260.6038 km). Breguet, e.g. Raymer eq. 17.28 (from memory)
+    # (METHODS sec. 6 [D]; ours 1260.6038 km). Breguet range equation, Anderson, APD 1999, ch. 5 (from memory)
     r = ms.breguet_range_propeller(0.8, BSFC, 11.0, 1.0 / 0.9)
     assert r / 1e3 == pytest.approx(1260.60, abs=0.005)
 

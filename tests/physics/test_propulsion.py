@@ -198,11 +198,6 @@ def test_propeller_thrust_non_increasing(power, eta, fm, d, v, dv):
     assert t_a <= t0 * (1.0 + 1e-12)
 
 
-def test_propeller_diameter_regression_pin():
-    # regression pin: D = 0.56 (P[kW])^0.25; 150 kW -> 1.95980 m (computed by us)
-    assert prop.propeller_diameter(150e3) == pytest.approx(1.95980, abs=5e-6)
-
-
 # --- propeller diameter from the tip limits ---------------------------------------------------
 
 def test_helical_tip_speed_is_the_vector_sum():
