@@ -8,10 +8,7 @@ was expected. See DEVELOPERS.md for the full list of keys.
 
 from __future__ import annotations
 
-import difflib
 import hashlib
-import math
-import re
 from dataclasses import dataclass, fields, replace
 from pathlib import Path
 from typing import Any
@@ -25,6 +22,7 @@ from . import spec as S
 from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
 from .physics import aerodynamics, atmosphere, highlift, mission, performance
+from .quantities import _Reader, _dimension_name, _suggest, units  # noqa: F401  (units: public)
 
 MAX_STUDY_BYTES = 1_000_000
 MAX_CRUISE_MACH = 0.82
@@ -56,18 +54,6 @@ _REQUIRED_SECTIONS = ("propulsion", "aerodynamics", "weights", "mission", "requi
                       "departure", "variables")
 
 
-_UREG = None
-
-
-def units():
-    """The shared pint UnitRegistry (created on first use)."""
-    global _UREG
-    if _UREG is None:
-        import pint
-        _UREG = pint.UnitRegistry()
-    return _UREG
-
-
 def toml_key(field_name: str, unit: str | None) -> str:
     """The study key of a spec field: the field name without its unit suffix."""
     if unit is not None:
@@ -75,11 +61,6 @@ def toml_key(field_name: str, unit: str | None) -> str:
             if field_name.endswith(suffix):
                 return field_name[: -len(suffix)]
     return field_name
-
-
-def _suggest(word, choices):
-    close = difflib.get_close_matches(word, list(choices), n=1)
-    return f" (did you mean {close[0]!r}?)" if close else ""
 
 
 @dataclass(frozen=True)
@@ -125,129 +106,6 @@ class Study:
 
     def variable(self, column: str) -> Variable:
         return next(v for v in self.variables if v.column == column)
-
-
-class _Reader:
-    """Reads values out of the parsed TOML, with the file name in every message."""
-
-    def __init__(self, path: str):
-        self.path = path
-
-    def fail(self, where: str, message: str):
-        raise StudyError(f"{self.path}: {where}: {message}")
-
-    def number(self, where, value, lo=None, hi=None, lo_open=False, integer=False):
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
-            kind = "a string" if isinstance(value, str) else type(value).__name__
-            extra = " (drop the quotes and any unit: this value is dimensionless)" \
-                if isinstance(value, str) else ""
-            self.fail(where, f"got {value!r} ({kind}); expected a number{extra}")
-        if integer and not isinstance(value, int):
-            self.fail(where, f"got {value!r}; expected a whole number")
-        try:
-            finite = math.isfinite(value)
-        except OverflowError:  # an integer too large for a float
-            finite = False
-            value = float("inf") if value > 0 else float("-inf")
-        if not finite:
-            self.fail(where, f"got {value!r}; expected a finite number")
-        self._range(where, float(value), lo, hi, lo_open, "")
-        return int(value) if integer else float(value)
-
-    def _range(self, where, x, lo, hi, lo_open, unit):
-        u = f" {unit}" if unit else ""
-        if lo is not None and (x < lo or (lo_open and x <= lo)):
-            rel = "greater than" if lo_open else "at least"
-            self.fail(where, f"got {x:g}{u}; expected {rel} {lo:g}{u}"
-                      + (f" and at most {hi:g}{u}" if hi is not None else ""))
-        if hi is not None and x > hi:
-            self.fail(where, f"got {x:g}{u}; expected at most {hi:g}{u}")
-
-    def quantity(self, where, value, unit, lo=None, hi=None, lo_open=False):
-        ureg = units()
-        example = {"m": '"600 m"', "m/s": '"61 kn"', "kg": '"400 kg"', "s": '"45 min"',
-                   "K": '"15 K"', "rad": '"3 deg"', "kg/J": '"0.45 lb/hp/hour"',
-                   "kg/N/s": '"0.7 lb/lbf/hour"', "kg/kW": '"1.3 kg/kW"',
-                   "N/m^2": '"1200 N/m^2"', "N/kW": '"80 N/kW"'}.get(unit, f'"1 {unit}"')
-        want = ureg.Quantity(1.0, unit)
-        dim_name = _dimension_name(unit)
-        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
-            self.fail(where, f"got {value!r}; expected {dim_name} as a string with its unit, "
-                      f"e.g. {example}")
-        if not isinstance(value, str):
-            self.fail(where, f"got {value!r} (a bare number); expected {dim_name} with its unit, "
-                      f"e.g. {example}")
-        try:
-            if _UNSAFE_POWER.search(value):  # pint evaluates 9**9**9 exactly: refuse it
-                raise ValueError("exponent")
-            q = ureg.Quantity(value)
-        except Exception as exc:
-            if "offset" in type(exc).__name__.lower() or "offset" in str(exc).lower():
-                self.fail(where, f"got {value!r}, an absolute temperature; expected a "
-                          "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
-            self.fail(where, f"got {value!r}, which is not a quantity with a known unit; "
-                      f"expected {dim_name}, e.g. {example}")
-        if isinstance(getattr(q, "magnitude", None), int):  # pint keeps "1000...0 ft" exact
-            try:
-                q = ureg.Quantity(float(q.magnitude), q.units)
-            except OverflowError:
-                self.fail(where, f"got {value!r}; expected a finite value")
-        if not hasattr(q, "units") or q.unitless:
-            self.fail(where, f"got {value!r} (no unit); expected {dim_name} with its unit, "
-                      f"e.g. {example}")
-        if unit == "K" and not q._ok_for_muldiv():
-            self.fail(where, f"got {value!r}, an absolute temperature; expected a "
-                      "temperature difference, e.g. \"15 K\" or \"15 delta_degC\"")
-        if q.dimensionality != want.dimensionality:
-            self.fail(where, f"got {value!r}, which is not {dim_name}; expected {dim_name}, "
-                      f"e.g. {example}" + _force_hint(q, want))
-        try:
-            x = float(q.to(unit).magnitude)
-        except OverflowError:  # an exact integer too large for a float
-            x = math.inf
-        if not math.isfinite(x):
-            self.fail(where, f"got {value!r}; expected a finite value")
-        self._range(where, x, lo, hi, lo_open, unit)
-        return x
-
-    def choice(self, where, value, choices):
-        if not isinstance(value, str) or value not in choices:
-            self.fail(where, f"got {value!r}; expected one of: "
-                      + ", ".join(repr(c) for c in choices)
-                      + (_suggest(value, choices) if isinstance(value, str) else ""))
-        return value
-
-    def table(self, where, value):
-        if not isinstance(value, dict):
-            self.fail(where, f"got {value!r}; expected a table ([{where.strip('[]')}])")
-        return value
-
-
-_UNSAFE_POWER = re.compile(r"[\d.)]\s*(\*\*|\^)|(\*\*|\^)(?!\s*[-+]?\d{1,2}(\.\d+)?(?![\d.]|\s*(\*\*|\^)))")
-"""A power of a number, or a power that is not a plain small exponent ("m^2", "s**-1")."""
-
-
-_DIMENSIONS = {"m": "a length", "m/s": "a speed", "kg": "a mass", "s": "a time",
-               "K": "a temperature difference", "rad": "an angle",
-               "kg/J": "a power-specific fuel consumption",
-               "kg/N/s": "a thrust-specific fuel consumption",
-               "kg/kW": "a mass per power", "N/m^2": "a wing loading (force per area)",
-               "N/kW": "a power loading (force per power)"}
-
-
-def _force_hint(q, want) -> str:
-    """A hint when a mass was written where a force is needed ('lb/ft^2' for 'lbf/ft^2')."""
-    if (q * units().standard_gravity).dimensionality != want.dimensionality:
-        return ""
-    per = ("area" if want.dimensionality == units().Quantity(1, "N/m^2").dimensionality else
-           "power" if want.dimensionality == units().Quantity(1, "N/kW").dimensionality else "")
-    examples = {"area": "lbf/ft^2 or kgf/m^2", "power": "lbf/hp or kgf/kW"}.get(per, "lbf or kgf")
-    return (f" (a mass per {per or 'unit'} was given; a force is needed: write pound-force or "
-            f"kilogram-force, e.g. {examples})")
-
-
-def _dimension_name(unit):
-    return _DIMENSIONS.get(unit, f"a quantity in {unit}")
 
 
 _CHOICES = {
@@ -387,13 +245,12 @@ def _read_catalogue(rd: _Reader, raw: dict):
     return cat, slat
 
 
-def parse_study(text: str, path: str = "<study>") -> Study:
-    """Validate study TOML text and build a :class:`Study`. Raises :class:`StudyError`."""
-    rd = _Reader(path)
+def _read_toml(rd: _Reader, text: str) -> dict:
+    """The parsed TOML with its top-level keys and required tables checked."""
     try:
         raw = tomllib.loads(text)
     except (tomllib.TOMLDecodeError, ValueError) as exc:  # ValueError: int over 4300 digits
-        raise StudyError(f"{path}: not valid TOML: {exc}") from None
+        raise StudyError(f"{rd.path}: not valid TOML: {exc}") from None
     for key in raw:
         if key not in _TOP_KEYS:
             rd.fail("top level", f"unknown key {key!r}{_suggest(key, _TOP_KEYS)}; expected one "
@@ -404,6 +261,11 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     for sec in (*_SECTIONS, "variables", "objectives", "search"):
         if sec in raw:
             rd.table(f"[{sec}]", raw[sec])
+    return raw
+
+
+def _read_names(rd: _Reader, raw: dict) -> tuple[str, str, str]:
+    """The study's name, description and certification basis."""
     name = raw.get("name")
     if not isinstance(name, str) or not name.strip():
         rd.fail("name", f"got {name!r}; expected a non-empty string naming the study")
@@ -415,12 +277,15 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         rd.fail("description", f"got {description!r}; expected a string")
     basis = rd.choice("certification", raw.get("certification", "part23"),
                       S.CERTIFICATION_BASES)
+    return name, description, basis
 
-    fam_raw = raw["propulsion"].get("family")
-    family = rd.choice("[propulsion] family", fam_raw, S.PROPULSION_FAMILIES)
-    presets = S.FAMILY_DEFAULTS[family]
+
+def _read_propulsion(rd: _Reader, raw: dict, basis: str):
+    """[propulsion] with the family's defaults; keys of the other families are refused."""
+    family = rd.choice("[propulsion] family", raw["propulsion"].get("family"),
+                       S.PROPULSION_FAMILIES)
     prop = _read_section(rd, "propulsion", raw["propulsion"], S.Propulsion,
-                         presets.get("propulsion", {}))
+                         S.FAMILY_DEFAULTS[family].get("propulsion", {}))
     if prop.engine_count > MAX_ENGINES[family]:
         rd.fail("[propulsion] engine_count", f"got {prop.engine_count}; a {family} study "
                 f"expects 1 to {MAX_ENGINES[family]} engines")
@@ -440,6 +305,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
             if k in raw["propulsion"]:
                 rd.fail(f"[propulsion] {k}", f"given for a {family} study; expected it only "
                         "for turbofan studies")
+    return family, prop
+
+
+def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop) -> tuple:
+    """[aerodynamics], [weights], [mission], [requirements] and [speeds], with defaults."""
+    presets = S.FAMILY_DEFAULTS[family]
     aero = _read_section(rd, "aerodynamics", raw["aerodynamics"], S.Aerodynamics,
                          presets.get("aerodynamics", {}))
     wts = _read_section(rd, "weights", raw["weights"], S.Weights, presets.get("weights", {}))
@@ -453,7 +324,12 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     if speeds.flare_speed_factor > speeds.approach_speed_factor:
         rd.fail("[speeds] flare_speed_factor", f"got {speeds.flare_speed_factor:g}; expected "
                 f"at most the approach_speed_factor {speeds.approach_speed_factor:g}")
+    return aero, wts, mis, req, speeds
 
+
+def _certification(rd: _Reader, raw: dict, basis, family, prop, req, mis) -> tuple:
+    """The certification numbers, the mass limit they set, the airfields and the checks of
+    the cruise speed; returns (certification, requirements, departure, destination)."""
     try:
         cert_numbers = performance.certification_numbers(basis, family, prop.engine_count)
     except ValueError as exc:
@@ -486,7 +362,17 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         oei_flaps_takeoff=cert_numbers["oei_flaps_takeoff"],
         aeo_climb_altitude_m=0.0, balanced_field=cert_numbers["balanced_field"],
         field_length_factor=cert_numbers["field_length_factor"], landing_rule=landing_rule)
+    return cert, req, dep, dst
 
+
+def parse_study(text: str, path: str = "<study>") -> Study:
+    """Validate study TOML text and build a :class:`Study`. Raises :class:`StudyError`."""
+    rd = _Reader(path)
+    raw = _read_toml(rd, text)
+    name, description, basis = _read_names(rd, raw)
+    family, prop = _read_propulsion(rd, raw, basis)
+    aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop)
+    cert, req, dep, dst = _certification(rd, raw, basis, family, prop, req, mis)
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
     # unswept increments (hinge sweep 0): sizing.aero.high_lift scales them per design
@@ -496,7 +382,6 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     spec = S.AircraftSpec(propulsion=prop, aerodynamics=aero, weights=wts, mission=mis,
                           requirements=req, speeds=speeds, departure=dep, destination=dst,
                           certification=cert, high_lift=configs)
-
     variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
     objectives = _read_objectives(rd, raw.get("objectives", {}))
     search = _read_search(rd, raw.get("search", {}))

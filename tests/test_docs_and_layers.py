@@ -134,7 +134,7 @@ def test_schema_units_follow_the_column_names():
 
 LAYERS = (
     ("leaves", ("physics", "spec", "columns", "errors", "bundled")),
-    ("loading and sizing", ("study", "uncertainty", "sizing", "solvers")),
+    ("loading and sizing", ("study", "quantities", "uncertainty", "sizing", "solvers")),
     ("evaluation and search", ("evaluation", "designs", "search", "problem")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
