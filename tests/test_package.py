@@ -1,7 +1,7 @@
 """Packaging: the bundled studies are found through importlib.resources, problems/ is their one
 copy, ``optimiser studies`` lists and copies them, and the version comes from one place.
 
-Source of the rules checked: the project's pyproject.toml (optimiser.problems mapped onto
+Source: the rules checked are the project's pyproject.toml (optimiser.problems mapped onto
 problems/, the version read from ``optimiser.__version__``) and README ("Start your own
 study"); the CLI's exit status 2 for user errors is the project's own rule (cli.py)."""
 

@@ -1,5 +1,8 @@
 """The public API of ``optimiser``: every name in ``__all__`` resolves to the implementation
-itself (same object, same signature), and ``import optimiser`` stays light."""
+itself (same object, same signature), and ``import optimiser`` stays light.
+
+Source: the project's own public-API rule (DEVELOPERS.md, "Layout and layers"); no
+published values are checked here."""
 
 from __future__ import annotations
 

@@ -1,7 +1,9 @@
 """The palette and the figure helper of optimiser.report.
 
 Colours today are matplotlib's "tab10" cycle (its published hex values: matplotlib docs,
-"Choosing Colormaps", qualitative maps; the Tableau 10 palette), by position."""
+"Choosing Colormaps", qualitative maps; the Tableau 10 palette), by position.
+
+Source: matplotlib documentation (tab10 values), from memory for the hex codes."""
 
 import matplotlib.colors as mcolors
 

@@ -1,5 +1,7 @@
 """The run folder module: its file names are spelled in one place, and the one archive reader
-returns what the file holds."""
+returns what the file holds.
+
+Source: the project's own run-folder rules (DEVELOPERS.md); no published values."""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""The stages of the sizing package: documented, typed, and usable on a fixed airplane."""
+"""The stages of the sizing package: documented, typed, and usable on a fixed airplane.
+
+Source: the project's own stage contract (DEVELOPERS.md); the values compared are the
+model's own, bit for bit (no published values)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""The sizing layer's root finders (optimiser/solvers.py) on functions with known roots."""
+"""The sizing layer's root finders (optimiser/solvers.py) on functions with known roots.
+
+Source: the roots are exact by construction (e.g. x^2 - c has the root sqrt(c)); the
+secant and regula falsi methods as in any numerical-analysis text (from memory)."""
 
 from __future__ import annotations
 
