@@ -66,9 +66,12 @@ def cmd_sweep(args):
                               workers=args.workers, serial=args.serial,
                               progress=lambda s: print(s, flush=True))
     except KeyboardInterrupt:
-        out = f" --out {args.out}" if args.out else " --out <the campaign folder>"
-        print(f"\ninterrupted; finished runs are kept; run 'optimiser sweep {args.campaign}"
-              f"{out}' to redo only the rest", file=sys.stderr)
+        from .errors import shell_command
+        again = (shell_command("optimiser", "sweep", args.campaign, "--out", args.out)
+                 if args.out else shell_command("optimiser", "sweep", args.campaign)
+                 + " --out <the campaign folder>")
+        print(f"\ninterrupted; finished runs are kept; run: {again} to redo only the rest",
+              file=sys.stderr)
         return 130
     if not args.no_plots and (result.summary["status"] == "finished").any():
         from .report.campaign_plots import plot_campaign

@@ -40,6 +40,13 @@ class UsageError(OptimiserError):
     """A command-line option, or an output path, that cannot be used (one line)."""
 
 
+def shell_command(*words) -> str:
+    """A command to paste into a POSIX shell: each word quoted where it needs it (a folder
+    name with spaces, quotes or ``;`` runs nothing when pasted)."""
+    import shlex
+    return " ".join(shlex.quote(str(w)) for w in words)
+
+
 class RunInterrupted(Exception):
     """The run was stopped (Ctrl-C, SIGTERM) after saving a checkpoint it can resume from.
 
@@ -49,4 +56,4 @@ class RunInterrupted(Exception):
     def __init__(self, run_dir):
         self.run_dir = Path(run_dir)
         super().__init__(f"interrupted; the run is saved in {self.run_dir}; resume it with: "
-                         f"optimiser resume {self.run_dir}")
+                         f"{shell_command('optimiser', 'resume', self.run_dir)}")

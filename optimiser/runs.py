@@ -28,7 +28,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import RunError, RunInterrupted
+from .errors import RunError, RunInterrupted, shell_command
 from .loop import LEAST_VIOLATING_ROWS, Printer, history_row, run_loop
 from .outputs import finish, summary_text
 from .runfolder import archive, files, names, place
@@ -189,7 +189,7 @@ def _drive(study, state, run_dir, progress, plots):
         raise RunError(f"{run_dir}: cannot write {name} ({what}){space}; the run stopped and "
                        f"its last checkpoint (generation {saved['generation']}) is kept; "
                        f"expected a writable folder with free space: fix it, then run: "
-                       f"optimiser resume {run_dir}") from None
+                       f"{shell_command('optimiser', 'resume', run_dir)}") from None
     finally:
         if isinstance(progress, Printer):
             progress.close()

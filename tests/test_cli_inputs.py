@@ -112,3 +112,17 @@ def test_evaluate_refuses_an_over_long_field(tmp_path):
     done = _evaluate("--designs", path, cwd=tmp_path)
     assert done.returncode == 2 and "Traceback" not in done.stderr
     assert "not a readable CSV table" in done.stderr and done.stderr.count("\n") == 1
+
+
+@pytest.mark.parametrize("folder", ["plain", "with space", "semi;colon", "quote'd", "$(touch x)"])
+def test_printed_resume_command_is_quoted_for_the_shell(tmp_path, folder):
+    # a folder name with shell characters must come back as one word and run nothing
+    # (POSIX shell quoting, as shlex.quote gives it)
+    from optimiser.errors import RunInterrupted
+    run_dir = tmp_path / folder
+    message = str(RunInterrupted(run_dir))
+    command = message.split("resume it with: ", 1)[1]
+    done = subprocess.run(["sh", "-c", f"printf '%s\\n' {command}"], capture_output=True,
+                          text=True, cwd=tmp_path)
+    assert done.stdout.splitlines() == ["optimiser", "resume", str(run_dir)]
+    assert not (tmp_path / "x").exists()
