@@ -23,7 +23,7 @@ import numpy as np
 from .errors import RunInterrupted
 from .runfolder import archive, files
 from .runfolder.checkpoint import save_checkpoint
-from .runstate import STALL_TOLERANCE, DesignSet, RunState
+from .runstate import DesignSet, RunState
 
 LEAST_VIOLATING_ROWS = 20
 CHECKPOINT_INTERVAL_S = 30.0
@@ -101,8 +101,8 @@ def _one_generation(study, state, pending):
     _update_least(study, state, gen_set, G)
     hv = hypervolume(state.front.F, state.scales) \
         if state.front is not None and len(state.front) else 0.0
-    tolerance = getattr(state.budget, "stall_tolerance", STALL_TOLERANCE)  # older checkpoints
-    if hv > state.best_hv * (1 + tolerance) and hv > 0:
+    # (a checkpoint written before the field existed reads the dataclass default)
+    if hv > state.best_hv * (1 + state.budget.stall_tolerance) and hv > 0:
         state.best_hv = hv
         state.stall = 0
     elif state.best_hv > 0:

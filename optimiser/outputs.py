@@ -121,7 +121,7 @@ def run_info(study, state: RunState, front, history, message, ended_utc) -> dict
                    "flap_options": list(study.flaps),
                    "evaluations": b.evaluations, "time_s": b.time_s,
                    "stall_generations": b.stall_generations,
-                   "stall_tolerance": getattr(b, "stall_tolerance", None),
+                   "stall_tolerance": b.stall_tolerance,
                    "checkpoint_every": b.checkpoint_every,
                    "checkpoint_interval_s": (CHECKPOINT_INTERVAL_S if b.checkpoint_every is None
                                              else None)},
