@@ -91,6 +91,8 @@ def cmd_evaluate(args):
 
 def cmd_check(args):
     from .evaluation import CAUTION
+    from .preflight import summary_lines
+    from .study_table import ORIGIN_GIVEN, certification_entries, resolved_entries
     study = _study(args.study)
     sp = study.spec
     print(f"study {study.name}: {study.description}")
@@ -101,7 +103,26 @@ def cmd_check(args):
     print(f"  objectives: {', '.join(study.objectives)}")
     for name, reason in sp.requirements.skip_checks:
         print(f"  check {name} switched off: {reason}")
-    print("study is valid")
+    entries = resolved_entries(study)
+    print("as given (the study's units -> SI):")
+    for e in entries:
+        if e.origin == ORIGIN_GIVEN:
+            same = e.given.strip('"') == e.value_text
+            print(f"  [{e.section}] {e.key} = {e.given}" + ("" if same else f" -> {e.value_text}"))
+    print("defaults applied (SI):")
+    for e in entries:
+        if e.origin != ORIGIN_GIVEN:
+            print(f"  [{e.section}] {e.key} = {e.value_text}  ({e.origin})")
+    print(f"certification {sp.certification.basis} sets:")
+    for name, value, unit, meaning in certification_entries(study):
+        shown = f"{value:g}" if isinstance(value, float) else str(value)
+        print(f"  {meaning}: {shown}{' ' + unit if unit else ''}")
+    lines = summary_lines(study)
+    for line in lines:
+        print(line)
+    warned = sum(line.startswith("warning:") for line in lines)
+    print("study is valid" + (f"; {warned} warning{'s' if warned > 1 else ''} above: a run "
+                              "is likely to find nothing feasible" if warned else ""))
     print(CAUTION)
     return 0
 

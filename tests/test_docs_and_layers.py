@@ -134,8 +134,9 @@ def test_schema_units_follow_the_column_names():
 
 LAYERS = (
     ("leaves", ("physics", "spec", "columns", "errors", "bundled")),
-    ("loading and sizing", ("study", "quantities", "uncertainty", "sizing", "solvers")),
-    ("evaluation and search", ("evaluation", "designs", "search", "problem")),
+    ("loading and sizing", ("study", "quantities", "uncertainty", "study_table", "sizing",
+                            "solvers")),
+    ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
                                         "campaign_file")),
