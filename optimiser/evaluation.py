@@ -18,6 +18,9 @@ from .sizing import active_constraints, size_designs
 CAUTION = ("Conceptual-design estimates only: not for certification, airworthiness or "
            "operational use. The applicable airworthiness authority's rules and licensed "
            "engineering practice govern.")
+CAUTION_SHORT = ("Conceptual-design estimate only: not for certification or operational use; "
+                 "airworthiness rules and licensed engineering practice govern.")
+"""The caution in one short line (the footer of every figure)."""
 
 
 def design_columns(study) -> tuple[str, ...]:

@@ -146,14 +146,15 @@ def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
     """Write front.csv (or least_violating.csv), the figures and run.json; build the result.
 
     ``plots`` draws the run's figures: a callable ``plots(study, run_dir, front, history,
-    scales=...)`` such as :func:`optimiser.report.plots.write_plots` (the reporting layer,
+    scales=..., run_utc=..., least_violating=...)`` such as :func:`optimiser.report.plots.write_plots` (the reporting layer,
     which this layer does not import), or None/False for none."""
     history = read_history(run_dir)
     ended = files.utc_now()
     front, least, message = _write_tables(study, state, run_dir)
     info = run_info(study, state, front, history, message, ended)
     if plots:
-        plots(study, run_dir, front, history, scales=state.scales)
+        plots(study, run_dir, front, history, scales=state.scales, run_utc=state.started_utc,
+              least_violating=least)
     # run.json last: its presence marks a finished run (resume finishes a run killed before)
     write_run_info(run_dir, info)
     return RunResult(front=front, history=history, run_dir=run_dir, message=message,

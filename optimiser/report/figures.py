@@ -31,6 +31,27 @@ def pyplot():
     return _PYPLOT
 
 
+FOOTER_FONT_SIZE = 6.5
+FOOTER_INCHES = 0.22
+"""Height kept free at the bottom of a figure for the footer line [inch]."""
+
+
+def footer(fig, study_name: str, run_utc: str | None = None):
+    """The footer every figure carries: the study, the run's start time (UTC) and the
+    one-line caution."""
+    from ..evaluation import CAUTION_SHORT
+    from .palette import NOTE_TEXT
+    parts = [f"study {study_name}"] + ([f"run started {run_utc}"] if run_utc else [])
+    fig.text(0.006, 0.008, "  ·  ".join([*parts, CAUTION_SHORT]), fontsize=FOOTER_FONT_SIZE,
+             color=NOTE_TEXT, ha="left", va="bottom")
+
+
+def finish_layout(fig, study_name: str, run_utc: str | None = None):
+    """Tight layout above the footer line, then the footer."""
+    fig.tight_layout(rect=(0, FOOTER_INCHES / fig.get_figheight(), 1, 1))
+    footer(fig, study_name, run_utc)
+
+
 def save(fig, stem, dpi=DPI) -> list[Path]:
     """Write ``fig`` as ``<stem>.png`` and ``<stem>.svg``, close it, return the paths."""
     written = []

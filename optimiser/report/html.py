@@ -60,23 +60,26 @@ def _r(x, sig=5):
 
 def diagram_data(study, design, n=DIAGRAM_GRID):
     """Zero-margin lines and the all-met region of one design's constraint diagram as plain
-    lists for the page: {"ar", "flap", "mass_kg", "x": [lo, hi], "y": [lo, hi],
-    "lines": [{"name", "label", "pts"}], "region": [[[x, y], ...], ...]}."""
+    lists for the page: {"ar", "flap", "x": [lo, hi], "y": [lo, hi],
+    "lines": [{"name", "label", "colour", "dash", "pts"}], "region": [[[x, y], ...], ...]}.
+    The lines are traced as in the figures (:func:`optimiser.report.diagram.trace`), in the
+    palette's colour and dash of each constraint."""
     import contourpy
     from ..sizing import active_constraints
+    from .diagram import trace
     from .plots import constraint_grid
     ws, ld, frame = constraint_grid(study, design, n)
     shape = (len(ld), len(ws))
+    constraints = active_constraints(study.spec)
+    mins = np.min([np.where(np.isfinite(m), m, -1.0) for m in
+                   (frame[f"margin_{c}"].to_numpy(float) for c in constraints)], axis=0)
+    mins = mins.reshape(shape)
     lines = []
-    mins = None
-    for c in active_constraints(study.spec):
-        M = frame[f"margin_{c}"].to_numpy(float).reshape(shape)
-        mins = M if mins is None else np.minimum(mins, M)
-        if not (np.nanmin(M) < 0 < np.nanmax(M)):
-            continue
-        gen = contourpy.contour_generator(ws, ld, M)
-        segs = [[[_r(x), _r(y)] for x, y in seg] for seg in gen.lines(0.0) if len(seg) > 1]
-        lines.append({"name": c, "label": CONSTRAINT_LABELS.get(c, c), "pts": segs})
+    for line in trace(study, design, ws, ld, frame, constraints):
+        colour, dash = palette.constraint_style(line.name)
+        segs = [[[_r(x), _r(y)] for x, y in pts] for pts in line.polylines]
+        lines.append({"name": line.name, "label": CONSTRAINT_LABELS.get(line.name, line.name),
+                      "colour": colour, "dash": palette.SVG_DASHES[dash], "pts": segs})
     region = []
     if np.nanmax(mins) >= 0:
         gen = contourpy.contour_generator(ws, ld, mins, fill_type="OuterOffset")
@@ -196,9 +199,11 @@ def _front_sections(run) -> list[str]:
     history = read_history(run.run_dir) if run.history_path.is_file() else None
     F = read_archive(run.run_dir, study.objective_columns(), feasible_only=True)\
         .to_numpy(float)
-    figs = [("objectives", png_data_uri(plots.objective_scatter(study, front, F)))]
+    figs = [("objectives", png_data_uri(plots.objective_scatter(
+        study, front, F, run.info.get("started_utc"))))]
     if history is not None and len(history):
-        figs.append(("convergence", png_data_uri(plots.convergence(study, history))))
+        figs.append(("convergence", png_data_uri(plots.convergence(
+            study, history, run.info.get("started_utc")))))
     return ["<section id='fronts'><h2>Fronts</h2>" + "".join(
         f"<figure><img alt='{n}' src='{src}'></figure>" for n, src in figs) + "</section>",
         "<section id='explore'><h2>Explore the front</h2>"
@@ -211,14 +216,16 @@ def _front_sections(run) -> list[str]:
         "<h3 id='sheet-title'>Design sheet</h3><div id='sheet'></div></section>"]
 
 
-def _choice_section(study, choice) -> str:
+def _choice_section(run, choice) -> str:
     """The chosen compromise: its numbers, margins, constraint diagram and runners-up."""
     from ..decide import runners_up
     from . import plots, sheet
     esc = html.escape
+    study = run.study
     d = choice.design
     runners = runners_up(study, choice)
-    fig = plots.design_constraint_diagram(study, d, label="chosen design")
+    fig = plots.design_constraint_diagram(study, d, label="chosen design", front=run.front,
+                                          run_utc=run.info.get("started_utc"))
     tab = sheet.design_sheet(study, d)
     mar = tab[tab["section"] == "margin"]
     bind = sheet.binding_constraints(study, d)
@@ -273,8 +280,9 @@ def _flaps_section(run) -> str:
             "the mean, over the engine sizes from where both options have a design, of the "
             "smallest trip fuel each reaches with an engine no larger than that (and the same "
             "with the roles swapped); positive = worse than the reference.</p>"
-            + _table(head, rows, "flaps") + f"<figure><img alt='flap fronts' src='"
-            f"{png_data_uri(plots.flap_fronts(study, fronts, table))}'></figure></section>")
+            + _table(head, rows, "flaps") + "<figure><img alt='flap fronts' src='"
+            + png_data_uri(plots.flap_fronts(study, fronts, table, run.info.get("started_utc")))
+            + "'></figure></section>")
 
 
 def write_report(run, choice=None, flaps=True) -> Path:
@@ -285,7 +293,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
     study = run.study
     sections = _run_sections(run) + _front_sections(run)
     if choice is not None:
-        sections.append(_choice_section(study, choice))
+        sections.append(_choice_section(run, choice))
     if flaps and run.evaluations_path.is_file():
         sections.append(_flaps_section(run))
     data = page_data(run, choice) if len(run.front) else None

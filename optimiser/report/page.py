@@ -176,13 +176,13 @@ function drawDiagram(d){
   const path = pts => pts.map((p, i) => (i ? 'L' : 'M') + sx(p[0]).toFixed(1) + ' ' + sy(p[1]).toFixed(1)).join('');
   if (g.region.length) el('path', {d: g.region.map(p => path(p) + 'Z').join(''), fill: '__REGION_FILL__',
     'fill-opacity': __REGION_ALPHA__, 'fill-rule': 'evenodd', class: 'region'}, svg);
-  const pal = __LINE_COLOURS__;
   let ly = 400 + 22;
   g.lines.forEach((ln, k) => { const m = val(d, 'margin_' + ln.name);
-    const bind = m < D.binding_margin, col = pal[k % pal.length];
-    ln.pts.forEach(seg => el('path', {d: path(seg), fill: 'none', stroke: col,
+    const bind = m < D.binding_margin, col = ln.colour;
+    ln.pts.forEach(seg => el('path', {d: path(seg), fill: 'none', stroke: col, 'stroke-dasharray': ln.dash,
       'stroke-width': bind ? 3 : 1.3, class: 'cline', 'data-constraint': ln.name}, svg));
-    el('line', {x1: 64, x2: 84, y1: ly - 4, y2: ly - 4, stroke: col, 'stroke-width': bind ? 3 : 1.3}, svg);
+    el('line', {x1: 64, x2: 84, y1: ly - 4, y2: ly - 4, stroke: col, 'stroke-dasharray': ln.dash,
+      'stroke-width': bind ? 3 : 1.3}, svg);
     const t = el('text', {x: 90, y: ly, 'font-size': '11'}, svg);
     t.textContent = ln.label + ` (margin ${(100 * m).toFixed(1)} %${bind ? ', binding' : ''})`; ly += 14; });
   const x = sx(val(d, 'wing_loading_N_m2')), y = sy(val(d, D.loading_column));
@@ -225,5 +225,5 @@ buildControls(); drawFront(); if (D.designs.length) select(state.selected);
 
 PAGE_SCRIPT = (PAGE_SCRIPT.replace("__REGION_FILL__", palette.FEASIBLE_REGION_HEX)
            .replace("__REGION_ALPHA__", f"{palette.FEASIBLE_REGION_ALPHA:g}")
-           .replace("__LINE_COLOURS__", palette.js_array(palette.REPORT_LINE_COLOURS)))
+)
 """The page script with the palette's colours filled in."""

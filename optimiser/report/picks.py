@@ -45,7 +45,8 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
             "caution": CAUTION}
     write_atomic(out / names.PICK_CHOICE, json_bytes(info))
-    save(design_constraint_diagram(study, choice.design, label="chosen design"),
+    save(design_constraint_diagram(study, choice.design, label="chosen design", front=run.front,
+                                   run_utc=run.info.get("started_utc")),
          out / "constraint_diagram")
     return out
 
@@ -85,7 +86,7 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     out.mkdir(exist_ok=True)
     write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
     write_atomic(out / "flaps.md", sheet.flaps_markdown(run.study, table).encode())
-    save(flap_fronts(run.study, fronts, table), out / "flaps")
+    save(flap_fronts(run.study, fronts, table, run.info.get("started_utc")), out / "flaps")
     return out
 
 

@@ -1,14 +1,18 @@
-"""Plots of a run: objective scatter with the front, 3-D front, decision variables of the
-front (parallel coordinates), convergence and a constraint diagram at a representative
-design. Each function takes the data and an optional ``ax`` and returns the Figure;
-:func:`write_plots` saves PNG and SVG in ``RUN_DIR/plots``. matplotlib comes from
-:func:`optimiser.report.figures.pyplot` (Agg, imported on first use), colours from
-:mod:`optimiser.report.palette`; ``plt.show()`` is never called.
+"""Plots of a run: objective scatter with the front, the front view (trip fuel against
+engine size, one staircase per flap option), decision variables of the front (parallel
+coordinates), convergence and a constraint diagram at a representative design. Each function
+takes the data and returns the Figure; :func:`write_plots` saves PNG and SVG in
+``RUN_DIR/plots``. matplotlib comes from :func:`optimiser.report.figures.pyplot` (Agg,
+imported on first use), colours and line styles from :mod:`optimiser.report.palette` (one per
+constraint and flap type, fixed by name); every figure made here carries the footer of
+:func:`optimiser.report.figures.footer` (study, run time, caution); ``plt.show()`` is never
+called.
 """
 
 from __future__ import annotations
 
 import itertools
+import textwrap
 from pathlib import Path
 
 import numpy as np
@@ -17,82 +21,134 @@ from ..columns import CONSTRAINT_LABELS, plot_label
 from ..runfolder import names
 from ..runfolder.archive import read_archive
 from . import palette
-from .figures import pyplot, save
+from .figures import finish_layout, pyplot, save
+
+LEGEND_OUTSIDE = dict(loc="upper left", bbox_to_anchor=(1.02, 1.0), borderaxespad=0.0)
+"""Legends sit to the right of their axes, never over the data."""
+
+CLOUD_NOTE = ("grey: every feasible design evaluated. A front point can sit inside the grey "
+              "cloud of one view: it is better in an objective that view does not show.")
 
 
-def objective_scatter(study, front, feasible_F, ax=None):
-    """Pairwise objective scatter: every feasible evaluated design in grey, the front coloured
-    by flap type."""
+def _front_limits(values, cloud=None, below=0.08, above=0.6):
+    """Axis limits that hold every front value, with room for the dominated band next to
+    it (at most up to the largest cloud value)."""
+    lo, hi = float(np.min(values)), float(np.max(values))
+    span = hi - lo if hi > lo else max(0.05 * abs(hi), 1.0)
+    top = hi + above * span
+    if cloud is not None and len(cloud):
+        top = min(top, max(hi + 0.05 * span, float(np.max(cloud))))
+    return lo - below * span, top + 0.02 * span
+
+
+def _flap_scatter(ax, x, y, flap, **kw):
+    st = palette.flap_style(flap)
+    return ax.scatter(x, y, color=st["color"], marker=st["marker"],
+                      edgecolor=palette.DESIGN_MARKER, linewidth=0.3, **kw)
+
+
+def objective_scatter(study, front, feasible_F, run_utc=None):
+    """Pairwise objective scatter: every feasible evaluated design in grey, the front
+    coloured by flap type; axes fitted to the front."""
     plt = pyplot()
     cols = list(study.objective_columns())
     pairs = list(itertools.combinations(range(len(cols)), 2))
-    if ax is None:
-        fig, axes = plt.subplots(1, len(pairs), figsize=(5 * len(pairs), 4.4), squeeze=False)
-        axes = axes[0]
-    else:
-        fig, axes = ax.figure, [ax]
-        pairs = pairs[:1]
-    colours = palette.flap_colours(study.flaps)
+    fig, axes = plt.subplots(1, len(pairs), figsize=(4.6 * len(pairs) + 2.2, 4.6),
+                             squeeze=False)
+    axes = axes[0]
+    F = np.asarray(feasible_F, float).reshape(-1, len(cols))
     for a, (i, j) in zip(axes, pairs):
-        if len(feasible_F):
-            a.scatter(feasible_F[:, i], feasible_F[:, j], s=4, c=palette.FEASIBLE_DESIGNS,
-                      label="feasible designs", rasterized=True)
+        if len(F):
+            a.scatter(F[:, i], F[:, j], s=4, c=palette.FEASIBLE_DESIGNS,
+                      label="feasible designs evaluated", rasterized=True)
         for flap in study.flaps:
             sel = front[front["flap"] == flap]
             if len(sel):
-                a.scatter(sel[cols[i]], sel[cols[j]], s=18, color=colours[flap],
-                          edgecolor=palette.DESIGN_MARKER, linewidth=0.3, label=f"front: {flap}")
+                _flap_scatter(a, sel[cols[i]], sel[cols[j]], flap, s=20,
+                              label=f"front: {palette.flap_label(flap)}")
         a.set_xlabel(plot_label(cols[i]))
         a.set_ylabel(plot_label(cols[j]))
         a.grid(alpha=0.3)
-        if len(front):  # zoom on the front and the dominated band next to it
-            for k, setter in ((i, a.set_xlim), (j, a.set_ylim)):
-                lo, hi = float(front[cols[k]].min()), float(front[cols[k]].max())
-                span = max(hi - lo, 0.05 * max(abs(hi), 1.0))
-                setter(lo - 0.15 * span, hi + 1.5 * span)
-    axes[0].legend(fontsize=7, loc="best")
-    if len(front):
-        axes[-1].text(1.0, -0.16, "axes zoomed on the front; designs beyond are off the plot",
-                      transform=axes[-1].transAxes, ha="right", fontsize=7,
-                      color=palette.NOTE_TEXT)
-    fig.suptitle(f"{study.name}: objectives (front highlighted)")
-    fig.tight_layout()
+        if len(front):
+            a.set_xlim(*_front_limits(front[cols[i]], F[:, i] if len(F) else None))
+            a.set_ylim(*_front_limits(front[cols[j]], F[:, j] if len(F) else None))
+    axes[-1].legend(fontsize=7, **LEGEND_OUTSIDE)
+    fig.suptitle(f"{study.name}: objectives, front highlighted\n{CLOUD_NOTE}", fontsize=9)
+    finish_layout(fig, study.name, run_utc)
     return fig
 
 
-def front_3d(study, front, ax=None):
-    """3-D view of the front, coloured by flap type (three objectives only)."""
+def _words(column: str) -> str:
+    """A column's axis label without its unit."""
+    return plot_label(column).split(" [")[0]
+
+
+def _range_text(values) -> str:
+    lo, hi = f"{float(values.min()):.3g}", f"{float(values.max()):.3g}"
+    return lo if lo == hi else f"{lo} to {hi}"
+
+
+def _staircase(x, y):
+    """The 2-objective non-dominated subset of (x, y) (both minimised), sorted by x."""
+    from ..search import nondominated_mask
+    P = np.column_stack([np.asarray(x, float), np.asarray(y, float)])
+    keep = nondominated_mask(P)
+    P = P[keep]
+    return P[np.argsort(P[:, 0], kind="stable")], keep
+
+
+def front_view(study, front, run_utc=None):
+    """The front as a reader can read it: the first objective (trip fuel) against the second
+    (engine size), each flap option's designs with its staircase (the designs of that option
+    that no other of the same option beats in both), filled where a design is on its
+    option's staircase, hollow where the front keeps it for an objective not plotted; the
+    legend gives each option's range of the other objectives."""
     plt = pyplot()
-    cols = list(study.objective_columns())[:3]
-    if ax is None:
-        fig = plt.figure(figsize=(6.5, 5.5))
-        ax = fig.add_subplot(projection="3d")
-    fig = ax.figure
-    colours = palette.flap_colours(study.flaps)
+    cols = list(study.objective_columns())
+    ycol, xcol = cols[0], cols[1]
+    rest = cols[2:]
+    fig, ax = plt.subplots(figsize=(9.6, 5.4))
     for flap in study.flaps:
         sel = front[front["flap"] == flap]
-        if len(sel):
-            ax.scatter(sel[cols[0]], sel[cols[1]], sel[cols[2]], color=colours[flap], s=16,
-                       label=flap)
-    ax.set_xlabel(plot_label(cols[0]), fontsize=8)
-    ax.set_ylabel(plot_label(cols[1]), fontsize=8)
-    ax.set_zlabel(plot_label(cols[2]), fontsize=8)
-    ax.legend(fontsize=7, title="flap type")
-    ax.set_title(f"{study.name}: front")
+        if not len(sel):
+            continue
+        st = palette.flap_style(flap)
+        stairs, on = _staircase(sel[xcol], sel[ycol])
+        extra = "".join(f", {_words(c)} {_range_text(sel[c])}" for c in rest)
+        ax.step(stairs[:, 0], stairs[:, 1], where="post", color=st["color"], ls=st["ls"],
+                lw=1.6, label=f"{palette.flap_label(flap)} ({len(sel)} designs{extra})")
+        ax.scatter(sel[xcol][on], sel[ycol][on], color=st["color"], marker=st["marker"],
+                   s=26, edgecolor=palette.DESIGN_MARKER, linewidth=0.3, zorder=3)
+        if (~on).any():
+            ax.scatter(sel[xcol][~on], sel[ycol][~on], facecolor="none",
+                       edgecolor=st["color"], marker=st["marker"], s=26, linewidth=1.0,
+                       zorder=3)
+    ax.set_xlabel(plot_label(xcol))
+    ax.set_ylabel(plot_label(ycol))
+    ax.grid(alpha=0.3)
+    if len(front):
+        ax.set_xlim(*_front_limits(front[xcol], above=0.05))
+        ax.set_ylim(*_front_limits(front[ycol], above=0.05))
+    ax.legend(fontsize=7, title="flap option (its front designs)", title_fontsize=7,
+              **LEGEND_OUTSIDE)
+    note = ("line and filled: an option's designs that none of its others beats in both "
+            "plotted objectives")
+    if rest:
+        note += f"; hollow: on the front for a lower {' or '.join(map(_words, rest))}"
+    ax.set_title("\n".join([f"{study.name}: the front, {_words(ycol)} against {_words(xcol)}",
+                            *textwrap.wrap(note, 90)]), fontsize=9)
+    finish_layout(fig, study.name, run_utc)
     return fig
 
 
-def decision_variables(study, front, ax=None):
+def decision_variables(study, front, run_utc=None):
     """Parallel coordinates of the front's decision variables, each axis normalised to its
     bounds (labelled with the bounds and units); the flap type is the last axis."""
     plt = pyplot()
-    if ax is None:
-        fig, ax = plt.subplots(figsize=(8, 4.5))
-    fig = ax.figure
+    fig, ax = plt.subplots(figsize=(10, 4.8))
     vars_ = list(study.variables)
     flaps = list(study.flaps)
     n = len(vars_) + 1
-    colours = palette.flap_colours(flaps)
     Z = []
     for v in vars_:
         x = front[v.column].to_numpy(float)
@@ -103,8 +159,9 @@ def decision_variables(study, front, ax=None):
     xs = np.arange(n)
     seen = set()
     for row, flap in zip(Z, front["flap"]):
-        ax.plot(xs, row, color=colours[flap], alpha=0.6, lw=1,
-                label=flap if flap not in seen else None)
+        st = palette.flap_style(flap)
+        ax.plot(xs, row, color=st["color"], ls=st["ls"], alpha=0.6, lw=1,
+                label=palette.flap_label(flap) if flap not in seen else None)
         seen.add(flap)
     labels = []
     for v in vars_:
@@ -116,41 +173,72 @@ def decision_variables(study, front, ax=None):
     ax.set_ylim(-0.05, 1.05)
     for x in xs:
         ax.axvline(x, color=palette.GUIDE_LINES, lw=0.8)
-    ax.legend(fontsize=7, loc="best", title="flap type")
-    ax.set_title(f"{study.name}: decision variables of the front")
-    fig.tight_layout()
+    ax.legend(fontsize=7, title="flap type", title_fontsize=7, **LEGEND_OUTSIDE)
+    ax.set_title(f"{study.name}: decision variables of the front", fontsize=10)
+    finish_layout(fig, study.name, run_utc)
     return fig
 
 
-def convergence(study, history, ax=None):
-    """Hypervolume of the merged feasible front against evaluations."""
+CONVERGED_SHARE = 0.99
+"""Share of the final hypervolume marked on the convergence plot (ours)."""
+
+
+def convergence(study, history, run_utc=None):
+    """Hypervolume of the merged feasible front as a share of its final value, against the
+    number of designs evaluated (comparable across studies: every run ends at 1)."""
     plt = pyplot()
-    if ax is None:
-        fig, ax = plt.subplots(figsize=(6, 4))
-    fig = ax.figure
-    ax.plot(history["evaluations"], history["hypervolume"], marker=".", lw=1)
-    ax.set_xlabel("evaluations [-]")
-    ax.set_ylabel("hypervolume (normalised objectives) [-]")
+    fig, ax = plt.subplots(figsize=(9.4, 4.4))
+    evals = history["evaluations"].to_numpy(float)
+    hv = history["hypervolume"].to_numpy(float)
+    final = hv[-1] if len(hv) else 0.0
+    if final > 0:
+        share = hv / final
+        ax.plot(evals, share, marker=".", lw=1, color=palette.OKABE_ITO["blue"],
+                label="hypervolume / final hypervolume")
+        reached = np.flatnonzero(share >= CONVERGED_SHARE)
+        if reached.size:
+            e = evals[reached[0]]
+            ax.axhline(CONVERGED_SHARE, color=palette.GUIDE_LINES, lw=0.8, ls=":")
+            ax.axvline(e, color=palette.GUIDE_LINES, lw=0.8, ls=":",
+                       label=f"{CONVERGED_SHARE:.0%} of the final value after {e:,.0f} designs")
+        ax.set_ylim(0, 1.05)
+        ax.legend(fontsize=7, **LEGEND_OUTSIDE)
+    else:
+        ax.text(0.5, 0.5, "no feasible design found: no front, no hypervolume",
+                transform=ax.transAxes, ha="center", color=palette.NOTE_TEXT)
+    ax.set_xlabel("designs evaluated")
+    ax.set_ylabel("hypervolume / final hypervolume [-]")
     ax.grid(alpha=0.3)
-    ax.set_title(f"{study.name}: convergence")
-    fig.tight_layout()
+    ax.set_title(f"{study.name}: convergence (final hypervolume {final:.4g} in normalised "
+                 "objectives)", fontsize=9)
+    finish_layout(fig, study.name, run_utc)
     return fig
 
 
-def write_plots(study, run_dir, front, history, scales=None):
-    """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths."""
+def write_plots(study, run_dir, front, history, scales=None, run_utc=None,
+                least_violating=None):
+    """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths.
+
+    With no feasible design the constraint diagram is still drawn, at the least-violating
+    design (``least_violating``, a frame of sized designs), since that is when it is needed
+    most."""
     out = Path(run_dir) / names.PLOTS_DIR
     out.mkdir(exist_ok=True)
-    written = save(convergence(study, history), out / "convergence")
+    written = save(convergence(study, history, run_utc), out / "convergence")
     if len(front):
         F = read_archive(run_dir, study.objective_columns(), feasible_only=True)\
             .to_numpy(float)
-        written += save(objective_scatter(study, front, F), out / "objectives")
-        if len(study.objectives) == 3:
-            written += save(front_3d(study, front), out / "front_3d")
-        written += save(decision_variables(study, front), out / "decision_variables")
-        written += save(constraint_diagram(study, representative_design(study, front)),
-                        out / "constraint_diagram")
+        written += save(objective_scatter(study, front, F, run_utc), out / "objectives")
+        written += save(front_view(study, front, run_utc), out / "front_view")
+        written += save(decision_variables(study, front, run_utc), out / "decision_variables")
+        written += save(design_constraint_diagram(
+            study, representative_design(study, front), label="representative front design",
+            front=front, run_utc=run_utc), out / "constraint_diagram")
+    elif least_violating is not None and len(least_violating):
+        written += save(design_constraint_diagram(
+            study, least_violating.iloc[0], label="least-violating design", run_utc=run_utc,
+            note="no feasible design found: drawn at the design closest to feasible"),
+            out / "constraint_diagram")
     return written
 
 
@@ -162,52 +250,6 @@ def representative_design(study, front):
     span = F.max(axis=0) - F.min(axis=0)
     Fn = (F - F.min(axis=0)) / np.where(span > 0, span, 1.0)
     return front.iloc[int(Fn.sum(axis=1).argmin())]
-
-
-def constraint_diagram(study, design, n=120, ax=None):
-    """Constraint diagram at one design's aspect ratio and flap type: over wing loading and
-    power loading (or thrust-to-weight) within the bounds, the line where each constraint's
-    margin is zero (every point is a completely sized airplane), the region meeting all of
-    them shaded, and the design marked."""
-    from ..evaluation import size_frame
-    from ..sizing import active_constraints
-    plt = pyplot()
-    if ax is None:
-        fig, ax = plt.subplots(figsize=(7, 5))
-    fig = ax.figure
-    wv, lv = study.variable("wing_loading_N_m2"), study.variable(study.loading_column)
-    ws = np.linspace(wv.lower, wv.upper, n) if not wv.fixed else np.linspace(0.8, 1.2, n) * wv.lower
-    ld = np.linspace(lv.lower, lv.upper, n) if not lv.fixed else np.linspace(0.8, 1.2, n) * lv.lower
-    W, L = np.meshgrid(ws, ld)
-    flap = study.spec.high_lift_names.index(design["flap"])
-    frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, design["aspect_ratio"]),
-                       np.full(W.size, flap))
-    colours = palette.constraint_colours(active_constraints(study.spec))
-    handles = []
-    for c in active_constraints(study.spec):
-        M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
-        if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]], linewidths=1.5)
-            handles.append(plt.Line2D([], [], color=colours[c], label=c.replace("_", " ")))
-    feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
-    ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=[palette.FEASIBLE_REGION],
-                    alpha=palette.FEASIBLE_REGION_ALPHA)
-    handles.append(plt.Rectangle((0, 0), 1, 1, color=palette.FEASIBLE_REGION,
-                                 alpha=palette.FEASIBLE_REGION_ALPHA,
-                                 label="all constraints met"))
-    ax.plot(design["wing_loading_N_m2"], design[study.loading_column],
-            palette.DESIGN_MARKER + "*", ms=12)
-    handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=10,
-                              label="representative front design"))
-    ax.set_xlabel(plot_label("wing_loading_N_m2"))
-    ax.set_ylabel(plot_label(study.loading_column))
-    ax.legend(handles=handles, fontsize=7, loc="best")
-    ax.set_title(f"{study.name}: constraints at aspect ratio {design['aspect_ratio']:.2f}, "
-                 f"flap {design['flap']}\n(each line: margin = 0; each point a sized airplane)",
-                 fontsize=9)
-    ax.grid(alpha=0.3)
-    fig.tight_layout()
-    return fig
 
 
 def constraint_grid(study, design, n=80):
@@ -234,57 +276,90 @@ def constraint_grid(study, design, n=80):
     return ws, ld, frame
 
 
-def design_constraint_diagram(study, design, label="chosen design", n=120, ax=None):
-    """Constraint diagram for one sized design: at its aspect ratio and flap type, over wing
-    loading and power loading (or thrust-to-weight), the line where each constraint's margin
-    is zero (every grid point a completely sized airplane), the region meeting all of them
-    shaded, binding constraints drawn thicker, and the design marked where it was sized, with
-    its takeoff mass. At the marked point the grid airplane is the design itself."""
+TICKS = dict(angle=135, spacing=9, length=0.55)
+"""Hatch ticks on the side of a line that does not meet its constraint (matplotlib's
+``withTickedStroke``; ours: short ticks every 9 points)."""
+
+
+def design_constraint_diagram(study, design, label="chosen design", n=60, ax=None,
+                              front=None, run_utc=None, note=None):
+    """Constraint diagram for one sized design, as engineers draw it: at its aspect ratio
+    and flap type, over wing loading and power loading (or thrust-to-weight), the line where
+    each constraint's margin is zero, traced by :func:`optimiser.report.diagram.trace`
+    (every point an airplane sized there), ticked on its infeasible side; the region meeting
+    all of them shaded; binding constraints (margin below 1 % at the design) drawn thicker;
+    the design marked where it was sized, with its takeoff mass, and, with ``front``, the
+    other front designs of the same flap type at their own sized points."""
+    from matplotlib import patheffects
     from ..sizing import active_constraints
+    from .diagram import trace
     from .sheet import BINDING_MARGIN
     plt = pyplot()
-    if ax is None:
-        fig, ax = plt.subplots(figsize=(10.5, 5.4))
+    own = ax is None
+    if own:
+        fig, ax = plt.subplots(figsize=(10.8, 5.6))
     fig = ax.figure
     ws, ld, frame = constraint_grid(study, design, n)
     W, L = np.meshgrid(ws, ld)
-    colours = palette.constraint_colours(active_constraints(study.spec))
+    constraints = active_constraints(study.spec)
     handles = []
-    for c in active_constraints(study.spec):
-        M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
+    mins = np.min([np.where(np.isfinite(m), m, -1.0) for m in
+                   (frame[f"margin_{c}"].to_numpy(float) for c in constraints)], axis=0)
+    if mins.max() >= 0:
+        ax.contourf(W, L, mins.reshape(W.shape), levels=[0.0, np.inf],
+                    colors=[palette.FEASIBLE_REGION], alpha=palette.FEASIBLE_REGION_ALPHA)
+    for line in trace(study, design, ws, ld, frame, constraints):
+        c = line.name
+        colour, dash = palette.constraint_style(c)
         binding = float(design[f"margin_{c}"]) < BINDING_MARGIN
-        if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]],
-                       linewidths=3.0 if binding else 1.4)
-            handles.append(plt.Line2D([], [], color=colours[c], lw=3.0 if binding else 1.4,
-                                      label=CONSTRAINT_LABELS.get(c, c)
-                                      + (" (binding)" if binding else "")))
-    feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
-    if feas.max() > 0:
-        ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=[palette.FEASIBLE_REGION],
-                    alpha=palette.FEASIBLE_REGION_ALPHA)
+        lw = 2.8 if binding else 1.4
+        for pts in line.polylines:
+            ax.plot(pts[:, 0], pts[:, 1], color=colour, ls=palette.DASHES[dash], lw=lw,
+                    path_effects=[patheffects.withTickedStroke(**TICKS), patheffects.Normal()])
+        handles.append(plt.Line2D([], [], color=colour, ls=palette.DASHES[dash], lw=lw,
+                                  label=CONSTRAINT_LABELS.get(c, c)
+                                  + (" (binding)" if binding else "")))
     handles.append(plt.Rectangle((0, 0), 1, 1, color=palette.FEASIBLE_REGION,
                                  alpha=palette.FEASIBLE_REGION_ALPHA,
                                  label="all constraints met"))
+    handles.append(plt.Line2D([], [], color="0.3", lw=1.0, label="ticks: side not met",
+                              path_effects=[patheffects.withTickedStroke(**TICKS)]))
+    if front is not None and len(front):
+        same = front[front["flap"] == design["flap"]]
+        if len(same):
+            st = palette.flap_style(str(design["flap"]))
+            ax.scatter(same["wing_loading_N_m2"], same[study.loading_column], s=18,
+                       facecolor="none", edgecolor=st["color"], marker=st["marker"], zorder=4)
+            handles.append(plt.Line2D([], [], ls="", marker=st["marker"], mfc="none",
+                                      mec=st["color"], label="front designs of this flap type "
+                                      "(each at its own aspect ratio)"))
     x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
     ax.plot(x0, y0, palette.DESIGN_MARKER + "*", ms=15, zorder=5)
     handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=11,
-                              label=f"{label}: takeoff mass {float(design['takeoff_mass_kg']):.0f} kg"))
+                              label=f"{label}: takeoff mass "
+                                    f"{float(design['takeoff_mass_kg']):.0f} kg"))
     ax.annotate(f"{label}\n{x0:.0f} N/m², {y0:.3g}", (x0, y0), xytext=(10, 10),
                 textcoords="offset points", fontsize=8)
+    ax.set_xlim(ws[0], ws[-1])
+    ax.set_ylim(ld[0], ld[-1])
     ax.set_xlabel(plot_label("wing_loading_N_m2"))
     ax.set_ylabel(plot_label(study.loading_column))
-    ax.legend(handles=handles, fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0),
-              title="zero-margin lines", title_fontsize=7)
-    ax.set_title(f"{study.name}: constraints at aspect ratio {float(design['aspect_ratio']):.2f}, "
-                 f"flap {design['flap']}\n(each line: margin = 0; every point an airplane sized "
-                 "there; the star is the design at its own sized mass)", fontsize=9)
+    ax.legend(handles=handles, fontsize=7, title="zero-margin lines", title_fontsize=7,
+              **LEGEND_OUTSIDE)
+    title = (f"{study.name}: constraint diagram at aspect ratio "
+             f"{float(design['aspect_ratio']):.2f}, {palette.flap_label(str(design['flap']))}\n"
+             "each line: margin = 0, every point an airplane sized there; the star is the "
+             "design at its own sized mass")
+    if note:
+        title += f"\n{note}"
+    ax.set_title(title, fontsize=9)
     ax.grid(alpha=0.3)
-    fig.tight_layout()
+    if own:
+        finish_layout(fig, study.name, run_utc)
     return fig
 
 
-def flap_fronts(study, fronts, table, ax=None):
+def flap_fronts(study, fronts, table, run_utc=None):
     """Per-flap-option fronts overlaid: trip fuel against engine size (the 2-objective
     non-dominated subset of each option's front as a line, all its front designs as dots),
     and, beside it, the best of each objective per option. Options with no feasible design
@@ -292,53 +367,56 @@ def flap_fronts(study, fronts, table, ax=None):
     from ..flaps import lower_envelope
     plt = pyplot()
     eng = study.engine_size_column
-    if ax is None:
-        fig, (ax, ax2) = plt.subplots(1, 2, figsize=(12.5, 5.0),
-                                      gridspec_kw={"width_ratios": [1.5, 1]})
-    else:
-        fig, ax2 = ax.figure, None
-    colours = palette.flap_colours(study.flaps)
+    fig, (ax, ax2) = plt.subplots(1, 2, figsize=(14.5, 5.2),
+                                  gridspec_kw={"width_ratios": [1.5, 1]})
     rows = {r["flap"]: r for _, r in table.iterrows()}
     for flap in study.flaps:
         fr = fronts[flap]
         r = rows[flap]
+        st = palette.flap_style(flap)
+        words = palette.flap_label(flap)
         if len(fr) == 0:
-            ax.plot([], [], ls="", marker="x", color=colours[flap],
-                    label=f"{flap}: no feasible design ({r['failing_constraint']} "
+            ax.plot([], [], ls="", marker="x", color=st["color"],
+                    label=f"{words}: no feasible design ({r['failing_constraint']} "
                           f"{r['best_margin_failing']:+.0%} at best)")
             continue
         env = lower_envelope(fr[eng], fr["trip_fuel_kg"])
-        ax.scatter(fr[eng], fr["trip_fuel_kg"], s=10, color=colours[flap], alpha=0.45)
+        ax.scatter(fr[eng], fr["trip_fuel_kg"], s=10, color=st["color"], marker=st["marker"],
+                   alpha=0.45)
         ref = " (reference)" if r["reference_option"] else ""
-        ax.plot(env[:, 0], env[:, 1], "-o", ms=4, lw=1.8, color=colours[flap],
-                label=f"{flap}{ref}: HV {r['hypervolume']:.3f}, "
+        ax.plot(env[:, 0], env[:, 1], ls=st["ls"], marker=st["marker"], ms=4, lw=1.8,
+                color=st["color"],
+                label=f"{words}{ref}: HV {r['hypervolume']:.3f}, "
                       f"{r['share_of_combined_front']:.0%} of combined front")
     ax.set_xlabel(plot_label(eng))
     ax.set_ylabel(plot_label("trip_fuel_kg"))
     ax.grid(alpha=0.3)
-    ax.legend(fontsize=7, title="flap type (line: trip fuel vs engine size front)",
-              title_fontsize=7, loc="best")
-    ax.set_title("fronts per flap option, same constraints and budget", fontsize=9)
-    if ax2 is not None:
-        flaps = list(study.flaps)
-        y = np.arange(len(flaps))
-        mi = [rows[f]["best_maintenance_index"] if "best_maintenance_index" in rows[f] else
-              rows[f]["mean_maintenance_index"] for f in flaps]
-        ax2.barh(y, mi, color=[colours[f] for f in flaps])
-        for yi, f in zip(y, flaps):
-            r = rows[f]
-            txt = ("no feasible design" if not r["feasible_found"] else
-                   f"trip fuel {r['extra_trip_fuel_at_equal_engine_kg']:+.1f} kg at equal engine"
-                   if not r["reference_option"] and np.isfinite(
-                       r["extra_trip_fuel_at_equal_engine_kg"]) else
-                   "reference" if r["reference_option"] else "no common engine size")
-            ax2.text(0.02, yi, txt, va="center", fontsize=7,
-                     transform=ax2.get_yaxis_transform())
-        ax2.set_yticks(y, flaps, fontsize=8)
-        ax2.invert_yaxis()
-        ax2.set_xlabel("best maintenance index on the option's front [-]")
-        ax2.set_title("maintenance and trip-fuel penalty against the reference", fontsize=9)
-        ax2.grid(alpha=0.3, axis="x")
+    ax.set_title("fronts per flap option, same constraints and budget\n(line: trip fuel "
+                 "against engine size front of the option)", fontsize=9)
+    flaps = list(study.flaps)
+    y = np.arange(len(flaps))
+    mi = [rows[f]["best_maintenance_index"] if "best_maintenance_index" in rows[f] else
+          rows[f]["mean_maintenance_index"] for f in flaps]
+    ax2.barh(y, mi, color=[palette.flap_style(f)["color"] for f in flaps])
+    for yi, f in zip(y, flaps):
+        r = rows[f]
+        txt = ("no feasible design" if not r["feasible_found"] else
+               f"trip fuel {r['extra_trip_fuel_at_equal_engine_kg']:+.1f} kg at equal engine"
+               if not r["reference_option"] and np.isfinite(
+                   r["extra_trip_fuel_at_equal_engine_kg"]) else
+               "reference" if r["reference_option"] else "no common engine size")
+        ax2.text(0.02, yi, txt, va="center", fontsize=7,
+                 transform=ax2.get_yaxis_transform())
+    ax2.set_yticks(y, [palette.flap_label(f) for f in flaps], fontsize=8)
+    ax2.invert_yaxis()
+    ax2.set_xlabel("best maintenance index on the option's front [-]")
+    ax2.set_title("maintenance and trip-fuel penalty against the reference", fontsize=9)
+    ax2.grid(alpha=0.3, axis="x")
+    handles, labels = ax.get_legend_handles_labels()
+    fig.legend(handles, labels, fontsize=7, title="flap option", title_fontsize=7,
+               loc="lower center", bbox_to_anchor=(0.5, 0.02), ncol=2, frameon=False)
     fig.suptitle(f"{study.name}: flap options compared")
-    fig.tight_layout()
+    fig.tight_layout(rect=(0, 0.06 + 0.035 * ((len(labels) + 1) // 2), 1, 1))
+    from .figures import footer
+    footer(fig, study.name, run_utc)
     return fig
