@@ -26,6 +26,8 @@ def pyplot():
     if _PYPLOT is None:
         import matplotlib
         matplotlib.use("Agg")
+        # SVG text stays text (searchable, smaller), not outlines
+        matplotlib.rcParams["svg.fonttype"] = "none"
         import matplotlib.pyplot as plt
         _PYPLOT = plt
     return _PYPLOT
@@ -61,6 +63,17 @@ def save(fig, stem, dpi=DPI) -> list[Path]:
         written.append(path)
     pyplot().close(fig)
     return written
+
+
+def svg_data_uri(fig) -> str:
+    """``fig`` as a base64 SVG ``data:`` URI (crisp at any zoom, for the self-contained
+    report; a dense cloud of points stays rasterised inside it), then closed."""
+    import base64
+    import io
+    buf = io.BytesIO()
+    fig.savefig(buf, format="svg", dpi=DPI)
+    pyplot().close(fig)
+    return "data:image/svg+xml;base64," + base64.b64encode(buf.getvalue()).decode("ascii")
 
 
 def png_data_uri(fig, dpi=100) -> str:

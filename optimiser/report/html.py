@@ -24,7 +24,7 @@ import numpy as np
 from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, REPORT_KEY_COLUMNS, heading,
                        plot_label, short_and_unit, unit_of)
 from . import palette
-from .figures import png_data_uri
+from .figures import svg_data_uri
 from .page import PAGE_CSS, PAGE_SCRIPT, PAGE_TEMPLATE
 
 DIAGRAM_AR_STEP = 0.05
@@ -157,19 +157,62 @@ def _table(header, rows, cls=""):
 
 
 def _requirements_html(study):
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # pragma: no cover
-        import tomli as tomllib
-    data = tomllib.loads(study.text)
+    """Every value the sizing used, section by section: as the study gave it (its units),
+    in SI, and where a default came from (marked)."""
+    from ..study_table import ORIGIN_GIVEN, resolved_entries
+    by_section = {}
+    for e in resolved_entries(study):
+        by_section.setdefault(e.section, []).append(e)
     parts = []
-    for sec in ("requirements", "departure", "destination", "mission", "weights", "propulsion",
-                "variables", "objectives"):
-        if sec in data and isinstance(data[sec], dict):
-            rows = [(k, ", ".join(map(str, v)) if isinstance(v, list) else v)
-                    for k, v in data[sec].items() if not isinstance(v, dict)]
-            parts.append(f"<div class='req'><h3>[{sec}]</h3>{_table(['key', 'value'], rows)}</div>")
+    for sec, entries in by_section.items():
+        rows = "".join(
+            f"<tr class='{'given' if e.origin == ORIGIN_GIVEN else 'default'}'>"
+            f"<td>{html.escape(e.key)}</td><td>{html.escape(e.given or '')}</td>"
+            f"<td>{html.escape(e.value_text)}</td>"
+            f"<td>{'' if e.origin == ORIGIN_GIVEN else 'default: ' + html.escape(e.origin)}</td>"
+            f"<td>{html.escape(e.doc)}</td></tr>" for e in entries)
+        parts.append(f"<div class='req'><h3>[{sec}]</h3><table class='resolved'><thead><tr>"
+                     "<th>key</th><th>as given</th><th>used (SI)</th><th>default applied</th>"
+                     f"<th>meaning</th></tr></thead><tbody>{rows}</tbody></table></div>")
+    variables = [(v.column, f"{v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
+                 for v in study.variables]
+    variables.append(("flap", ", ".join(study.flaps)))
+    variables.append(("objectives (minimised)", ", ".join(study.objectives)))
+    parts.append("<div class='req'><h3>[variables] and [objectives]</h3>"
+                 + _table(["variable", "bounds"], variables) + "</div>")
     return "<div class='reqs'>" + "".join(parts) + "</div>"
+
+
+def _certification_html(study):
+    """The certification basis and the numbers it sets."""
+    from ..study_table import certification_entries
+    cert = study.spec.certification
+    rows = [(meaning, f"{value:g}{' ' + unit if unit else ''}" if isinstance(value, float)
+             else str(value)) for _, value, unit, meaning in certification_entries(study)]
+    rows += [("screen height at departure", f"{study.spec.departure.obstacle_height_m:g} m"),
+             ("screen height at destination",
+              f"{study.spec.destination.obstacle_height_m:g} m"),
+             ("takeoff mass limit of the basis",
+              f"{study.spec.requirements.max_takeoff_mass_kg:.0f} kg")]
+    skipped = [f"{n}: {r}" for n, r in study.spec.requirements.skip_checks]
+    if skipped:
+        rows.append(("checks switched off by the study", "; ".join(skipped)))
+    return (f"<p>Certification basis <b>{html.escape(cert.basis)}</b>; the rules it implies, as "
+            "the model applies them:</p>" + _table(["rule", "value"], rows, "kv"))
+
+
+def _uncertainty_html(study):
+    """The [uncertainty] table (factors on the study's values), or a sentence."""
+    unc = study.uncertainty
+    if not unc:
+        return "<p>The study gives no [uncertainty] table.</p>"
+    rows = [(key, e["distribution"], ", ".join(f"{p} = {v:g}" for p, v in e.items()
+                                              if p != "distribution"))
+            for key, e in unc["assumptions"].items()]
+    return (f"<p>{unc['samples']} samples"
+            + (f", seed {unc['seed']}" if unc.get("seed") is not None else "")
+            + "; each a factor on the study's value (1 = unchanged).</p>"
+            + _table(["assumption", "distribution", "parameters"], rows))
 
 
 def _run_sections(run) -> list[str]:
@@ -185,8 +228,13 @@ def _run_sections(run) -> list[str]:
     return ["<section id='run'><h2>The run</h2>" + _table(["", ""], summary, "kv")
             + "</section>",
             "<section id='requirements'><h2>Requirements and assumptions</h2>"
-            "<p>As given in the study file (every unit as written there).</p>"
-            + _requirements_html(study) + "</section>"]
+            "<p>Every value the sizing used: as the study file gives it (its own units), in "
+            "SI, and, where the study left it out, the default applied and where it came "
+            "from.</p>" + _requirements_html(study) + "</section>",
+            "<section id='certification'><h2>Certification basis</h2>"
+            + _certification_html(study) + "</section>",
+            "<section id='uncertainty'><h2>Uncertainty</h2>" + _uncertainty_html(study)
+            + "</section>"]
 
 
 def _front_sections(run) -> list[str]:
@@ -199,10 +247,10 @@ def _front_sections(run) -> list[str]:
     history = read_history(run.run_dir) if run.history_path.is_file() else None
     F = read_archive(run.run_dir, study.objective_columns(), feasible_only=True)\
         .to_numpy(float)
-    figs = [("objectives", png_data_uri(plots.objective_scatter(
+    figs = [("objectives", svg_data_uri(plots.objective_scatter(
         study, front, F, run.info.get("started_utc"))))]
     if history is not None and len(history):
-        figs.append(("convergence", png_data_uri(plots.convergence(
+        figs.append(("convergence", svg_data_uri(plots.convergence(
             study, history, run.info.get("started_utc")))))
     return ["<section id='fronts'><h2>Fronts</h2>" + "".join(
         f"<figure><img alt='{n}' src='{src}'></figure>" for n, src in figs) + "</section>",
@@ -245,7 +293,7 @@ def _choice_section(run, choice) -> str:
                      [(m, f"{float(v):+.1%}", s) for m, v, s in
                       zip(mar["meaning"], mar["value"], mar["status"])])
             + "<figure><img alt='constraint diagram of the chosen design' "
-            f"src='{png_data_uri(fig)}'></figure><h3>Runners-up</h3>"
+            f"src='{svg_data_uri(fig)}'></figure><h3>Runners-up</h3>"
             + _table(["rank", "flap", *[heading(c)
                                         for c in cols], "what it trades against the choice"],
                      run_rows) + "</section>")
@@ -281,7 +329,7 @@ def _flaps_section(run) -> str:
             "smallest trip fuel each reaches with an engine no larger than that (and the same "
             "with the roles swapped); positive = worse than the reference.</p>"
             + _table(head, rows, "flaps") + "<figure><img alt='flap fronts' src='"
-            + png_data_uri(plots.flap_fronts(study, fronts, table, run.info.get("started_utc")))
+            + svg_data_uri(plots.flap_fronts(study, fronts, table, run.info.get("started_utc")))
             + "'></figure></section>")
 
 

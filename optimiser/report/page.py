@@ -31,6 +31,7 @@ th{background:#f3f3f3} table.kv td:first-child{font-weight:600}
 .caution{background:#fff4e0;border:1px solid #e0a040;padding:.6em .9em;margin:1em 0}
 figure{margin:.8em 0} figure img{max-width:100%;border:1px solid #eee}
 .reqs{display:flex;flex-wrap:wrap;gap:1em}.req h3{font-size:.95em;margin:.3em 0}
+table.resolved tr.default td{color:#555;font-style:italic}
 #controls{display:flex;flex-wrap:wrap;gap:1.2em;align-items:flex-start;margin:.5em 0;
 font-size:.85em}
 #controls fieldset{border:1px solid #ccc;padding:.3em .6em}
@@ -140,7 +141,11 @@ function showTip(ev, d){
     lines.push(`${D.names[c]}${u ? ' [' + u + ']' : ''}: ${fmt(val(d, c))}`); });
   lines.push(`closest constraint: ${d.limiting.replace(/_/g, ' ')}`);
   tip.innerHTML = lines.join('<br>'); tip.style.display = 'block';
-  tip.style.left = (ev.pageX + 14) + 'px'; tip.style.top = (ev.pageY + 10) + 'px'; }
+  // beside the cursor, flipped to the other side near the window's edge: never over the point
+  const w = tip.offsetWidth, hgt = tip.offsetHeight;
+  const left = ev.pageX + 14 + w > window.scrollX + window.innerWidth ? ev.pageX - 14 - w : ev.pageX + 14;
+  const top = ev.pageY + 12 + hgt > window.scrollY + window.innerHeight ? ev.pageY - 12 - hgt : ev.pageY + 12;
+  tip.style.left = left + 'px'; tip.style.top = top + 'px'; }
 
 function drawFront(){
   const svg = document.getElementById('front-svg'); svg.innerHTML = '';
