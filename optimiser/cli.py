@@ -39,21 +39,20 @@ def _write_csv_atomic(frame, path: Path, force: bool):
 
 
 def _summary(study, frame) -> str:
-    from .columns import unit_of
+    """The terminal table of ``evaluate``: columns named as in the output file."""
     size_col = study.engine_size_column
-    unit = unit_of(size_col)
+    cols = [("wing_loading_N_m2", ".0f"), (study.loading_column, ".4g"), ("aspect_ratio", ".2f"),
+            ("takeoff_mass_kg", ".0f"), ("trip_fuel_kg", ".1f"), (size_col, ".1f"),
+            ("maintenance_index", ".2f")]
     lines = [f"study {study.name}: {len(frame)} design(s), {int(frame['feasible'].sum())} feasible",
-             f"{'flap':<22}{'W/S N/m2':>10}{'W/P N/kW' if unit == 'kW' else 'T/W':>14}"
-             f"{'AR':>6}{'m_TO kg':>10}{'trip kg':>9}{'engine ' + unit:>11}{'MCI':>6}  verdict"]
+             f"{'flap':<22}" + "".join(f"{c:>{len(c) + 2}}" for c, _ in cols) + "  verdict"]
     for _, r in frame.head(40).iterrows():
         verdict = "feasible (closest: " + r["limiting_constraint"] + ")" if r["feasible"] else \
             "fails " + r["most_violated"] + f" ({r['margin_' + r['most_violated']]:+.1%})"
         if not r["within_bounds"]:
             verdict += " [outside bounds: " + r["outside_bounds"] + "]"
-        lines.append(f"{r['flap']:<22}{r['wing_loading_N_m2']:>10.0f}"
-                     f"{r[study.loading_column]:>14.3g}{r['aspect_ratio']:>6.2f}"
-                     f"{r['takeoff_mass_kg']:>10.0f}{r['trip_fuel_kg']:>9.1f}"
-                     f"{r[size_col]:>11.1f}{r['maintenance_index']:>6.2f}  {verdict}")
+        lines.append(f"{r['flap']:<22}" + "".join(f"{r[c]:>{len(c) + 2}{fmt}}" for c, fmt in cols)
+                     + f"  {verdict}")
     if len(frame) > 40:
         lines.append(f"... {len(frame) - 40} more rows in the output file")
     return "\n".join(lines)

@@ -181,9 +181,9 @@ def test_pick_command_writes_files_and_refuses_overwrite(run_dir, capsys):
     rc = main(["pick", str(run_dir), "--limit", "maintenance_index<=4", "--limit",
                "engine_power_kW<=300"])
     assert rc == 0
-    out = run_dir / "pick-knee"
+    (out,) = run_dir.glob("pick-knee-limited-*")      # a limited pick has its own folder
     for name in ("design.csv", "design.md", "constraint_diagram.png", "constraint_diagram.svg",
-                 "runners_up.csv", "choice.json"):
+                 "runners_up.csv", "choice.json", "design_input.csv"):
         assert (out / name).is_file(), name
     d = pd.read_csv(out / "design.csv")
     mi = float(d.loc[d["quantity"] == "maintenance_index", "value"].iloc[0])
@@ -195,9 +195,10 @@ def test_pick_command_writes_files_and_refuses_overwrite(run_dir, capsys):
     before = (out / "design.csv").read_bytes()
     capsys.readouterr()
     assert main(["pick", str(run_dir), "--method", "weights", "--weights", "1,1,1"]) == 0
-    assert main(["pick", str(run_dir)]) == 2
+    assert main(["pick", str(run_dir), "--limit", "maintenance_index<=4", "--limit",
+                 "engine_power_kW<=300"]) == 2
     err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and "pick-knee: exists" in err[0] and "--force" in err[0]
+    assert len(err) == 1 and f"{out.name}: exists" in err[0] and "--force" in err[0]
     assert (out / "design.csv").read_bytes() == before
     assert main(["pick", str(run_dir), "--limit", "nope<=3"]) == 2
     assert "--limit: unknown column 'nope'" in capsys.readouterr().err

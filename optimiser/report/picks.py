@@ -21,15 +21,33 @@ from . import sheet
 from .figures import save
 
 
-def pick_folder(run_dir, method) -> Path:
-    return Path(run_dir) / f"{names.PICK_DIR_PREFIX}{method}"
+def pick_folder(run_dir, method, limits=()) -> Path:
+    """``RUN_DIR/pick-<method>``; a pick with hard limits goes to its own folder,
+    ``pick-<method>-limited-<8 hex digits of the limits' SHA-256>``, so it never replaces the
+    unlimited pick of the same method (nor one with other limits)."""
+    name = f"{names.PICK_DIR_PREFIX}{method}"
+    if limits:
+        import hashlib
+        key = "\n".join(sorted(str(x) for x in limits)).encode("utf-8")
+        name += f"-limited-{hashlib.sha256(key).hexdigest()[:8]}"
+    return Path(run_dir) / name
+
+
+def design_input_bytes(study, design) -> bytes:
+    """The design as a one-row table in ``optimiser evaluate``'s input format (CSV, every
+    number in its shortest exact form, so it is sized to the same numbers)."""
+    from ..evaluation import design_columns
+    cols = design_columns(study)
+    cells = [repr(float(design[c])) for c in cols[:3]] + [str(design[cols[3]])]
+    return (",".join(cols) + "\n" + ",".join(cells) + "\n").encode("utf-8")
 
 
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
-    """Write ``RUN_DIR/pick-<method>/``: design.csv, design.md, constraint_diagram.png/.svg,
-    runners_up.csv, choice.json. An existing folder is refused unless ``force``."""
+    """Write ``RUN_DIR/pick-<method>/`` (see :func:`pick_folder`): design.csv, design.md,
+    design_input.csv, constraint_diagram.png/.svg, runners_up.csv, choice.json. An existing
+    folder is refused unless ``force``."""
     from .plots import design_constraint_diagram
-    out = pick_folder(run.run_dir, choice.method)
+    out = pick_folder(run.run_dir, choice.method, choice.limits)
     if out.exists() and any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
                           "the pick files in it)")
@@ -38,6 +56,7 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
     write_atomic(out / "design.csv", table.to_csv(index=False).encode())
+    write_atomic(out / names.PICK_DESIGN_INPUT, design_input_bytes(study, choice.design))
     write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
     md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
                               how=choice.describe(), runners=runners)
@@ -69,8 +88,12 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str
         for _, r in runners.iterrows():
             lines.append(f"    {r['rank']}. {r['flap']}: {r['trade']}")
     if out is not None:
-        lines.append(f"wrote {out}/ (design.csv, design.md, constraint_diagram.png/.svg, "
-                     "runners_up.csv, choice.json)")
+        from ..errors import shell_command
+        lines.append(f"wrote {out}/ (design.csv, design.md, {names.PICK_DESIGN_INPUT}, "
+                     "constraint_diagram.png/.svg, runners_up.csv, choice.json)")
+        lines.append("  size it again or test its robustness: " + shell_command(
+            "optimiser", "evaluate", Path(out).parent / names.STUDY, "--designs",
+            Path(out) / names.PICK_DESIGN_INPUT))
     lines.append(CAUTION)
     return "\n".join(lines)
 

@@ -35,6 +35,9 @@ PLOTS_DIR = "plots"
 FLAPS_DIR = "flaps"
 PICK_DIR_PREFIX = "pick-"
 PICK_CHOICE = "choice.json"
+PICK_DESIGN_INPUT = "design_input.csv"
+"""The chosen design in the input format of ``optimiser evaluate --designs`` (and of
+``optimiser robust --front``): the four input columns, one row, every number exact."""
 REPORT = "report.html"
 
 RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT)
