@@ -200,6 +200,11 @@ def cmd_report(args):
     return run_report(args)
 
 
+def cmd_compare(args):
+    from .cli_decide import run_compare
+    return run_compare(args)
+
+
 def cmd_sweep(args):
     from .cli_campaign import cmd_sweep as run_sweep
     return run_sweep(args)
@@ -280,7 +285,7 @@ def build_parser() -> argparse.ArgumentParser:
                    "the current folder); an existing file is never replaced")
     b.set_defaults(func=cmd_studies)
     from .cli_decide import add_parsers
-    add_parsers(sub, cmd_pick, cmd_flaps, cmd_report)
+    add_parsers(sub, cmd_pick, cmd_flaps, cmd_report, cmd_compare)
     from .cli_campaign import add_robust_parser, add_sweep_parser
     add_sweep_parser(sub).set_defaults(func=cmd_sweep)
     add_robust_parser(sub).set_defaults(func=cmd_robust)

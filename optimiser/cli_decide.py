@@ -24,8 +24,9 @@ def _choice_options(p, default_method="knee"):
                    "front.csv, e.g. 'engine_power_kW<=260' (repeatable)")
 
 
-def add_parsers(sub, cmd_pick, cmd_flaps, cmd_report):
-    """Register ``pick``, ``flaps`` and ``report`` on an argparse subparsers object."""
+def add_parsers(sub, cmd_pick, cmd_flaps, cmd_report, cmd_compare):
+    """Register ``pick``, ``flaps``, ``report`` and ``compare`` on an argparse subparsers
+    object."""
     k = sub.add_parser("pick", help="pick a compromise design from a run's front and write its "
                        "sheet, constraint diagram and runners-up")
     k.add_argument("run_dir", metavar="RUN_DIR", help="a finished run folder")
@@ -52,6 +53,13 @@ def add_parsers(sub, cmd_pick, cmd_flaps, cmd_report):
     _choice_options(r, "the latest pick-*/ of the run, else knee")
     r.add_argument("--force", action="store_true", help="replace an existing report.html")
     r.set_defaults(func=cmd_report)
+    c = sub.add_parser("compare", help="overlay the fronts of two or more runs and list what "
+                       "changed in their studies")
+    c.add_argument("run_dirs", metavar="RUN_DIR", nargs="+", help="finished run folders")
+    c.add_argument("--out", help="folder for compare.csv, study_changes.csv and fronts.png/.svg "
+                   "(default: results/compare-<UTC time>)")
+    c.add_argument("--force", action="store_true", help="replace the files in --out")
+    c.set_defaults(func=cmd_compare)
 
 
 def _choice(run, args, method):
@@ -134,4 +142,16 @@ def run_report(args) -> int:
     path = write_report(run, choice=choice)
     print(f"wrote {path} (self-contained; open it in a browser, no network needed)")
     print(CAUTION)
+    return 0
+
+
+def run_compare(args) -> int:
+    from .compare import compare_runs, summary_text
+    from .report.compare_plots import write_comparison
+    from .runfolder.place import timestamped_dir
+    cmp = compare_runs(args.run_dirs)
+    out = Path(args.out) if args.out else timestamped_dir("compare")
+    written = write_comparison(cmp, out, force=args.force)
+    print(summary_text(cmp))
+    print(f"wrote {written}/ (compare.csv, study_changes.csv, fronts.png/.svg)")
     return 0

@@ -139,7 +139,7 @@ LAYERS = (
     ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
-                                        "campaign_file")),
+                                        "campaign_file", "compare")),
     ("reporting", ("report",)),
     ("command line", ("cli", "cli_decide", "cli_campaign", "__main__")),
 )

@@ -1,0 +1,81 @@
+"""The figure and files of ``optimiser compare``: the fronts of several runs overlaid (the
+first two shared objectives, each run's staircase and its knee design marked), and the
+tables written beside it."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..columns import plot_label
+from . import palette
+from .figures import finish_layout, pyplot, save
+
+RUN_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
+"""Marker of each compared run, in order (with :data:`palette.CAMPAIGN_COLOURS`)."""
+
+
+def compare_fronts(cmp):
+    """Fronts of the compared runs in the first two shared objectives, one colour and marker
+    per run, each run's 2-objective staircase drawn, its knee design ringed."""
+    from .plots import LEGEND_OUTSIDE, _staircase
+    plt = pyplot()
+    ycol, xcol = cmp.objectives[0], cmp.objectives[1]
+    fig, ax = plt.subplots(figsize=(10.2, 5.4))
+    for k, (label, run) in enumerate(zip(cmp.labels, cmp.runs)):
+        colour = palette.cycle_colour(k)
+        marker = RUN_MARKERS[k % len(RUN_MARKERS)]
+        front = run.front
+        if not len(front):
+            ax.plot([], [], ls="", marker="x", color=colour, label=f"{label}: no feasible design")
+            continue
+        stairs, _ = _staircase(front[xcol], front[ycol])
+        ax.scatter(front[xcol], front[ycol], s=18, color=colour, marker=marker, alpha=0.55)
+        ax.step(stairs[:, 0], stairs[:, 1], where="post", color=colour, lw=1.6,
+                label=f"{label} ({run.study.name}, {len(front)} designs)")
+        row = cmp.summary.iloc[k]
+        ax.scatter([row[f"knee_{xcol}"]], [row[f"knee_{ycol}"]], s=140, facecolor="none",
+                   edgecolor=colour, linewidth=2.0, zorder=4)
+    ax.scatter([], [], s=140, facecolor="none", edgecolor="k", linewidth=2.0,
+               label="ringed: each run's knee design")
+    ax.set_xlabel(plot_label(xcol))
+    ax.set_ylabel(plot_label(ycol))
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, title="run", title_fontsize=7, **LEGEND_OUTSIDE)
+    ax.set_title("fronts compared (line: each run's designs that none of its others beats in "
+                 "both plotted objectives)", fontsize=9)
+    finish_layout(fig, " vs ".join(dict.fromkeys(r.study.name for r in cmp.runs)))
+    return fig
+
+
+def write_comparison(cmp, out: Path, force=False) -> Path:
+    """Write ``compare.csv``, ``study_changes.csv`` and ``fronts.png/.svg`` in ``out``
+    (built in a temporary sibling folder and renamed into place; an existing folder is
+    refused unless ``force``)."""
+    import os
+    import shutil
+    from ..errors import DecideError
+    from ..runfolder.files import csv_bytes, write_atomic
+    out = Path(out)
+    if out.exists() and (not out.is_dir() or any(out.iterdir())) and not force:
+        raise DecideError(f"--out {out}: exists; expected a new folder (use --force to "
+                          "replace it)")
+    tmp = out.with_name(f".{out.name}.tmp-{os.getpid()}")
+    try:
+        tmp.mkdir(parents=True, exist_ok=False)
+        write_atomic(tmp / "compare.csv", csv_bytes(cmp.summary))
+        write_atomic(tmp / "study_changes.csv", cmp.changes.to_csv(index=False).encode())
+        save(compare_fronts(cmp), tmp / "fronts")
+        if out.exists():
+            old = out.with_name(f".{out.name}.old-{os.getpid()}")
+            out.rename(old)
+            tmp.rename(out)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            tmp.rename(out)
+    except OSError as exc:
+        raise DecideError(f"--out {out}: cannot write ({exc.strerror}); expected a writable "
+                          "folder") from None
+    finally:
+        if tmp.exists():
+            shutil.rmtree(tmp, ignore_errors=True)
+    return out
