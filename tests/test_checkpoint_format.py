@@ -308,3 +308,47 @@ def test_estimate_covers_the_checkpoint_written(study, tmp_path):
     written = (tmp_path / "full" / CHECKPOINT).stat().st_size
     assert initial < written <= bound
 
+
+
+CAMPAIGN = """name = "bound"
+base_study = "{base}"
+[budget]
+population = 8
+generations = 2
+seed = 3
+[[axis]]
+key = "departure.field_length"
+values = ["600 m", "900 m"]
+tighter = "smaller"
+"""
+
+
+def test_sweep_names_the_file_that_does_not_match_and_never_unpickles(tmp_path):
+    from optimiser.campaign import gather, run_campaign
+    from optimiser.campaign_file import load_campaign
+    base = Path(__file__).resolve().parents[1] / "problems" / "high_strip_utility.toml"
+    path = tmp_path / "bound.campaign.toml"
+    path.write_text(CAMPAIGN.format(base=base.as_posix()), encoding="utf-8")
+    campaign = load_campaign(path)
+    out = tmp_path / "camp"
+    result = run_campaign(campaign, out, serial=True)
+    assert not result.failed and len(result.ran) == 2
+    first, second = (out / "runs" / c.name for c in campaign.combinations)
+    # a truncated front.csv: the summary says which file and what run.json records
+    data = (first / "front.csv").read_bytes()
+    (first / "front.csv").write_bytes(data[:-5])
+    summary, _ = gather(campaign, out)
+    row = summary.iloc[0]
+    assert row["status"] == "failed"
+    assert f"{first / 'front.csv'}: {len(data) - 5} bytes, but run.json records " \
+           f"{len(data)} bytes" in row["note"]
+    assert summary.iloc[1]["status"] == "finished"
+    # an unfinished run holding a pickled checkpoint is run again, the pickle never loaded
+    marker = tmp_path / "unpickled.marker"
+    (second / "run.json").unlink()
+    (second / CHECKPOINT).unlink()
+    (second / LEGACY_CHECKPOINT).write_bytes(pickle.dumps(WritesAMarker(marker)))
+    again = run_campaign(campaign, out, serial=True)
+    assert [r["how"] for r in again.ran] == ["new"] and not again.failed
+    assert not marker.exists() and not (second / LEGACY_CHECKPOINT).exists()
+    assert again.summary.iloc[1]["status"] == "finished"
