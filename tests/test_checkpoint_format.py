@@ -4,7 +4,7 @@ checkpoint of an older version is refused without being unpickled, and every fol
 to its run (run id, study hash, file lengths and hashes) so that a foreign checkpoint, an
 edited study or a truncated table is refused in one line before anything changes.
 
-Source of the expectations: the project's own rules (one-line errors, exit status 2, nothing
+Source: the project's own rules (one-line errors, exit status 2, nothing
 saved is lost or overwritten); what pymoo 0.6.2's NSGA2 keeps between generations was read
 in its source (see optimiser.runfolder.checkpoint).
 """
