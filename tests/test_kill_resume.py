@@ -9,8 +9,8 @@ process sleeps after the temporary checkpoint file is complete and before it rep
 checkpoint.npz, and the test kills it while the temporary file is there.
 
 Source of the expectation: exact resume is this project's own requirement (same seed, same
-front); each per-algorithm random generator's state is saved with its population (common
-practice; what pymoo keeps between generations was read in its source, see
+front); each per-algorithm random generator's state is saved with its population
+(common practice; what pymoo keeps between generations was read in its source, see
 optimiser.runfolder.checkpoint).
 """
 
