@@ -51,7 +51,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import RunError, shell_command
+from ..errors import RunError
 from . import archive, files, manifest, names
 
 TEST_PAUSE_ENV = "OPTIMISER_TEST_PAUSE_IN_CHECKPOINT"
@@ -211,11 +211,6 @@ def save_checkpoint(run_dir: Path, state):
 
 # ----------------------------------------------------------------------------- reading
 
-def _restart(run_dir: Path) -> str:
-    return shell_command("optimiser", "run", Path(run_dir) / names.STUDY, "--out", run_dir,
-                         "--force")
-
-
 def read_members(path: Path) -> tuple[dict, dict]:
     """(manifest, arrays) of a checkpoint file, its checksum verified; never unpickles."""
     from ..runstate import CHECKPOINT_FORMAT
@@ -235,11 +230,11 @@ def read_members(path: Path) -> tuple[dict, dict]:
         raise RunError(f"{path}: a checkpoint of another version of optimiser (format "
                        f"{record.get('format_version')!r}, this version reads "
                        f"{CHECKPOINT_FORMAT}); expected a checkpoint of this version: start "
-                       f"the run again with: {_restart(run_dir)}")
+                       f"the run again with: {manifest.restart_command(run_dir)}")
     if _content_sha256(content, members) != checksum:
         raise RunError(f"{path}: damaged checkpoint (its SHA-256 checksum does not match its "
                        "content); expected the checkpoint as the run wrote it (start the run "
-                       f"again with: {_restart(run_dir)})")
+                       f"again with: {manifest.restart_command(run_dir)})")
     return record, members
 
 
@@ -317,7 +312,7 @@ def load_checkpoint(run_dir: Path):
     if legacy.exists():
         raise RunError(f"{legacy}: a checkpoint of an older version of optimiser (a pickle, "
                        "not loaded: it could run code); expected a run folder of this "
-                       f"version: start the run again with: {_restart(run_dir)}")
+                       f"version: start the run again with: {manifest.restart_command(run_dir)}")
     if not path.exists():
         raise RunError(f"{run_dir}: no {names.CHECKPOINT} in it; expected a folder written by "
                        "'optimiser run'")

@@ -84,7 +84,9 @@ def finished_files(run_dir: Path, state, table_name: str, table_rows: int) -> di
     return records
 
 
-def _restart_text(run_dir: Path) -> str:
+def restart_command(run_dir: Path) -> str:
+    """The command that starts the run of ``run_dir`` again from its study, quoted for a
+    shell."""
     return shell_command("optimiser", "run", Path(run_dir) / names.STUDY, "--out", run_dir,
                          "--force")
 
@@ -169,7 +171,7 @@ def check_run_files(run_dir: Path, info: dict):
     if not isinstance(files, dict) or names.STUDY not in files or not info.get("run_id"):
         raise RunError(f"{run_dir / names.RUN_INFO}: records no run id and file hashes (a "
                        "run folder of an older version of optimiser); expected a run folder "
-                       f"of this version: run it again with: {_restart_text(run_dir)}")
+                       f"of this version: run it again with: {restart_command(run_dir)}")
     recorder = names.RUN_INFO
     try:
         _check_study(run_dir, files[names.STUDY], recorder)
