@@ -34,6 +34,7 @@ VOLATILE = re.compile(r'"(started|finished|created|written|elapsed_s|wall_s|seco
                       r'[a-z_]*_utc|[a-z_]*_seconds|[a-z_]*_s)"\s*:\s*'
                       r'("[^"]*"|[-0-9.eE+]+|\{[^{}]*\}|null)')
 TIMESTAMP = re.compile(r"\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2}| UTC)?")
+CHECKPOINTS = ("checkpoint.pkl", "checkpoint.npz")   # the run state, not an output
 DURATION = re.compile(r"\b\d+(\.\d+)? ?(s|ms|min)\b")
 
 
@@ -46,8 +47,19 @@ def _cli(*args, cwd):
     return done.stdout
 
 
+NEW_RUN_INFO_KEYS = ("run_id", "files")
+"""Fields run.json gained deliberately (issue 13): the random run id and the records of the
+folder's files. They are taken out before run.json is compared, so every other field must
+still match the baseline."""
+
+
 def _normalised(path: Path, root: Path) -> bytes:
     data = path.read_bytes()
+    if path.name == "run.json":   # written as json.dumps(indent=2) + newline
+        info = json.loads(data)
+        for key in NEW_RUN_INFO_KEYS:
+            info.pop(key, None)
+        data = (json.dumps(info, indent=2) + "\n").encode()
     if path.name == "history.csv":   # its last column is the wall-clock time
         lines = data.decode().splitlines()
         return "\n".join(line.rsplit(",", 1)[0] for line in lines).encode()
@@ -92,7 +104,7 @@ def produce(root: Path) -> dict[str, str]:
     _cli("sweep", campaign, "--out", root / "sweep", "--serial", cwd=root)
     hashes = {}
     for path in sorted(root.rglob("*")):
-        if path.is_file() and path != campaign and path.name != "checkpoint.pkl":
+        if path.is_file() and path != campaign and path.name not in CHECKPOINTS:
             rel = path.relative_to(root).as_posix()
             rel = re.sub(r"\d{8}T\d{6}Z?", "<time>", rel)
             hashes[rel] = hashlib.sha256(_normalised(path, root)).hexdigest()

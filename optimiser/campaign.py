@@ -278,16 +278,16 @@ def summary_rows(campaign: Campaign, folder: Path):
             if num_col:
                 row[num_col] = a.numbers[i]
         row["run_folder"] = str(Path("runs") / c.name)
-        run = None
+        run, problem = None, ""
         if is_finished(run_dir, c.study_text):
-            try:
+            try:  # checks the run's files against what its run.json records
                 run = load_run(run_dir)
-            except (OptimiserError, OSError, ValueError):
-                run = None
+            except (OptimiserError, OSError, ValueError) as exc:
+                run, problem = None, str(exc).splitlines()[0] if str(exc) else repr(exc)
         if run is None:
             err = run_dir / "error.txt"
-            row["status"] = "failed" if err.is_file() else "not run"
-            row["note"] = err.read_text("utf-8").strip() if err.is_file() else ""
+            row["status"] = "failed" if err.is_file() or problem else "not run"
+            row["note"] = problem or (err.read_text("utf-8").strip() if err.is_file() else "")
             rows.append(row)
             continue
         info, front = run.info, run.front

@@ -8,7 +8,7 @@ from pathlib import Path
 import numpy as np
 
 from .evaluation import CAUTION
-from .runfolder import files, names
+from .runfolder import files, manifest, names
 from .runfolder.archive import read_history
 from .runfolder.runinfo import versions, write_run_info
 from .runstate import DesignSet, RunResult, RunState
@@ -143,7 +143,9 @@ def run_info(study, state: RunState, front, history, message, ended_utc) -> dict
 
 
 def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
-    """Write front.csv (or least_violating.csv), the figures and run.json; build the result.
+    """Write front.csv (or least_violating.csv), the figures and run.json (with the run id
+    and the records of the folder's files, :mod:`optimiser.runfolder.manifest`); build the
+    result.
 
     ``plots`` draws the run's figures: a callable ``plots(study, run_dir, front, history,
     scales=..., run_utc=..., least_violating=...)`` such as :func:`optimiser.report.plots.write_plots` (the reporting layer,
@@ -152,6 +154,10 @@ def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
     ended = files.utc_now()
     front, least, message = _write_tables(study, state, run_dir)
     info = run_info(study, state, front, history, message, ended)
+    # what binds the folder to this run: pick, flaps, report and sweep check these records
+    table = (names.FRONT, len(front)) if least is None else (names.LEAST_VIOLATING, len(least))
+    info["run_id"] = state.run_id
+    info["files"] = manifest.finished_files(run_dir, state, *table)
     if plots:
         plots(study, run_dir, front, history, scales=state.scales, run_utc=state.started_utc,
               least_violating=least)

@@ -43,5 +43,5 @@ class SizingProblem(Problem):
 
     def __getstate__(self):
         state = dict(self.__dict__)
-        state["last_frame"] = None  # the archive on disk holds it; keep checkpoints small
+        state["last_frame"] = None  # the archive on disk holds it; keep copies small
         return state

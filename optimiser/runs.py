@@ -32,7 +32,9 @@ from .errors import RunError, RunInterrupted, shell_command
 from .loop import LEAST_VIOLATING_ROWS, Printer, history_row, run_loop
 from .outputs import finish, summary_text
 from .runfolder import archive, files, names, place
-from .runfolder.checkpoint import checkpoint_bytes, load_checkpoint, save_checkpoint
+from .runfolder.checkpoint import (checkpoint_bytes, load_checkpoint, population_bytes_bound,
+                                   save_checkpoint)
+from .runfolder.manifest import new_run_id
 from .runfolder.runinfo import is_finished
 from .runstate import STALL_TOLERANCE, Budget, DesignSet, RunResult, RunState
 
@@ -51,9 +53,11 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
     earlier; with --time, also at most the time budget x the measured sizing rate (an upper
     bound: the search adds its own time). Bytes per row:
     :func:`~optimiser.runfolder.archive.archive_row_bytes`.
-    Checkpoints: the initial pickle plus the designs of the front and least-violating sets it
-    will carry (up to 20 x population rows, ours), twice (temporary file and old file); the
-    front table: those rows with every evaluate column, 24 bytes each.
+    Checkpoints: the initial checkpoint, the populations it will hold
+    (:func:`~optimiser.runfolder.checkpoint.population_bytes_bound`) and the designs of the
+    front and least-violating sets it will carry (up to 20 x population rows, ours), twice
+    (temporary file and old file); the front table: those rows with every evaluate column,
+    24 bytes each.
     """
     b = state.budget
     per_gen = b.option_population * len(study.flaps)
@@ -78,8 +82,11 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
     from .sizing import active_constraints
     full_row_bytes = 25 * (len(COLUMN_DOCS) + len(active_constraints(study.spec)))
     front_rows = min(rows, 20 * b.population) + LEAST_VIOLATING_ROWS
-    checkpoint = len(checkpoint_bytes(state)) \
-        + front_rows * 8 * (6 + len(list(study.objective_columns())))
+    n_obj = len(list(study.objective_columns()))
+    populations = population_bytes_bound(len(study.flaps), b.option_population,
+                                          len(state.algos[0].problem.xl), n_obj,
+                                          len(active_constraints(study.spec)))
+    checkpoint = len(checkpoint_bytes(state)) + populations + front_rows * 8 * (6 + n_obj)
     history = (gens + 1) * 40 * (8 + len(list(study.objective_columns())))
     total = (rows * row_bytes + history + 2 * checkpoint + front_rows * full_row_bytes
              + PLOTS_ALLOWANCE_BYTES) * SPACE_SAFETY_FACTOR
@@ -129,7 +136,8 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
                     else float(stall_tolerance))
     state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
                      budget=budget, algos=make_algorithms(study, seed, per, run_gens),
-                     scales=reference_scales(study), started_utc=files.utc_now())
+                     scales=reference_scales(study), started_utc=files.utc_now(),
+                     run_id=new_run_id())
     cols = archive.archive_columns(study)
     hist_cols = list(history_row(study, state, 0, 0.0))
     need, need_text = estimate_output_bytes(study, state)
@@ -197,7 +205,11 @@ def _drive(study, state, run_dir, progress, plots):
 
 def resume(run_dir, *, progress=False, plots=None) -> RunResult:
     """Continue an interrupted run from its checkpoint to its original budget. With the same
-    seed the result equals that of an uninterrupted run. ``plots`` as for :func:`optimise`."""
+    seed the result equals that of an uninterrupted run. ``plots`` as for :func:`optimise`.
+
+    The checkpoint must belong to the folder (its run id, study hash and archive records,
+    :func:`~optimiser.runfolder.manifest.check_checkpoint_folder`), checked by
+    :func:`load_checkpoint` before anything is truncated or appended."""
     from .study import parse_study
     run_dir = Path(run_dir)
     state = load_checkpoint(run_dir)

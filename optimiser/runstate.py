@@ -8,7 +8,9 @@ from pathlib import Path
 
 import numpy as np
 
-CHECKPOINT_FORMAT = 2
+CHECKPOINT_FORMAT = 3
+"""Version of the checkpoint format (:mod:`optimiser.runfolder.checkpoint`); 3: the code-free
+``checkpoint.npz`` (2 and before: a pickle, refused unread)."""
 
 
 @dataclass(frozen=True)
@@ -82,7 +84,9 @@ class DesignSet:
 
 @dataclass
 class RunState:
-    """Everything a run needs to continue; pickled whole as the checkpoint."""
+    """Everything a run needs to continue; saved as numbers and JSON by
+    :mod:`optimiser.runfolder.checkpoint` (``run_id``: made at the start, binds the run
+    folder's files to the run, see :mod:`optimiser.runfolder.manifest`)."""
 
     study_text: str
     study_path: str
@@ -103,4 +107,5 @@ class RunState:
     archive_bytes: int = 0
     history_bytes: int = 0
     termination: str | None = None
+    run_id: str = ""
     format: int = CHECKPOINT_FORMAT

@@ -368,13 +368,13 @@ def test_disk_full_while_writing_a_checkpoint_keeps_the_old_one(study, reference
             calls["n"] += 1
             if calls["n"] == 4:  # start's checkpoint, generations 1 and 2, then generation 3
                 raise OSError(errno.ENOSPC, "No space left on device",
-                              str(out / f".checkpoint.pkl.tmp-{os.getpid()}"))
+                              str(out / f".checkpoint.npz.tmp-{os.getpid()}"))
         return before_replace
 
     monkeypatch.setattr(checkpoint, "_test_pause", failing_pause)
     out = tmp_path / "run"
     with pytest.raises(RunError,
-                       match=r"cannot write checkpoint\.pkl \(No space .*generation 2\)"):
+                       match=r"cannot write checkpoint\.npz \(No space .*generation 2\)"):
         optimiser.optimise(study, out=out, plots=False, **TINY)
     assert load_checkpoint(out).generation == 2
     assert [p.name for p in out.iterdir() if p.name.startswith(".")] == []  # temp removed
@@ -407,8 +407,8 @@ def test_killed_after_the_last_checkpoint_is_finished_by_resume(study, reference
 def test_damaged_checkpoint_is_one_line(reference, tmp_path, capsys):
     out = tmp_path / "run"
     shutil.copytree(reference, out)
-    data = (out / "checkpoint.pkl").read_bytes()
-    (out / "checkpoint.pkl").write_bytes(data[: len(data) // 2])
+    data = (out / "checkpoint.npz").read_bytes()
+    (out / "checkpoint.npz").write_bytes(data[: len(data) // 2])
     before = {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()}
     assert main(["resume", str(out)]) == 2
     line = one_error_line(capsys)
@@ -437,10 +437,20 @@ def test_archive_shorter_than_the_checkpoint_is_one_line(study, tmp_path, capsys
     assert (out / "evaluations.csv").read_bytes() == data[:-10]  # left as it was
 
 
-def test_study_in_the_checkpoint_is_used_not_a_later_edit(study, reference, tmp_path):
-    # editing study.toml in the run folder after an interruption does not change the run
+def test_study_edited_after_an_interruption_is_refused_and_the_checkpoint_study_used(
+        study, reference, tmp_path, capsys):
+    # editing study.toml in the run folder after an interruption does not change the run:
+    # resume refuses the folder (the study's hash differs from the checkpoint's record) and
+    # touches nothing; with the file restored it resumes with the study of the checkpoint
     out = _interrupted_at_generation_2(study, tmp_path / "run")
+    original = (out / "study.toml").read_bytes()
     (out / "study.toml").write_text("this is not a study\n")
+    before = {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()}
+    assert main(["resume", str(out)]) == 2
+    line = one_error_line(capsys)
+    assert "study.toml: not the study this run used" in line and "checkpoint" in line
+    assert {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()} == before
+    (out / "study.toml").write_bytes(original)
     resume(out, plots=False)
     same_run_outputs(out, reference)
     assert parse_study(load_checkpoint(out).study_text).name == study.name

@@ -6,11 +6,12 @@ beyond what the checkpoint records and a checkpoint that loads.
 The kill inside a checkpoint write is made deterministic by the test hook
 ``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` (optimiser.runfolder.checkpoint.TEST_PAUSE_ENV): the child
 process sleeps after the temporary checkpoint file is complete and before it replaces
-checkpoint.pkl, and the test kills it while the temporary file is there.
+checkpoint.npz, and the test kills it while the temporary file is there.
 
 Source of the expectation: exact resume is this project's own requirement (same seed, same
-front); pymoo's per-algorithm random generator is pickled with it (common practice, measured
-in shared/PYMOO-NOTES.md).
+front); each per-algorithm random generator's state is saved with its population
+(common practice; what pymoo keeps between generations was read in its source, see
+optimiser.runfolder.checkpoint).
 """
 
 from __future__ import annotations
@@ -176,7 +177,7 @@ def test_killed_before_the_first_checkpoint_is_refused_clearly_and_rerun_with_fo
     assert not (run_dir / CHECKPOINT).exists()
     assert main(["resume", str(run_dir)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and "no checkpoint.pkl" in err[0]
+    assert len(err) == 1 and f"no {CHECKPOINT}" in err[0]
     assert main(["run", "--out", str(run_dir), "--pop", str(POP), "--gens", "2"]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "--force" in err[0]

@@ -39,7 +39,7 @@ def _dominated_any(F):
 def test_tiny_run_writes_every_file(tiny_run):
     d = tiny_run.run_dir
     for name in ("study.toml", "run.json", "front.csv", "evaluations.csv", "history.csv",
-                 "checkpoint.pkl", "plots/objectives.png", "plots/objectives.svg",
+                 "checkpoint.npz", "plots/objectives.png", "plots/objectives.svg",
                  "plots/front_view.png", "plots/decision_variables.png",
                  "plots/convergence.svg", "plots/constraint_diagram.png"):
         assert (d / name).is_file(), name

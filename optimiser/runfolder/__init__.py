@@ -4,8 +4,9 @@ here; the search loop (:mod:`optimiser.runs`, :mod:`optimiser.loop`) only calls 
 
 Modules: :mod:`~.names` (file names), :mod:`~.files` (atomic writes, appending, fsync, CSV
 bytes), :mod:`~.place` (where a run goes, free space, writability, ``--force``),
-:mod:`~.archive` (``evaluations.csv`` and ``history.csv``), :mod:`~.checkpoint`,
-:mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`).
+:mod:`~.archive` (``evaluations.csv`` and ``history.csv``), :mod:`~.checkpoint` (no code in
+it: arrays and JSON), :mod:`~.manifest` (the run id and file records binding a folder to its
+run), :mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`).
 
 Importing this package pulls in neither pandas nor pyarrow (they are imported where used).
 """

@@ -16,8 +16,10 @@ A run folder (written by ``optimiser run``) holds:
     :mod:`optimiser.runfolder.archive`);
 ``history.csv``
     one row per generation (:data:`HISTORY`);
-``checkpoint.pkl``
-    the whole run state (:data:`CHECKPOINT`);
+``checkpoint.npz``
+    the whole run state as numbers and a JSON manifest, no code (:data:`CHECKPOINT`, see
+    :mod:`optimiser.runfolder.checkpoint`); ``checkpoint.pkl`` (:data:`LEGACY_CHECKPOINT`)
+    is the pickled state of older versions, refused unread;
 ``plots/``, ``pick-<method>/``, ``flaps/``, ``report.html``
     figures, picks, the flap comparison and the report, written by later commands.
 """
@@ -30,7 +32,8 @@ FRONT = "front.csv"
 LEAST_VIOLATING = "least_violating.csv"
 ARCHIVE = "evaluations.csv"
 HISTORY = "history.csv"
-CHECKPOINT = "checkpoint.pkl"
+CHECKPOINT = "checkpoint.npz"
+LEGACY_CHECKPOINT = "checkpoint.pkl"
 PLOTS_DIR = "plots"
 FLAPS_DIR = "flaps"
 PICK_DIR_PREFIX = "pick-"
@@ -40,6 +43,8 @@ PICK_DESIGN_INPUT = "design_input.csv"
 ``optimiser robust --front``): the four input columns, one row, every number exact."""
 REPORT = "report.html"
 
-RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT)
-"""The files ``optimiser run`` writes (``--force`` replaces only these, and the plots)."""
+RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT,
+             LEGACY_CHECKPOINT)
+"""The files ``optimiser run`` writes, and the checkpoint of older versions (``--force``
+replaces only these, and the plots)."""
 PLOT_SUFFIXES = (".png", ".svg")

@@ -8,6 +8,7 @@ from pathlib import Path
 
 from ..errors import RunError
 from . import names
+from .manifest import check_run_files
 from .runinfo import read_run_info
 
 TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds")
@@ -52,7 +53,8 @@ def read_front(run_dir):
 
 
 def load_run(run_dir) -> Run:
-    """Read a run folder written by ``optimiser run``; :class:`RunError` if it is not one."""
+    """Read a run folder written by ``optimiser run``; :class:`RunError` if it is not one, or
+    if its files are not those its ``run.json`` records (:func:`~.manifest.check_run_files`)."""
     from ..study import parse_study
     run_dir = Path(run_dir)
     if not run_dir.is_dir():
@@ -62,6 +64,7 @@ def load_run(run_dir) -> Run:
         if not (run_dir / name).is_file():
             raise RunError(f"{run_dir}: no {name} in it; expected a finished run folder "
                            "written by 'optimiser run'")
+    info = read_run_info(run_dir)
+    check_run_files(run_dir, info)  # the files are those the run wrote (run.json records)
     study = parse_study(read_study_text(run_dir), str(run_dir / names.STUDY))
-    return Run(study=study, run_dir=run_dir, front=read_front(run_dir),
-               info=read_run_info(run_dir))
+    return Run(study=study, run_dir=run_dir, front=read_front(run_dir), info=info)
