@@ -16,6 +16,7 @@ import numpy as np
 from ..columns import CONSTRAINT_LABELS, plot_label
 from ..runfolder import names
 from ..runfolder.archive import read_archive
+from ..runfolder.files import make_folder
 from . import palette
 from .figures import pyplot, save
 
@@ -139,8 +140,7 @@ def convergence(study, history, ax=None):
 
 def write_plots(study, run_dir, front, history, scales=None):
     """Save every plot as PNG and SVG in ``run_dir/plots``; returns the written paths."""
-    out = Path(run_dir) / names.PLOTS_DIR
-    out.mkdir(exist_ok=True)
+    out = make_folder(Path(run_dir) / names.PLOTS_DIR)  # refused if a link
     written = save(convergence(study, history), out / "convergence")
     if len(front):
         F = read_archive(run_dir, study.objective_columns(), feasible_only=True)\

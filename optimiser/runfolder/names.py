@@ -19,7 +19,11 @@ A run folder (written by ``optimiser run``) holds:
 ``checkpoint.pkl``
     the whole run state (:data:`CHECKPOINT`);
 ``plots/``, ``pick-<method>/``, ``flaps/``, ``report.html``
-    figures, picks, the flap comparison and the report, written by later commands.
+    figures, picks, the flap comparison and the report, written by later commands;
+``.lock``
+    only while ``run`` or ``resume`` writes the folder: who holds it (:data:`LOCK`, see
+    :mod:`optimiser.runfolder.lock`); not a run file, and not counted when the folder is
+    checked for being empty.
 """
 
 from __future__ import annotations
@@ -36,6 +40,7 @@ FLAPS_DIR = "flaps"
 PICK_DIR_PREFIX = "pick-"
 PICK_CHOICE = "choice.json"
 REPORT = "report.html"
+LOCK = ".lock"
 
 RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT)
 """The files ``optimiser run`` writes (``--force`` replaces only these, and the plots)."""
