@@ -105,23 +105,20 @@ def _check_positive(name, value, integer=True):
     return value
 
 
-def start(study, *, out=None, force=False, seed=None, generations=None, population=None,
-          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=None,
-          stall_tolerance=None):
+def start(study, **options):
     """Validate the options, create the run folder and the initial state; (state, folder).
-    The folder is locked while it is written and released on return."""
-    state, run_dir, held = _start(study, out=out, force=force, seed=seed,
-                                  generations=generations, population=population,
-                                  evaluations=evaluations, time_budget_s=time_budget_s,
-                                  stall_generations=stall_generations,
-                                  checkpoint_every=checkpoint_every,
-                                  stall_tolerance=stall_tolerance)
+    ``options``: those of :func:`optimise` that shape the run (``out``, ``force``, ``seed``,
+    ``generations``, ``population``, ``evaluations``, ``time_budget_s``,
+    ``stall_generations``, ``checkpoint_every``, ``stall_tolerance``). The folder is locked
+    while it is written and released on return."""
+    state, run_dir, held = _start(study, **options)
     held.release()
     return state, run_dir
 
 
-def _start(study, *, out, force, seed, generations, population, evaluations, time_budget_s,
-           stall_generations, checkpoint_every, stall_tolerance):
+def _start(study, *, out=None, force=False, seed=None, generations=None, population=None,
+           evaluations=None, time_budget_s=None, stall_generations=None,
+           checkpoint_every=None, stall_tolerance=None):
     """:func:`start`, returning the folder's lock too (held: the caller releases it)."""
     from .search import make_algorithms, plan_budget, reference_scales
     _check_positive("--gens", generations)

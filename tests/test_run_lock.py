@@ -12,7 +12,7 @@ Links (optimiser/runfolder/files.py): a run file that is a symbolic link, a name
 folder is refused with one line before anything is written, and the file a link points to is
 left byte for byte as it was.
 
-Source of the expectations: the project's own rules (one-line errors with exit status 2,
+Source: the project's own rules (one-line errors with exit status 2,
 nothing saved is lost or overwritten); the POSIX semantics of ``open(O_CREAT | O_EXCL)``,
 ``O_NOFOLLOW``, ``flock`` and ``rename`` (a rename replaces a link, never its target) are
 those of the operating system (POSIX.1-2017, open() and rename(); Linux flock(2)).
@@ -39,7 +39,9 @@ from optimiser.errors import RunError
 from optimiser.runfolder import files, lock, names
 from optimiser.runfolder.checkpoint import TEST_PAUSE_ENV, load_checkpoint
 
-TINY = dict(population=8, generations=5, checkpoint_every=1)
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from test_faults import TINY  # noqa: E402  (the same tiny budget and interrupted run)
+from test_faults import _interrupted_at_generation_2 as interrupted  # noqa: E402
 WAIT_S = 120.0  # a child that takes longer has hung: a failure
 
 
@@ -48,17 +50,6 @@ def reference(study, tmp_path_factory):
     """An uninterrupted tiny run: what every resumed run must end with."""
     out = tmp_path_factory.mktemp("reference") / "run"
     optimiser.optimise(study, out=out, plots=False, **TINY)
-    return out
-
-
-def interrupted(study, out: Path) -> Path:
-    """A tiny run stopped (as by Ctrl-C) after its second generation."""
-    def stop(row, state):
-        if row["generation"] == 2:
-            raise KeyboardInterrupt
-
-    with pytest.raises(runs.RunInterrupted):
-        optimiser.optimise(study, out=out, plots=False, progress=stop, **TINY)
     return out
 
 

@@ -30,7 +30,7 @@ _NOFOLLOW = getattr(os, "O_NOFOLLOW", 0)
 _NONBLOCK = getattr(os, "O_NONBLOCK", 0)
 _CLOEXEC = getattr(os, "O_CLOEXEC", 0)
 
-_KINDS = ((stat.S_ISDIR, "a folder"), (stat.S_ISFIFO, "a named pipe"),
+_KINDS = ((stat.S_ISREG, "a file"), (stat.S_ISDIR, "a folder"), (stat.S_ISFIFO, "a named pipe"),
           (stat.S_ISSOCK, "a socket"), (stat.S_ISCHR, "a character device"),
           (stat.S_ISBLK, "a block device"))
 

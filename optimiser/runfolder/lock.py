@@ -171,7 +171,10 @@ class RunLock:
 
     def __del__(self):  # a lock never released by its owner (a bug) is not held for ever
         if getattr(self, "_fd", None) is not None:
-            self.release()
+            try:
+                self.release()
+            except Exception:  # interpreter shutdown: the OS releases the flock anyway
+                pass
 
 
 def _refuse_held(run_dir: Path, holder: dict | None):
