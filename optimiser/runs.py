@@ -17,6 +17,12 @@ during the run (a full disk) ends it with a :class:`RunError` and the last check
 is finished by :func:`resume`. Stale temporary files of killed atomic writes are removed on
 resume and on ``--force``. ``OPTIMISER_TEST_PAUSE_IN_CHECKPOINT`` is a test hook (see
 :data:`optimiser.runfolder.checkpoint.TEST_PAUSE_ENV`), not a user option.
+
+One writer at a time: :func:`optimise` and :func:`resume` lock the run folder
+(:mod:`optimiser.runfolder.lock`) before they create, truncate or append anything in it and
+release it however they end; a folder another live process writes is refused with one line.
+A run file that is a symbolic link or not a regular file is refused before anything is
+written (nothing is written through a link).
 """
 
 from __future__ import annotations
@@ -32,8 +38,8 @@ from .errors import RunError, RunInterrupted, shell_command
 from .loop import LEAST_VIOLATING_ROWS, Printer, history_row, run_loop
 from .outputs import finish, summary_text
 from .runfolder import archive, files, names, place
-from .runfolder.checkpoint import (checkpoint_bytes, load_checkpoint, population_bytes_bound,
-                                   save_checkpoint)
+from .runfolder.checkpoint import (checkpoint_bytes, has_checkpoint, load_checkpoint,
+                                   population_bytes_bound, save_checkpoint)
 from .runfolder.manifest import new_run_id
 from .runfolder.runinfo import is_finished
 from .runstate import STALL_TOLERANCE, Budget, DesignSet, RunResult, RunState
@@ -105,10 +111,21 @@ def _check_positive(name, value, integer=True):
     return value
 
 
-def start(study, *, out=None, force=False, seed=None, generations=None, population=None,
-          evaluations=None, time_budget_s=None, stall_generations=None, checkpoint_every=None,
-          stall_tolerance=None):
-    """Validate the options, create the run folder and the initial state."""
+def start(study, **options):
+    """Validate the options, create the run folder and the initial state; (state, folder).
+    ``options``: those of :func:`optimise` that shape the run (``out``, ``force``, ``seed``,
+    ``generations``, ``population``, ``evaluations``, ``time_budget_s``,
+    ``stall_generations``, ``checkpoint_every``, ``stall_tolerance``). The folder is locked
+    while it is written and released on return."""
+    state, run_dir, held = _start(study, **options)
+    held.release()
+    return state, run_dir
+
+
+def _start(study, *, out=None, force=False, seed=None, generations=None, population=None,
+           evaluations=None, time_budget_s=None, stall_generations=None,
+           checkpoint_every=None, stall_tolerance=None):
+    """:func:`start`, returning the folder's lock too (held: the caller releases it)."""
     from .search import make_algorithms, plan_budget, reference_scales
     _check_positive("--gens", generations)
     _check_positive("--pop", population)
@@ -141,11 +158,17 @@ def start(study, *, out=None, force=False, seed=None, generations=None, populati
     cols = archive.archive_columns(study)
     hist_cols = list(history_row(study, state, 0, 0.0))
     need, need_text = estimate_output_bytes(study, state)
-    run_dir = place.prepare_run_dir(out, study, force, need_bytes=need, need_text=need_text)
-    files.write_atomic(run_dir / names.STUDY, study.text.encode("utf-8"))
-    state.archive_bytes, state.history_bytes = archive.write_headers(run_dir, cols, hist_cols)
-    save_checkpoint(run_dir, state)
-    return state, run_dir
+    run_dir, held = place.claim_run_dir(out, study, force, need_bytes=need,
+                                        need_text=need_text, command="run")
+    try:
+        files.write_atomic(run_dir / names.STUDY, study.text.encode("utf-8"))
+        state.archive_bytes, state.history_bytes = archive.write_headers(run_dir, cols,
+                                                                         hist_cols)
+        save_checkpoint(run_dir, state)
+    except BaseException:
+        held.release()
+        raise
+    return state, run_dir, held
 
 
 def _progress_fn(progress):
@@ -176,11 +199,14 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
     """
     from .study import Study, load_study
     study = study_or_path if isinstance(study_or_path, Study) else load_study(study_or_path)
-    state, run_dir = start(study, out=out, force=force, seed=seed, generations=generations,
-                           population=population, evaluations=evaluations,
-                           time_budget_s=time_budget_s, stall_generations=stall_generations,
-                           checkpoint_every=checkpoint_every, stall_tolerance=stall_tolerance)
-    return _drive(study, state, run_dir, _progress_fn(progress), plots)
+    state, run_dir, held = _start(study, out=out, force=force, seed=seed,
+                                  generations=generations, population=population,
+                                  evaluations=evaluations, time_budget_s=time_budget_s,
+                                  stall_generations=stall_generations,
+                                  checkpoint_every=checkpoint_every,
+                                  stall_tolerance=stall_tolerance)
+    with held:
+        return _drive(study, state, run_dir, _progress_fn(progress), plots)
 
 
 def _drive(study, state, run_dir, progress, plots):
@@ -210,9 +236,17 @@ def resume(run_dir, *, progress=False, plots=None) -> RunResult:
     The checkpoint must belong to the folder (its run id, study hash and archive records,
     :func:`~optimiser.runfolder.manifest.check_checkpoint_folder`), checked by
     :func:`load_checkpoint` before anything is truncated or appended."""
-    from .study import parse_study
     run_dir = Path(run_dir)
-    state = load_checkpoint(run_dir)
+    if not has_checkpoint(run_dir):
+        load_checkpoint(run_dir)  # no folder, or no checkpoint in it: its one-line error
+    with place.lock_run_dir(run_dir, "resume"):
+        place.check_run_files(run_dir)  # no link, pipe or folder under a run file's name
+        return _resume_locked(run_dir, progress, plots)
+
+
+def _resume_locked(run_dir: Path, progress, plots) -> RunResult:
+    from .study import parse_study
+    state = load_checkpoint(run_dir)  # read under the lock: as the last writer left it
     # A run killed after its last checkpoint but before run.json (written last) is finished
     # here: the loop stops at once and the outputs are written again.
     if state.termination is not None and is_finished(run_dir):

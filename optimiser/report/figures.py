@@ -55,11 +55,18 @@ def finish_layout(fig, study_name: str, run_utc: str | None = None):
 
 
 def save(fig, stem, dpi=DPI) -> list[Path]:
-    """Write ``fig`` as ``<stem>.png`` and ``<stem>.svg``, close it, return the paths."""
+    """Write ``fig`` as ``<stem>.png`` and ``<stem>.svg``, close it, return the paths. Each
+    file is rendered in memory and written atomically (never through a link, see
+    :func:`optimiser.runfolder.files.write_atomic`)."""
+    import io
+
+    from ..runfolder.files import write_atomic
     written = []
     for ext in FORMATS:
         path = Path(f"{stem}.{ext}")
-        fig.savefig(path, dpi=dpi)
+        buf = io.BytesIO()
+        fig.savefig(buf, format=ext, dpi=dpi)
+        write_atomic(path, buf.getvalue())
         written.append(path)
     pyplot().close(fig)
     return written

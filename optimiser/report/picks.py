@@ -14,7 +14,7 @@ from ..decide import RUNNERS_UP, Choice, runners_up
 from ..errors import DecideError
 from ..evaluation import CAUTION
 from ..runfolder import names
-from ..runfolder.files import write_atomic
+from ..runfolder.files import make_folder, write_atomic
 from ..runfolder.reader import Run
 from ..runfolder.runinfo import json_bytes
 from . import sheet
@@ -47,11 +47,10 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     design_input.csv, constraint_diagram.png/.svg, runners_up.csv, choice.json. An existing
     folder is refused unless ``force``."""
     from .plots import design_constraint_diagram
-    out = pick_folder(run.run_dir, choice.method, choice.limits)
-    if out.exists() and any(out.iterdir()) and not force:
+    out = make_folder(pick_folder(run.run_dir, choice.method, choice.limits))  # refused if a link
+    if any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
                           "the pick files in it)")
-    out.mkdir(exist_ok=True)
     study = run.study
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
@@ -102,11 +101,10 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
     unless ``force``)."""
     from .plots import flap_fronts
-    out = run.run_dir / names.FLAPS_DIR
-    if out.exists() and any(out.iterdir()) and not force:
+    out = make_folder(run.run_dir / names.FLAPS_DIR)  # refused if a link
+    if any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
                           "flap comparison in it)")
-    out.mkdir(exist_ok=True)
     write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
     write_atomic(out / "flaps.md", sheet.flaps_markdown(run.study, table).encode())
     save(flap_fronts(run.study, fronts, table, run.info.get("started_utc")), out / "flaps")

@@ -20,6 +20,7 @@ import numpy as np
 from ..columns import CONSTRAINT_LABELS, plot_label
 from ..runfolder import names
 from ..runfolder.archive import read_archive
+from ..runfolder.files import make_folder
 from . import palette
 from .figures import finish_layout, pyplot, save
 
@@ -222,8 +223,7 @@ def write_plots(study, run_dir, front, history, scales=None, run_utc=None,
     With no feasible design the constraint diagram is still drawn, at the least-violating
     design (``least_violating``, a frame of sized designs), since that is when it is needed
     most."""
-    out = Path(run_dir) / names.PLOTS_DIR
-    out.mkdir(exist_ok=True)
+    out = make_folder(Path(run_dir) / names.PLOTS_DIR)  # refused if a link
     written = save(convergence(study, history, run_utc), out / "convergence")
     if len(front):
         F = read_archive(run_dir, study.objective_columns(), feasible_only=True)\

@@ -4,6 +4,7 @@ here; the search loop (:mod:`optimiser.runs`, :mod:`optimiser.loop`) only calls 
 
 Modules: :mod:`~.names` (file names), :mod:`~.files` (atomic writes, appending, fsync, CSV
 bytes), :mod:`~.place` (where a run goes, free space, writability, ``--force``),
+:mod:`~.lock` (one writer at a time: the folder's lock file),
 :mod:`~.archive` (``evaluations.csv`` and ``history.csv``), :mod:`~.checkpoint` (no code in
 it: arrays and JSON), :mod:`~.manifest` (the run id and file records binding a folder to its
 run), :mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`).

@@ -3,17 +3,101 @@
 Every file of a run folder is written by :func:`write_atomic` (a complete temporary file in
 the same folder, fsync, rename) or appended by :func:`append` (the archive and the history,
 kept open while a loop runs). An ``OSError`` always names the file it concerns.
+
+No write goes through a link: a file this module writes, appends to, truncates or replaces
+must be a regular file (or not exist yet), and a folder it writes into (:func:`make_folder`)
+a real folder; a symbolic link, a folder, a named pipe or a device in its place is refused
+with one line (:func:`refuse_unless_regular`, a :class:`~optimiser.errors.RunError`) before
+anything is written. Files are opened with ``O_NOFOLLOW`` (and ``O_NONBLOCK``, so a named
+pipe never hangs the open); :func:`write_atomic`'s ``os.replace`` renames over the name
+itself and never follows a link there. The run folder itself may be a link (results kept
+on another disk): only the names inside it are checked.
 """
 
 from __future__ import annotations
 
 import os
 import re
+import stat
 import threading
 from datetime import datetime, timezone
 from pathlib import Path
 
+from ..errors import RunError
+
 _TEMPORARY = re.compile(r"^\.(.+)\.tmp-\d+$")
+_NOFOLLOW = getattr(os, "O_NOFOLLOW", 0)
+_NONBLOCK = getattr(os, "O_NONBLOCK", 0)
+_CLOEXEC = getattr(os, "O_CLOEXEC", 0)
+
+_KINDS = ((stat.S_ISREG, "a file"), (stat.S_ISDIR, "a folder"), (stat.S_ISFIFO, "a named pipe"),
+          (stat.S_ISSOCK, "a socket"), (stat.S_ISCHR, "a character device"),
+          (stat.S_ISBLK, "a block device"))
+
+
+def _kind(mode) -> str:
+    return next((text for test, text in _KINDS if test(mode)), "not a regular file")
+
+
+def refuse_unless_regular(path):
+    """:class:`RunError` (one line) if ``path`` is a symbolic link or anything but a regular
+    file; nothing if it is a regular file or does not exist."""
+    try:
+        st = os.lstat(path)
+    except FileNotFoundError:
+        return
+    if stat.S_ISLNK(st.st_mode):
+        try:
+            target = f" (to {os.readlink(path)})"
+        except OSError:
+            target = ""
+        raise RunError(f"{path}: is a symbolic link{target}; expected a regular file: the "
+                       "files of a run folder are never written through a link (replace the "
+                       "link with a copy of the file, or remove it)")
+    if not stat.S_ISREG(st.st_mode):
+        raise RunError(f"{path}: is {_kind(st.st_mode)}, not a regular file; expected a "
+                       "regular file (or none) under this name in the run folder")
+
+
+def make_folder(path) -> Path:
+    """Create the folder ``path`` (its parent exists) unless it is there; :class:`RunError`
+    (one line) if a symbolic link or a file stands under its name (nothing is written
+    through it)."""
+    path = Path(path)
+    try:
+        st = os.lstat(path)
+    except FileNotFoundError:
+        path.mkdir(exist_ok=True)
+        return path
+    if stat.S_ISLNK(st.st_mode):
+        raise RunError(f"{path}: is a symbolic link; expected a folder: nothing is written "
+                       "through a link in a run folder (remove the link)")
+    if not stat.S_ISDIR(st.st_mode):
+        raise RunError(f"{path}: is {_kind(st.st_mode)}, not a folder; expected a folder "
+                       "(or none) under this name")
+    return path
+
+
+def _open_regular(path, flags: int) -> int:
+    """``os.open`` that never follows a link and never waits on a pipe; the file must be a
+    regular file (else :class:`RunError`)."""
+    refuse_unless_regular(path)
+    try:
+        fd = os.open(path, flags | _NOFOLLOW | _NONBLOCK | _CLOEXEC, 0o644)
+    except OSError:
+        refuse_unless_regular(path)  # replaced by a link or a pipe since the check
+        raise
+    if not stat.S_ISREG(os.fstat(fd).st_mode):
+        os.close(fd)
+        refuse_unless_regular(path)
+        raise RunError(f"{path}: not a regular file; expected a regular file")
+    if _NONBLOCK:
+        try:
+            import fcntl
+            fcntl.fcntl(fd, fcntl.F_SETFL, fcntl.fcntl(fd, fcntl.F_GETFL) & ~_NONBLOCK)
+        except (ImportError, OSError):  # pragma: no cover - no effect on regular files
+            pass
+    return fd
 
 
 def utc_now() -> str:
@@ -54,19 +138,24 @@ def write_atomic(path: Path, data: bytes, before_replace=None):
     """Write ``data`` to ``path`` atomically: temp file in the same folder, fsync, replace.
     ``before_replace()`` (if given) is called between the fsync and the replace."""
     path = Path(path)
+    refuse_unless_regular(path)
     tmp = temporary_path(path)
     try:
-        with open(tmp, "wb") as fh:
+        if os.path.lexists(tmp):  # left by a killed earlier process of the same id
+            tmp.unlink()
+        fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | _NOFOLLOW | _CLOEXEC, 0o644)
+        with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         if before_replace is not None:
             before_replace()
-        os.replace(tmp, path)
+        refuse_unless_regular(path)  # a link put there meanwhile is refused, not replaced
+        os.replace(tmp, path)  # renames over the name: never follows a link there
     except OSError as exc:
         raise named(exc, path) from None
     finally:
-        if tmp.exists():
+        if os.path.lexists(tmp):
             tmp.unlink()
     fsync_dir(path.parent)
 
@@ -77,15 +166,21 @@ def named(exc: OSError, path) -> OSError:
 
 
 def sync(path: Path):
-    """fsync a file that is (or was) appended to."""
-    with open(path, "rb+") as fh:
-        os.fsync(fh.fileno())
+    """fsync a file that is (or was) appended to (a regular file, never through a link)."""
+    fd = _open_regular(path, os.O_RDWR)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
 
 
 def truncate(path: Path, length: int):
-    """Cut ``path`` back to ``length`` bytes."""
-    with open(path, "rb+") as fh:
-        fh.truncate(length)
+    """Cut ``path`` (a regular file, never through a link) back to ``length`` bytes."""
+    fd = _open_regular(path, os.O_RDWR)
+    try:
+        os.ftruncate(fd, length)
+    finally:
+        os.close(fd)
 
 
 def csv_bytes(frame) -> bytes:
@@ -131,7 +226,8 @@ def append(path: Path, text) -> int:
     try:
         fh = files.get(key)
         if fh is None:
-            fh = files[key] = open(path, "ab")
+            fd = _open_regular(path, os.O_WRONLY | os.O_APPEND | os.O_CREAT)
+            fh = files[key] = os.fdopen(fd, "ab")
         fh.write(data)
         fh.flush()
         return fh.tell()

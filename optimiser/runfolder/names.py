@@ -21,7 +21,11 @@ A run folder (written by ``optimiser run``) holds:
     :mod:`optimiser.runfolder.checkpoint`); ``checkpoint.pkl`` (:data:`LEGACY_CHECKPOINT`)
     is the pickled state of older versions, refused unread;
 ``plots/``, ``pick-<method>/``, ``flaps/``, ``report.html``
-    figures, picks, the flap comparison and the report, written by later commands.
+    figures, picks, the flap comparison and the report, written by later commands;
+``.lock``
+    only while ``run`` or ``resume`` writes the folder: who holds it (:data:`LOCK`, see
+    :mod:`optimiser.runfolder.lock`); not a run file, and not counted when the folder is
+    checked for being empty.
 """
 
 from __future__ import annotations
@@ -42,6 +46,7 @@ PICK_DESIGN_INPUT = "design_input.csv"
 """The chosen design in the input format of ``optimiser evaluate --designs`` (and of
 ``optimiser robust --front``): the four input columns, one row, every number exact."""
 REPORT = "report.html"
+LOCK = ".lock"
 
 RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT,
              LEGACY_CHECKPOINT)
