@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .columns import COLUMN_DOCS  # noqa: F401  (re-exported: the schema's glossary)
-from .sizing import active_constraints, size_designs
+from .sizing import checked_constraints, size_designs
 
 CAUTION = ("Conceptual-design estimates only: not for certification, airworthiness or "
            "operational use. The applicable airworthiness authority's rules and licensed "
@@ -29,7 +29,7 @@ def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.Dat
     """Size arrays of designs (flap as index into ``study.spec.high_lift``) into a frame."""
     spec = study.spec
     out = size_designs(spec, wing_loading, loading, aspect_ratio, flap_index)
-    names = active_constraints(spec)
+    names = checked_constraints(spec, out)
     feasible = out.pop("feasible")
     limiting = np.asarray(names, dtype=object)[out.pop("limiting_index")]
     columns = {
@@ -50,8 +50,12 @@ def evaluate(study, designs) -> pd.DataFrame:
     """Size every design of ``designs`` (a DataFrame, or a dict of columns) for ``study``.
 
     ``designs`` needs the columns of :func:`design_columns`; ``flap`` holds catalogue names
-    (``"fowler"``, ``"single_slotted+slats"``). Raises ``ValueError`` naming a missing column
-    or an unknown flap name.
+    (``"fowler"``, ``"single_slotted+slats"``). Raises ``ValueError`` (a
+    :class:`~optimiser.errors.StudyError`) naming a missing column, an unknown flap name, or
+    the row, column and value of a number that is not finite and positive. A design outside
+    the model's valid ranges (:data:`~optimiser.sizing.inputs.MODEL_RANGES`) is sized at the
+    nearest limit and flagged: ``outside_model_range`` is its limiting constraint (the
+    command line refuses such designs instead).
     """
     from .designs import check_designs
     table = check_designs(study, pd.DataFrame(designs))
