@@ -45,15 +45,17 @@ from .margins import (CONSTRAINT_LABELS, OUTSIDE_MODEL_RANGE, Margins, active_co
                       constraint_margins)
 
 __all__ = [
-    "CONSTRAINT_LABELS", "MODEL_RANGES", "OUTSIDE_MODEL_RANGE", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
-    "ClosureInputs", "CruiseConsumption", "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
-    "Margins", "ModelRange", "checked_constraints", "MassClosure", "MassGroups", "MissionFuel", "SizedBatch", "Takeoff",
-    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required", "air_states", "airplane", "clean_drag",
-    "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
-    "cruise_consumption", "cruise_speed", "design_batch", "high_lift", "installed_propulsion",
-    "landing", "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
-    "oei_climb_gradient", "size_batch", "size_designs", "takeoff", "takeoff_field",
-    "transport_climb_segments",
+    "CONSTRAINT_LABELS", "MODEL_RANGES", "OUTSIDE_MODEL_RANGE", "OVERRIDE_KEYS", "AirStates",
+    "Airplane", "CleanDrag", "Climb", "ClosureInputs", "CruiseConsumption", "CruiseSpeed",
+    "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar", "Margins",
+    "MassClosure", "MassGroups", "MissionFuel", "ModelRange", "SizedBatch", "Takeoff",
+    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required",
+    "air_states", "airplane", "checked_constraints", "clean_drag", "climb_and_ceiling",
+    "close_takeoff_mass", "closure_inputs", "constraint_margins", "cruise_consumption",
+    "cruise_speed", "design_batch", "high_lift", "installed_propulsion", "landing",
+    "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups",
+    "mission_fuel", "oei_climb_gradient", "size_batch", "size_designs", "takeoff",
+    "takeoff_field", "transport_climb_segments",
 ]
 
 
