@@ -48,7 +48,7 @@ study refuses variable bounds outside it, ``evaluate`` refuses designs outside i
 
 
 def range_text(column: str) -> str:
-    """``"from 3 to 20 (the model's valid range: <reason>)"`` for a decision variable."""
+    """``"from 3 to 20 (the model's valid range; <reason>)"`` for a decision variable."""
     r = MODEL_RANGES[column]
     return f"from {r.lower:g} to {r.upper:g} (the model's valid range; {r.reason})"
 
@@ -66,6 +66,7 @@ def _clipped(column: str, values) -> np.ndarray:
     r = MODEL_RANGES[column]
     return np.clip(np.nan_to_num(values, nan=r.lower, posinf=r.upper, neginf=r.lower),
                    r.lower, r.upper)
+
 
 OVERRIDE_KEYS = {
     "cd0_clean": "clean zero-lift drag coefficient [-] (replaces the study's value)",
