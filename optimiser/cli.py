@@ -58,6 +58,18 @@ def _summary(study, frame) -> str:
     return "\n".join(lines)
 
 
+def _check_evaluate_memory(study, rows_at_once: int, args):
+    """Refuse a designs table whose sizing (``rows_at_once`` designs in one call) the available
+    memory cannot hold, before anything is written."""
+    from .evaluation import design_bytes_estimate, memory_shortfall
+    short = memory_shortfall(rows_at_once * design_bytes_estimate(study))
+    if short is not None:
+        what = f"--designs {args.designs}" if args.designs is not None else "the designs"
+        raise UsageError(f"{what}: sizing its {rows_at_once} designs at once {short} "
+                         f"({design_bytes_estimate(study)} bytes a design, with head-room); "
+                         "expected a table that fits in memory (split it into smaller files)")
+
+
 def cmd_evaluate(args):
     from .designs import parse_design_option, read_designs_csv
     from .evaluation import CAUTION, evaluate
@@ -79,6 +91,7 @@ def cmd_evaluate(args):
                                  f"'...' (no sample file {candidate} beside the study)")
             designs = candidate
         table = read_designs_csv(study, designs)
+    _check_evaluate_memory(study, len(table), args)
     frame = evaluate(study, table)
     print(_summary(study, frame))
     if out is not None:

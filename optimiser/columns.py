@@ -234,6 +234,10 @@ CONSTRAINTS = (
     Constraint("landing_climb", "Part 25 landing climb, all engines (25.119)"),
     Constraint("cruise_speed", "cruise speed at cruise altitude"),
     Constraint("service_ceiling", "service ceiling"),
+    Constraint("outside_model_range", "inputs inside the model's valid ranges (only in a batch "
+               "holding a design outside them, e.g. from the Python API: such a design is "
+               "sized at the nearest limit and is infeasible; negative by how far outside, "
+               "relative to the limit)"),
 )
 """Every constraint the model can check, in the order the model checks them."""
 

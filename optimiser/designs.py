@@ -10,13 +10,18 @@ from pathlib import Path
 import pandas as pd
 
 from .evaluation import design_columns
+from .sizing.inputs import MODEL_RANGES, range_text
 from .study import StudyError
 
 
-def check_designs(study, table: pd.DataFrame, source: str = "designs") -> pd.DataFrame:
+def check_designs(study, table: pd.DataFrame, source: str = "designs",
+                  model_range: bool = False) -> pd.DataFrame:
     """Check columns, numbers and flap names; return the table with float columns.
 
-    Raises :class:`StudyError` (one line) naming the column, row and value at fault.
+    Raises :class:`StudyError` (one line) naming the column, row and value at fault: a
+    number that is not finite and positive, and with ``model_range`` (the command line's
+    designs) one outside the model's valid range (:data:`~optimiser.sizing.inputs.MODEL_RANGES`),
+    which the model would size at the nearest limit and flag ``outside_model_range``.
     """
     need = design_columns(study)
     cols = [str(c).strip() for c in table.columns]
@@ -36,16 +41,22 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs") -> pd.Dat
         raise StudyError(f"{source}: no design rows; expected at least one row under the "
                          "header " + ",".join(need))
     for c in need[:3]:
+        r = MODEL_RANGES[c]
         values = []
         for i, v in enumerate(table[c].tolist()):
+            where = f"{source}: " + (f"row {i + 1}, " if len(table) > 1 or source != "--design"
+                                     else "") + f"column {c!r}"
             try:
                 x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
             except ValueError:
-                raise StudyError(f"{source}: row {i + 1}, column {c!r}: got {v!r}; expected a "
-                                 "number") from None
+                expected = f"a number {range_text(c)}" if model_range else "a number"
+                raise StudyError(f"{where}: got {v!r}; expected {expected}") from None
+            if model_range and not (math.isfinite(x) and r.lower <= x <= r.upper):
+                raise StudyError(f"{where}: got {v!r}; expected a "
+                                 + ("" if math.isfinite(x) else "finite ")
+                                 + f"number {range_text(c)}")
             if not math.isfinite(x) or x <= 0:
-                raise StudyError(f"{source}: row {i + 1}, column {c!r}: got {v!r}; expected a "
-                                 "finite positive number")
+                raise StudyError(f"{where}: got {v!r}; expected a finite positive number")
             values.append(x)
         table[c] = values
     names = study.spec.high_lift_names
@@ -91,7 +102,7 @@ def read_designs_csv(study, path) -> pd.DataFrame:
             raise StudyError(f"{path}: row {i + 1} has {len(r)} cells; expected {len(header)} "
                              "like the header")
     table = pd.DataFrame(rows[1:], columns=header, dtype=object)
-    return check_designs(study, table, str(path))
+    return check_designs(study, table, str(path), model_range=True)
 
 
 def parse_design_option(study, text: str) -> pd.DataFrame:
@@ -119,4 +130,4 @@ def parse_design_option(study, text: str) -> pd.DataFrame:
             hint = f" (did you mean {close[0]!r}?)" if close else ""
             raise StudyError(f"--design: unknown name {k!r}{hint}; expected: "
                              + ", ".join(design_columns(study)))
-    return check_designs(study, pd.DataFrame([pairs]), "--design")
+    return check_designs(study, pd.DataFrame([pairs]), "--design", model_range=True)

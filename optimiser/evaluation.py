@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .columns import COLUMN_DOCS  # noqa: F401  (re-exported: the schema's glossary)
-from .sizing import active_constraints, size_designs
+from .sizing import checked_constraints, size_designs
 
 CAUTION = ("Conceptual-design estimates only: not for certification, airworthiness or "
            "operational use. The applicable airworthiness authority's rules and licensed "
@@ -21,6 +21,66 @@ CAUTION = ("Conceptual-design estimates only: not for certification, airworthine
 CAUTION_SHORT = ("Conceptual-design estimate only: not for certification or operational use; "
                  "airworthiness rules and licensed engineering practice govern.")
 """The caution in one short line (the footer of every figure)."""
+
+
+SIZING_PEAK_BYTES_PER_DESIGN = {"piston": 1440, "turboprop": 1440, "turbofan": 1540}
+"""Peak memory of sizing a batch at once (:func:`size_frame`, one ``size_designs`` call and
+its frame) per design, by propulsion family [bytes]. Measured (ours) with ``tracemalloc``:
+the peak traced bytes of one call over batches of 2 000 and 20 000 random designs inside the
+bounds of each bundled study, divided by the designs (1 431 to 1 439 for the propeller
+studies, 1 537 to 1 541 for the turbofan study), rounded up."""
+
+MEMORY_SAFETY_FACTOR = 2.0
+"""Head-room over a measured peak: allocator overhead and buffers that ``tracemalloc`` does
+not see (common practice)."""
+
+
+def design_bytes_estimate(study) -> int:
+    """Memory that sizing one design of a batch needs at most, with the safety factor [bytes].
+
+    A batch of ``n`` designs sized at once needs about ``n * design_bytes_estimate(study)``;
+    a chunked evaluation picks its chunk so that this fits :func:`available_memory_bytes`."""
+    family = study.spec.propulsion.family
+    return int(SIZING_PEAK_BYTES_PER_DESIGN[family] * MEMORY_SAFETY_FACTOR)
+
+
+def available_memory_bytes() -> int | None:
+    """Memory the system can give this process without swapping [bytes]: ``MemAvailable`` of
+    ``/proc/meminfo`` on Linux, else the free physical pages (``os.sysconf``); None where
+    neither is known (then no memory check is made)."""
+    import os
+    try:
+        with open("/proc/meminfo", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024  # the file gives kB (KiB)
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        return int(os.sysconf("SC_AVPHYS_PAGES")) * int(os.sysconf("SC_PAGE_SIZE"))
+    except (AttributeError, ValueError, OSError):
+        return None
+
+
+def memory_text(n_bytes) -> str:
+    """``"1.5 GB"``: a size in bytes for a message, in decimal units (the memory and the
+    free-space checks)."""
+    n = float(n_bytes)
+    for unit in ("bytes", "kB", "MB", "GB"):
+        if n < 1000:
+            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
+        n /= 1000
+    return f"{n:.1f} TB"
+
+
+def memory_shortfall(need_bytes) -> str | None:
+    """``None`` when ``need_bytes`` fits the available memory (or it is unknown), else the
+    text ``"needs an estimated 12.0 GB; only 3.1 GB of memory is available"``."""
+    have = available_memory_bytes()
+    if have is None or need_bytes <= have:
+        return None
+    return (f"needs an estimated {memory_text(need_bytes)}; only {memory_text(have)} of "
+            "memory is available")
 
 
 def design_columns(study) -> tuple[str, ...]:
@@ -32,7 +92,7 @@ def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.Dat
     """Size arrays of designs (flap as index into ``study.spec.high_lift``) into a frame."""
     spec = study.spec
     out = size_designs(spec, wing_loading, loading, aspect_ratio, flap_index)
-    names = active_constraints(spec)
+    names = checked_constraints(spec, out)
     feasible = out.pop("feasible")
     limiting = np.asarray(names, dtype=object)[out.pop("limiting_index")]
     columns = {
@@ -53,8 +113,12 @@ def evaluate(study, designs) -> pd.DataFrame:
     """Size every design of ``designs`` (a DataFrame, or a dict of columns) for ``study``.
 
     ``designs`` needs the columns of :func:`design_columns`; ``flap`` holds catalogue names
-    (``"fowler"``, ``"single_slotted+slats"``). Raises ``ValueError`` naming a missing column
-    or an unknown flap name.
+    (``"fowler"``, ``"single_slotted+slats"``). Raises ``ValueError`` (a
+    :class:`~optimiser.errors.StudyError`) naming a missing column, an unknown flap name, or
+    the row, column and value of a number that is not finite and positive. A design outside
+    the model's valid ranges (:data:`~optimiser.sizing.inputs.MODEL_RANGES`) is sized at the
+    nearest limit and flagged: ``outside_model_range`` is its limiting constraint (the
+    command line refuses such designs instead).
     """
     from .designs import check_designs
     table = check_designs(study, pd.DataFrame(designs))

@@ -23,6 +23,7 @@ from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
 from .physics import aerodynamics, atmosphere, highlift, mission, performance
 from .quantities import _Reader, _dimension_name, _suggest, units  # noqa: F401  (units: public)
+from .sizing.inputs import MODEL_RANGES
 
 MAX_STUDY_BYTES = 1_000_000
 MAX_CRUISE_MACH = 0.82
@@ -33,11 +34,13 @@ MAX_ENGINES = {"piston": 2, "turboprop": 4, "turbofan": 4}
 """Engine counts each family may have (common practice: no piston airplanes above twins here)."""
 
 VARIABLE_UNITS = {
-    # key: (column, pint unit or None, lowest allowed, highest allowed)
-    "wing_loading": ("wing_loading_N_m2", "N/m^2", 100.0, 12000.0),
-    "power_loading": ("power_loading_N_kW", "N/kW", 10.0, 500.0),
-    "thrust_to_weight": ("thrust_to_weight", None, 0.05, 1.5),
-    "aspect_ratio": ("aspect_ratio", None, 3.0, 20.0),
+    # key: (column, pint unit or None, lowest allowed, highest allowed): the model's valid
+    # range (sizing.inputs.MODEL_RANGES), so that a search never leaves it
+    key: (column, unit, MODEL_RANGES[column].lower, MODEL_RANGES[column].upper)
+    for key, column, unit in (("wing_loading", "wing_loading_N_m2", "N/m^2"),
+                              ("power_loading", "power_loading_N_kW", "N/kW"),
+                              ("thrust_to_weight", "thrust_to_weight", None),
+                              ("aspect_ratio", "aspect_ratio", None))
 }
 SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
                "seed": (int, 0, 2**32 - 1)}

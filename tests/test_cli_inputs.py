@@ -89,11 +89,20 @@ def _evaluate(*args, cwd):
      "--design: 'wing_loading_N_m2' is given twice ('900' and '1000'); expected each name once"),
     (["--design", "wing_loading_N_m2=900 power_loading_N_kW=60 aspect_ratio=8 flap=plain",
       "--designs", "x.csv"], "--design and --designs: got both"),
+    # outside the model's valid range (optimiser.sizing.inputs.MODEL_RANGES: A 3 to 20), or
+    # not finite: refused, never sized at the clipped value
+    (["--design", "wing_loading_N_m2=900 power_loading_N_kW=60 aspect_ratio=40 flap=plain"],
+     "--design: column 'aspect_ratio': got '40'; expected a number from 3 to 20 (the model's "
+     "valid range; "),
+    (["--design", "wing_loading_N_m2=nan power_loading_N_kW=60 aspect_ratio=8 flap=plain"],
+     "--design: column 'wing_loading_N_m2': got 'nan'; expected a finite number from 100 to "
+     "12000 (the model's valid range; "),
 ])
 def test_evaluate_design_option_refusals(tmp_path, args, message):
-    done = _evaluate(*args, cwd=tmp_path)
+    done = _evaluate(*args, "--out", tmp_path / "out.csv", cwd=tmp_path)
     assert done.returncode == 2 and "Traceback" not in done.stderr
     assert done.stderr.count("\n") == 1 and message in done.stderr
+    assert list(tmp_path.iterdir()) == []  # nothing written
 
 
 def test_evaluate_refuses_a_repeated_column(tmp_path):

@@ -207,9 +207,22 @@ BAD_DESIGNS = [
     ("non-numeric-cell", f"{HEADER}\n1000,70,8,fowler\n1000,70,eight,plain\n",
      r"row 2, column 'aspect_ratio': got 'eight'; expected a number"),
     ("nan-cell", f"{HEADER}\n1000,nan,8,fowler\n",
-     r"row 1, column 'power_loading_N_kW': got 'nan'; expected a finite positive number"),
+     r"row 1, column 'power_loading_N_kW': got 'nan'; expected a finite number from 10 to 500 "
+     r"\(the model's valid range; "),
+    ("infinite-cell", f"{HEADER}\n1000,70,inf,fowler\n",
+     r"row 1, column 'aspect_ratio': got 'inf'; expected a finite number from 3 to 20 "),
     ("negative-cell", f"{HEADER}\n-1000,70,8,fowler\n",
-     r"row 1, column 'wing_loading_N_m2': got '-1000'; expected a finite positive number"),
+     r"row 1, column 'wing_loading_N_m2': got '-1000'; expected a number from 100 to 12000 "
+     r"\(the model's valid range; "),
+    # the model's ranges (optimiser.sizing.inputs.MODEL_RANGES): A 3-20, W/S 100-12000 N/m^2,
+    # W/P 10-500 N/kW; outside them the model would size the nearest limit instead
+    ("aspect-ratio-40", f"{HEADER}\n1000,70,8,fowler\n1000,70,40,fowler\n",
+     r"row 2, column 'aspect_ratio': got '40'; expected a number from 3 to 20 \(the model's "
+     r"valid range; common practice: the wing mass equation"),
+    ("wing-loading-too-high", f"{HEADER}\n12000.5,70,8,fowler\n",
+     r"row 1, column 'wing_loading_N_m2': got '12000.5'; expected a number from 100 to 12000 "),
+    ("power-loading-too-low", f"{HEADER}\n1000,9.99,8,fowler\n",
+     r"row 1, column 'power_loading_N_kW': got '9.99'; expected a number from 10 to 500 "),
     ("unknown-flap", f"{HEADER}\n1000,70,8,fowler\n1000,70,8,fowlr\n",
      r"row 2, column 'flap': unknown flap type 'fowlr' \(did you mean 'fowler'\?\); expected "
      r"one of: .*fowler.*, optionally followed by '\+slats'"),
@@ -241,7 +254,7 @@ def test_bad_designs_file_api(case, tmp_path, studies):
 
 
 CLI_DESIGNS = ("missing-column", "misspelt-column", "non-numeric-cell", "unknown-flap",
-               "empty-file", "ragged-row")
+               "empty-file", "ragged-row", "nan-cell", "aspect-ratio-40")
 
 
 @pytest.mark.parametrize("case", [c for c in BAD_DESIGNS if c[0] in CLI_DESIGNS],

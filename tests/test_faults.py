@@ -134,9 +134,11 @@ def _one(study, **design):
 
 
 @pytest.mark.parametrize("name, design", [
+    # at the weak end of the model's valid ranges (W/P 500 N/kW, T/W 0.05: MODEL_RANGES of
+    # optimiser/sizing/inputs.py); beyond them a design is flagged outside_model_range instead
     ("high_strip_utility", dict(wing_loading_N_m2=1000.0, power_loading_N_kW=500.0)),
-    ("twin_turboprop_commuter", dict(wing_loading_N_m2=2600.0, power_loading_N_kW=1500.0)),
-    ("light_twin_jet", dict(wing_loading_N_m2=3500.0, thrust_to_weight=0.02)),
+    ("twin_turboprop_commuter", dict(wing_loading_N_m2=2600.0, power_loading_N_kW=500.0)),
+    ("light_twin_jet", dict(wing_loading_N_m2=3500.0, thrust_to_weight=0.05)),
 ])
 def test_tiny_engine_cannot_accelerate_on_the_runway(name, design):
     # far too little power or thrust: at some speed below lift-off, thrust is below drag plus

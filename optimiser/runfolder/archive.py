@@ -57,10 +57,11 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
 
     import pyarrow as pa
     import pyarrow.csv as pa_csv
-    from ..sizing import active_constraints
+    from ..sizing import checked_constraints
     cols = archive_columns(study)
     flap_names = np.asarray(study.spec.high_lift_names, dtype=object)
-    limiting = np.asarray(active_constraints(study.spec), dtype=object)
+    # a batch from outside a search may hold a design outside the model's ranges
+    limiting = np.asarray(checked_constraints(study.spec, sized), dtype=object)
     n = len(ws)
     source = {
         "generation": np.broadcast_to(np.asarray(generation, dtype=np.int64), (n,)),

@@ -14,6 +14,7 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from ..errors import RunError
+from ..evaluation import memory_text as _size_text
 from . import lock, names
 from .files import make_folder, refuse_unless_regular, temporary_glob
 
@@ -32,14 +33,6 @@ def timestamped_dir(name: str, root="results") -> Path:
         candidate = Path(f"{base}-{k}")
         k += 1
     return candidate
-
-
-def _size_text(n) -> str:
-    n = float(n)
-    for unit in ("bytes", "kB", "MB", "GB", "TB"):
-        if n < 1000 or unit == "TB":
-            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
-        n /= 1000
 
 
 def _missing_parents(path: Path) -> list:

@@ -40,19 +40,22 @@ from .field import (Landing, Takeoff, TakeoffField, landing, landing_field_requi
 from .flight import (Climb, CruiseSpeed, TransportClimb, aeo_climb_gradient_required,
                      climb_and_ceiling, cruise_speed, oei_climb_gradient,
                      transport_climb_segments)
-from .inputs import OVERRIDE_KEYS, DesignBatch, design_batch
-from .margins import CONSTRAINT_LABELS, Margins, active_constraints, constraint_margins
+from .inputs import MODEL_RANGES, OVERRIDE_KEYS, DesignBatch, ModelRange, design_batch
+from .margins import (CONSTRAINT_LABELS, OUTSIDE_MODEL_RANGE, Margins, active_constraints,
+                      constraint_margins)
 
 __all__ = [
-    "CONSTRAINT_LABELS", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
-    "ClosureInputs", "CruiseConsumption", "CruiseSpeed", "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar",
-    "Margins", "MassClosure", "MassGroups", "MissionFuel", "SizedBatch", "Takeoff",
-    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required", "air_states", "airplane", "clean_drag",
-    "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
-    "cruise_consumption", "cruise_speed", "design_batch", "high_lift", "installed_propulsion",
-    "landing", "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
-    "oei_climb_gradient", "size_batch", "size_designs", "takeoff", "takeoff_field",
-    "transport_climb_segments",
+    "CONSTRAINT_LABELS", "MODEL_RANGES", "OUTSIDE_MODEL_RANGE", "OVERRIDE_KEYS", "AirStates",
+    "Airplane", "CleanDrag", "Climb", "ClosureInputs", "CruiseConsumption", "CruiseSpeed",
+    "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar", "Margins",
+    "MassClosure", "MassGroups", "MissionFuel", "ModelRange", "SizedBatch", "Takeoff",
+    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required",
+    "air_states", "airplane", "checked_constraints", "clean_drag", "climb_and_ceiling",
+    "close_takeoff_mass", "closure_inputs", "constraint_margins", "cruise_consumption",
+    "cruise_speed", "design_batch", "high_lift", "installed_propulsion", "landing",
+    "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups",
+    "mission_fuel", "oei_climb_gradient", "size_batch", "size_designs", "takeoff",
+    "takeoff_field", "transport_climb_segments",
 ]
 
 
@@ -113,9 +116,19 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
         landing_field_required_m=land_required, climb_rate_m_s=climb.climb_rate_m_s,
         climb_gradient=climb.climb_gradient, climb_gradient_required=gradient_required,
         oei_climb_gradient=oei, transport_climb=transport,
-        cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m)
+        cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m,
+        model_range_margin=batch.model_range_margin)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport)
+
+
+def checked_constraints(spec: AircraftSpec, sized: dict) -> tuple[str, ...]:
+    """The constraints of a sized batch (``limiting_index`` indexes them): the study's
+    :func:`active_constraints`, then ``outside_model_range`` where the batch has its margin."""
+    names = active_constraints(spec)
+    if f"margin_{OUTSIDE_MODEL_RANGE}" in sized:
+        names += (OUTSIDE_MODEL_RANGE,)
+    return names
 
 
 def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
@@ -145,8 +158,16 @@ def size_designs(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     dict of str -> ndarray
         Sized numbers (SI, names with unit suffixes), ``margin_<constraint>`` for each active
         constraint, ``feasible`` (bool) and ``limiting_index`` (index into
-        :func:`active_constraints` of the smallest margin); the columns of
+        :func:`checked_constraints` of the smallest margin); the columns of
         :func:`size_batch`'s stages (:func:`~optimiser.sizing.columns.output_columns`).
+
+    Notes
+    -----
+    Nothing is clipped silently: a design given outside the model's valid ranges
+    (:data:`~optimiser.sizing.inputs.MODEL_RANGES`) or as NaN is sized at the nearest limit,
+    so that no NaN arises, and marked infeasible: the batch gains the column
+    ``margin_outside_model_range`` (negative by how far outside, relative to the limit),
+    which is the limiting constraint of each such design.
     """
     return output_columns(spec, size_batch(spec, wing_loading_N_m2, loading, aspect_ratio,
                                            high_lift_index, overrides))

@@ -1,4 +1,5 @@
-"""The batch of designs to size: decision variables kept in the model's range, per-design
+"""The batch of designs to size: the model's valid range of each decision variable, the
+variables clipped to it for the arithmetic (and flagged where they lay outside), per-design
 overrides of a few spec values."""
 
 from __future__ import annotations
@@ -8,6 +9,64 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..spec import AircraftSpec
+
+
+@dataclass(frozen=True, slots=True)
+class ModelRange:
+    """The range of one decision variable inside which the model's methods hold."""
+
+    column: str  # input column of the results schema
+    lower: float  # [unit of the column]
+    upper: float  # [unit of the column]
+    reason: str  # one line: why the model holds only here
+
+
+MODEL_RANGES = {
+    "wing_loading_N_m2": ModelRange(
+        "wing_loading_N_m2", 100.0, 12000.0,
+        "common practice: about 2 to 250 lb/ft^2, from the lightest microlights to heavy "
+        "transports; the statistical mass equations and the field-length methods are fitted "
+        "to airplanes inside it"),
+    "power_loading_N_kW": ModelRange(
+        "power_loading_N_kW", 10.0, 500.0,
+        "common practice: about 1.7 to 84 lb/hp, from aerobatic airplanes to the "
+        "lowest-powered motor gliders; the engine mass and propeller thrust models are not "
+        "meant beyond it"),
+    "thrust_to_weight": ModelRange(
+        "thrust_to_weight", 0.05, 1.5,
+        "common practice: from too little thrust for any practical takeoff to more than the "
+        "weight; the ground-roll and climb equations assume a conventional takeoff, lift "
+        "carrying the weight"),
+    "aspect_ratio": ModelRange(
+        "aspect_ratio", 3.0, 20.0,
+        "common practice: the wing mass equation and the Oswald-factor method are fitted to "
+        "conventional wings (not delta wings, not high-performance sailplanes)"),
+}
+"""The model's valid range of each decision variable (column -> :class:`ModelRange`): the
+study refuses variable bounds outside it, ``evaluate`` refuses designs outside it, and
+:func:`design_batch` flags such designs (``outside_model_range``)."""
+
+
+def range_text(column: str) -> str:
+    """``"from 3 to 20 (the model's valid range; <reason>)"`` for a decision variable."""
+    r = MODEL_RANGES[column]
+    return f"from {r.lower:g} to {r.upper:g} (the model's valid range; {r.reason})"
+
+
+def range_margin(column: str, values) -> np.ndarray:
+    """How far inside the model's range each value lies, relative to the nearer limit [-]:
+    ``min(x / lower - 1, 1 - x / upper)``; negative outside, ``-inf`` for NaN."""
+    r = MODEL_RANGES[column]
+    x = np.asarray(values, dtype=float)
+    m = np.minimum(x / r.lower - 1.0, 1.0 - x / r.upper)
+    return np.where(np.isnan(m), -np.inf, m)
+
+
+def _clipped(column: str, values) -> np.ndarray:
+    r = MODEL_RANGES[column]
+    return np.clip(np.nan_to_num(values, nan=r.lower, posinf=r.upper, neginf=r.lower),
+                   r.lower, r.upper)
+
 
 OVERRIDE_KEYS = {
     "cd0_clean": "clean zero-lift drag coefficient [-] (replaces the study's value)",
@@ -24,7 +83,8 @@ OVERRIDE_KEYS = {
 
 @dataclass(frozen=True, slots=True)
 class DesignBatch:
-    """Decision variables of a batch, clipped to the model's valid ranges (one per design)."""
+    """Decision variables of a batch, clipped to the model's valid ranges (one per design),
+    and how far inside those ranges the given values lay."""
 
     wing_loading_N_m2: np.ndarray
     aspect_ratio: np.ndarray
@@ -32,23 +92,24 @@ class DesignBatch:
     power_to_weight_W_N: np.ndarray | None  # propeller studies, else None [W N^-1]
     high_lift_index: np.ndarray  # index into spec.high_lift, clipped to it
     overrides: dict  # checked per-design arrays, keys of OVERRIDE_KEYS
+    model_range_margin: np.ndarray  # smallest range_margin over the variables as given [-]
 
 
 def design_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
                  overrides=None) -> DesignBatch:
-    """The decision variables as float arrays inside the physics' valid ranges.
+    """The decision variables as float arrays inside the model's valid ranges.
 
     Parameters
     ----------
     spec : AircraftSpec
         Resolved study (SI).
     wing_loading_N_m2 : array_like
-        Takeoff wing loading W/S, kept within 50 to 2e4. [N m^-2]
+        Takeoff wing loading W/S. [N m^-2]
     loading : array_like
-        Power loading W/P (piston, turboprop), kept within 5 to 1e4 [N kW^-1], or
-        thrust-to-weight T/W (turbofan), kept within 1e-3 to 3 [-].
+        Power loading W/P (piston, turboprop) [N kW^-1], or thrust-to-weight T/W
+        (turbofan) [-].
     aspect_ratio : array_like
-        Wing aspect ratio, kept within 1 to 30. [-]
+        Wing aspect ratio. [-]
     high_lift_index : array_like of int
         Index into ``spec.high_lift``. [-]
     overrides : dict of str -> array_like, optional
@@ -57,27 +118,28 @@ def design_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, h
     Returns
     -------
     DesignBatch
-        Clipped inputs; NaN inputs become a valid number (no NaN can arise in the physics).
-        Out-of-range inputs are flagged by the study layer, never changed in the outputs.
+        The variables clipped to :data:`MODEL_RANGES` (NaN to a limit), so that no NaN can
+        arise in the physics, and ``model_range_margin``: negative for a design given
+        outside a range (or NaN), which the margins stage marks ``outside_model_range``.
 
     References
     ----------
-    Common practice (ranges chosen to keep every physics function inside its validity).
+    :data:`MODEL_RANGES` (each range with its reason).
     """
     ws = np.asarray(wing_loading_N_m2, dtype=float).ravel()
     ld_in = np.asarray(loading, dtype=float).ravel()
     ar = np.asarray(aspect_ratio, dtype=float).ravel()
     idx = np.asarray(high_lift_index, dtype=int).ravel()
-    ws_c = np.clip(np.nan_to_num(ws, nan=1.0), 50.0, 2e4)
-    ar_c = np.clip(np.nan_to_num(ar, nan=1.0), 1.0, 30.0)
-    if spec.propulsion.family == "turbofan":
-        tw = np.clip(np.nan_to_num(ld_in, nan=1e-3), 1e-3, 3.0)
-        pw = None
-    else:
-        pw = 1e3 / np.clip(np.nan_to_num(ld_in, nan=1e4), 5.0, 1e4)  # [W/N]
-        tw = None
-    return DesignBatch(ws_c, ar_c, tw, pw, np.clip(idx, 0, len(spec.high_lift) - 1),
-                       check_overrides(spec, overrides, ws.size))
+    loading_column = ("thrust_to_weight" if spec.propulsion.family == "turbofan"
+                      else "power_loading_N_kW")
+    margin = np.minimum(np.minimum(range_margin("wing_loading_N_m2", ws),
+                                   range_margin(loading_column, ld_in)),
+                        range_margin("aspect_ratio", ar))
+    ld_c = _clipped(loading_column, ld_in)
+    tw, pw = (ld_c, None) if loading_column == "thrust_to_weight" else (None, 1e3 / ld_c)
+    return DesignBatch(_clipped("wing_loading_N_m2", ws), _clipped("aspect_ratio", ar), tw, pw,
+                       np.clip(idx, 0, len(spec.high_lift) - 1),
+                       check_overrides(spec, overrides, ws.size), margin)
 
 
 def check_overrides(spec, overrides, n):

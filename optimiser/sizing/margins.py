@@ -18,8 +18,17 @@ TRANSPORT_CLIMB_CHECKS = {"first_segment_climb": "first_segment",
 segment in :data:`optimiser.physics.performance.PART25_CLIMB_SEGMENTS`."""
 
 
+OUTSIDE_MODEL_RANGE = "outside_model_range"
+"""The constraint a batch gains when it holds a design given outside the model's valid
+ranges (:data:`~optimiser.sizing.inputs.MODEL_RANGES`): checked last, it is the limiting
+constraint of every such design. Not in :func:`active_constraints`: the study refuses
+variable bounds outside the ranges, so a search never meets it and its files keep their
+columns."""
+
+
 def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
-    """Names of the constraints that apply to this study, in a fixed order."""
+    """Names of the constraints that apply to this study, in a fixed order (a batch holding
+    a design outside the model's ranges adds :data:`OUTSIDE_MODEL_RANGE` after them)."""
     names = ["mass_closure"]
     if np.isfinite(spec.requirements.max_takeoff_mass_kg):
         names.append("takeoff_mass_limit")
@@ -50,7 +59,7 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        min_runway_acceleration_m_s2, stall_speed_m_s, takeoff_field_required_m,
                        landing_field_required_m, climb_rate_m_s, climb_gradient,
                        climb_gradient_required, oei_climb_gradient, transport_climb,
-                       cruise_speed_m_s, service_ceiling_m) -> Margins:
+                       cruise_speed_m_s, service_ceiling_m, model_range_margin=None) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -78,6 +87,11 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         Highest level speed. [m s^-1]
     service_ceiling_m : ndarray
         [m]
+    model_range_margin : ndarray, optional
+        How far inside the model's valid ranges each design was given
+        (:class:`~optimiser.sizing.inputs.DesignBatch`) [-]. Where any is negative, the
+        constraint ``outside_model_range`` is added last, with this margin, and is the
+        limiting constraint of each design outside (before ``mass_closure``).
 
     Returns
     -------
@@ -104,6 +118,11 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         "service_ceiling": service_ceiling_m / rq.service_ceiling_m - 1.0,
     }
     names = active_constraints(spec)
+    outside = None
+    if model_range_margin is not None and not np.all(np.asarray(model_range_margin) >= 0.0):
+        margins[OUTSIDE_MODEL_RANGE] = np.broadcast_to(model_range_margin, np.shape(closure_margin))
+        names += (OUTSIDE_MODEL_RANGE,)
+        outside = ~(np.asarray(margins[OUTSIDE_MODEL_RANGE]) >= 0.0)
     for name, segment in TRANSPORT_CLIMB_CHECKS.items():
         if name in names:
             margins[name] = transport_climb_margin(
@@ -115,6 +134,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     # a design whose mass does not close is reported as such: its other margins were computed
     # at the capped mass and mean little (mass_closure is always the first constraint)
     limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(matrix, axis=1))
+    if outside is not None:  # sized at the clipped values: that is what limits it
+        limiting = np.where(outside, len(names) - 1, limiting)
     return Margins(names, matrix, feasible, limiting)
 
 
