@@ -95,8 +95,10 @@ def produce(root: Path) -> dict[str, str]:
                  "--out", root / f"{name}-robust", cwd=root)
     campaign = root / "campaign.toml"
     text = (REPO / "problems" / "strip_requirements.campaign.toml").read_text()
-    text = text.replace('base_study = "high_strip_utility.toml"',
-                        f'base_study = "{(REPO / "problems" / "high_strip_utility.toml").as_posix()}"')
+    # the base study beside the campaign, named relatively: the sweep's study texts (and
+    # their hashes in run.json) do not depend on where the checkout is
+    (root / "high_strip_utility.toml").write_bytes(
+        (REPO / "problems" / "high_strip_utility.toml").read_bytes())
     text = text.replace("population = 60", "population = 24").replace("generations = 30", "generations = 5")
     text = text.replace('values = ["500 m", "600 m", "700 m", "800 m", "900 m"]', 'values = ["600 m", "800 m"]')
     text = text.replace('values = ["60 m/s", "65 m/s", "70 m/s"]', 'values = ["60 m/s", "70 m/s"]')
@@ -104,7 +106,8 @@ def produce(root: Path) -> dict[str, str]:
     _cli("sweep", campaign, "--out", root / "sweep", "--serial", cwd=root)
     hashes = {}
     for path in sorted(root.rglob("*")):
-        if path.is_file() and path != campaign and path.name not in CHECKPOINTS:
+        if path.is_file() and path not in (campaign, root / "high_strip_utility.toml") \
+                and path.name not in CHECKPOINTS:
             rel = path.relative_to(root).as_posix()
             rel = re.sub(r"\d{8}T\d{6}Z?", "<time>", rel)
             hashes[rel] = hashlib.sha256(_normalised(path, root)).hexdigest()
