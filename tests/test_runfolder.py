@@ -47,3 +47,12 @@ def test_read_archive_of_an_empty_archive_has_the_columns(tmp_path):
     (tmp_path / names.ARCHIVE).write_text("trip_fuel_kg,feasible\n", encoding="utf-8")
     table = read_archive(tmp_path, ["trip_fuel_kg"], feasible_only=True)
     assert table.to_numpy(float).shape == (0, 1)
+
+
+def test_the_clock_reads_source_date_epoch_when_set(monkeypatch):
+    # reproducible-builds.org SOURCE_DATE_EPOCH: 1798761600 s after 1970 is 2027-01-01 00:00 UTC
+    from optimiser.runfolder import files
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1798761600")
+    assert files.utc_now() == "2027-01-01T00:00:00Z"
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "not a number")
+    assert files.utc_now() != "2027-01-01T00:00:00Z"

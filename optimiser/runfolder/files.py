@@ -100,8 +100,18 @@ def _open_regular(path, flags: int) -> int:
     return fd
 
 
+SOURCE_DATE_EPOCH = "SOURCE_DATE_EPOCH"
+"""Environment variable of the reproducible-builds convention (reproducible-builds.org,
+"SOURCE_DATE_EPOCH" specification): when it holds a whole number of seconds since 1970, the
+times a run records and prints (run.json, the figures' footers) read that instant, so two
+runs give identical files (benchmarks/identical_outputs.py sets it)."""
+
+
 def utc_now() -> str:
-    """The UTC time now, ``YYYY-MM-DDTHH:MM:SSZ``."""
+    """The UTC time now, ``YYYY-MM-DDTHH:MM:SSZ`` (or :data:`SOURCE_DATE_EPOCH`'s)."""
+    fixed = os.environ.get(SOURCE_DATE_EPOCH, "").strip()
+    if fixed.isdigit():
+        return datetime.fromtimestamp(int(fixed), timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
     return datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
