@@ -209,3 +209,28 @@ def test_small_campaign_on_a_local_cluster_then_resume(tmp_path):
     with pytest.raises(CampaignError, match="made by a different campaign file"):
         run_campaign(load_campaign(other), out, serial=True)
     assert (out / "campaign.toml").read_text() == campaign.text
+
+
+def test_carpet_plot_draws_every_combination_infeasible_ones_hatched(tmp_path):
+    from optimiser.report.campaign_plots import carpet_plot
+    from optimiser.report.figures import pyplot
+    text = SMALL.replace("[\"600 m\", \"900 m\"]", "[\"500 m\", \"700 m\", \"900 m\"]")
+    c = load_campaign(_small(tmp_path, text))
+    trip = [300.0, 310.0, 250.0, 262.0, 220.0, 230.0]
+    power = [400.0, 420.0, 330.0, 340.0, 300.0, 300.0]
+    summary = pd.DataFrame({"combination": [k.name for k in c.combinations],
+                            "picked_trip_fuel_kg": trip, "picked_engine_power_kW": power,
+                            "note": "", "status": "finished"})
+    summary.loc[0, ["picked_trip_fuel_kg", "picked_engine_power_kW"]] = np.nan
+    summary.loc[0, "note"] = "no feasible design ...; still misses takeoff_field (margin -3%)"
+    fig = carpet_plot(c, summary)
+    carpet, grid = fig.axes[0], fig.axes[1]
+    drawn = {(round(x), round(y)) for line in carpet.get_lines()
+             for x, y in zip(line.get_xdata(), line.get_ydata())}
+    assert drawn == {(p, t) for p, t in zip(power[1:], trip[1:])}   # the five with a design
+    hatched = [p for p in grid.patches if p.get_hatch()]
+    assert len(hatched) == 1 and hatched[0].get_xy() == (-0.5, -0.5)
+    cells = [t.get_text() for t in grid.texts]
+    assert len(cells) == 6 and "no feasible\ndesign\n(takeoff field)" in cells
+    assert "310 kg\n420 kW" in cells
+    pyplot().close(fig)
