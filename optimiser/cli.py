@@ -41,13 +41,13 @@ def _write_csv_stream(frames, path: Path) -> tuple:
     """Write the frames as one CSV file: to a temporary file beside ``path``, renamed onto
     it only when every chunk is written (a bad row anywhere, an error or Ctrl-C leaves
     nothing, and an existing file untouched). Returns what :func:`_summary` needs."""
-    from .evaluation import evaluated_csv_text
+    from .evaluation import evaluated_csv_pieces
     tmp = path.parent / f".{path.name}.tmp-{os.getpid()}"
     try:
         with open(tmp, "w", encoding="utf-8", newline="") as fh:
             seen = _SummaryCounts()
             for frame in frames:
-                fh.write(evaluated_csv_text(frame, header=seen.n_designs == 0))
+                fh.writelines(evaluated_csv_pieces(frame, header=seen.n_designs == 0))
                 seen.add(frame)
         os.replace(tmp, path)
     except OSError as exc:
@@ -107,7 +107,7 @@ def cmd_evaluate(args):
     standard output (the summary then goes to standard error) after a first pass has
     checked every row, so a bad row still leaves nothing written."""
     from .designs import iter_designs_csv, parse_design_option
-    from .evaluation import CAUTION, EVALUATE_CHUNK_ROWS, evaluate_chunks, evaluated_csv_text
+    from .evaluation import CAUTION, EVALUATE_CHUNK_ROWS, evaluate_chunks, evaluated_csv_pieces
     study = _study(args.study)
     out = _output_path(args.out, args.force)
     if args.design is not None and args.designs is not None:
@@ -134,7 +134,7 @@ def cmd_evaluate(args):
             pass
         seen = _SummaryCounts()
         for frame in evaluate_chunks(study, tables()):
-            sys.stdout.write(evaluated_csv_text(frame, header=seen.n_designs == 0))
+            sys.stdout.writelines(evaluated_csv_pieces(frame, header=seen.n_designs == 0))
             seen.add(frame)
         sys.stdout.flush()
         print(_summary(study, seen), file=sys.stderr)

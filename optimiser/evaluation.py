@@ -23,6 +23,10 @@ EVALUATE_CHUNK_ROWS = 50_000
 """Designs sized and written at a time by ``optimiser evaluate``: memory is bounded by one
 chunk's frame (about 90 columns) and its CSV text, whatever the table's length."""
 
+CSV_WRITE_ROWS = 2_000
+"""Rows formatted as text at a time when a chunk is written (each cell is a Python string
+until it is joined: a small slice keeps that within some megabytes)."""
+
 CSV_FLOAT_FORMAT = "%.10g"
 """The number format of ``optimiser evaluate``'s CSV output (ten significant digits)."""
 
@@ -116,6 +120,14 @@ def _csv_cells(column: pd.Series) -> list[str] | None:
     if any(("," in c) or ('"' in c) or ("\n" in c) or ("\r" in c) for c in cells):
         return None
     return cells
+
+
+def evaluated_csv_pieces(frame: pd.DataFrame, header: bool = True):
+    """:func:`evaluated_csv_text` of ``frame`` in slices of :data:`CSV_WRITE_ROWS` rows,
+    one string each (their concatenation is the whole text)."""
+    for start in range(0, max(len(frame), 1), CSV_WRITE_ROWS):
+        yield evaluated_csv_text(frame.iloc[start:start + CSV_WRITE_ROWS],
+                                 header=header and start == 0)
 
 
 def evaluated_csv_text(frame: pd.DataFrame, header: bool = True) -> str:
