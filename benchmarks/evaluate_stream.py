@@ -12,6 +12,7 @@ Each measurement is a fresh Python process; its peak resident memory is the kern
 from __future__ import annotations
 
 import argparse
+import filecmp
 import os
 import subprocess
 import sys
@@ -78,7 +79,7 @@ def main(argv=None) -> int:
             if rows <= args.old_up_to:
                 old_s, old_mb = measure([sys.executable, "-c", OLD_PATH, str(STUDY), str(src),
                                          str(old_out)])
-                same = "yes" if new_out.read_bytes() == old_out.read_bytes() else "NO"
+                same = "yes" if filecmp.cmp(new_out, old_out, shallow=False) else "NO"
                 print(f"{rows:>9} {new_s:>8.1f} {new_mb:>8.0f} {old_s:>8.1f} {old_mb:>8.0f} "
                       f"{old_s / new_s:>12.2f} {old_mb / new_mb:>14.2f} {same:>10}", flush=True)
                 old_out.unlink()
