@@ -53,25 +53,54 @@ import numpy as np
 
 from .campaign_file import Axis, Campaign, pick_compromise, pick_text
 from .columns import unit_of
-from .errors import CampaignError, OptimiserError
+from .errors import CampaignError, CampaignInterrupted, OptimiserError
 from .runfolder import names
 from .runfolder.files import write_atomic
 
 
 # ----------------------------------------------------------------------------- running
 
-def run_combination(study_text: str, study_path: str, run_dir: str) -> dict:
-    """One campaign task: run (or finish) the study in ``run_dir``. Never raises.
+STOP_REQUEST = ".stop-requested"
+"""File in the campaign folder that asks every run of the campaign to stop: written on
+Ctrl-C or SIGTERM, seen by each run after its generation in hand (also on Dask workers, which
+must see the campaign folder anyway), removed when the campaign starts or stops."""
 
-    Returns ``{"run_dir", "status": "finished" | "failed", "message", "seconds",
-    "how": "new" | "resumed" | "restarted"}``; a failure also writes ``error.txt``.
+
+def _stop_check(stop_file):
+    """A run-loop ``progress`` callable that interrupts the run (checkpoint, then
+    :class:`~optimiser.errors.RunInterrupted`) once ``stop_file`` exists."""
+    if stop_file is None:
+        return False
+    path = Path(stop_file)
+
+    def check(row, state):
+        if path.exists():
+            raise KeyboardInterrupt
+    return check
+
+
+def run_combination(study_text: str, study_path: str, run_dir: str,
+                    stop_file: str | None = None) -> dict:
+    """One campaign task: run (or finish) the study in ``run_dir``. Never raises, except
+    KeyboardInterrupt (a second Ctrl-C in this process).
+
+    Returns ``{"run_dir", "status": "finished" | "failed" | "interrupted" | "cancelled",
+    "message", "seconds", "how": "new" | "resumed" | "restarted"}``; a failure also writes
+    ``error.txt``. ``stop_file`` (see :data:`STOP_REQUEST`): once it exists the run saves a
+    checkpoint after its generation in hand and returns "interrupted"; a task that finds it
+    before starting returns "cancelled" and touches nothing.
     """
+    from .errors import RunInterrupted
     from .runfolder.checkpoint import has_checkpoint
     from .runs import RunError, load_checkpoint, optimise, resume
     from .study import parse_study
     t0 = time.monotonic()
     folder = Path(run_dir)
     how = "new"
+    if stop_file is not None and Path(stop_file).exists():
+        return {"run_dir": str(folder), "status": "cancelled", "message": "not started",
+                "seconds": 0.0, "how": how}
+    check = _stop_check(stop_file)
     try:
         study = parse_study(study_text, study_path)
         result = None
@@ -80,16 +109,21 @@ def run_combination(study_text: str, study_path: str, run_dir: str) -> dict:
                 state = load_checkpoint(folder)
                 if state.study_text == study_text and state.termination is None:
                     how = "resumed"
-                    result = resume(folder, progress=False, plots=False)
+                    result = resume(folder, progress=check, plots=False)
             except RunError:
                 result = None
             if result is None:
                 how = "restarted"
         if result is None:
-            result = optimise(study, out=folder, force=True, progress=False, plots=False)
+            result = optimise(study, out=folder, force=True, progress=check, plots=False)
         (folder / "error.txt").unlink(missing_ok=True)
         return {"run_dir": str(folder), "status": "finished", "message": result.message,
                 "seconds": time.monotonic() - t0, "how": how}
+    except RunInterrupted:   # its checkpoint is saved: the campaign's next sweep resumes it
+        (folder / "error.txt").unlink(missing_ok=True)
+        return {"run_dir": str(folder), "status": "interrupted",
+                "message": "interrupted; checkpoint saved", "seconds": time.monotonic() - t0,
+                "how": how}
     except BaseException as exc:  # one failed run never stops the campaign
         if isinstance(exc, KeyboardInterrupt):
             raise
@@ -178,7 +212,76 @@ def _dask_client(scheduler=None, workers=None, threads=False):
     n = workers or os.cpu_count() or 1
     cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=not threads,
                            dashboard_address=None)
-    return Client(cluster), cluster
+    client = Client(cluster)
+    if not threads:
+        client.register_plugin(_ignore_interrupts_plugin(), name="optimiser-ignore-sigint")
+    return client, cluster
+
+
+def _ignore_interrupts_plugin():
+    """A Dask worker plugin for a local cluster: each worker process ignores SIGINT. A Ctrl-C
+    in a terminal reaches the whole process group; this process alone stops the campaign
+    (each run checkpoints through :data:`STOP_REQUEST`) and then closes the cluster."""
+    from distributed import WorkerPlugin
+
+    class IgnoreInterrupts(WorkerPlugin):
+        def setup(self, worker):
+            import signal
+            import threading
+            if threading.current_thread() is threading.main_thread():
+                signal.signal(signal.SIGINT, signal.SIG_IGN)
+    return IgnoreInterrupts()
+
+
+class _StopRequest:
+    """Ctrl-C and SIGTERM during a campaign (main thread only): the first writes the stop
+    request file (every run checkpoints and returns); a second raises KeyboardInterrupt."""
+
+    def __init__(self, folder: Path):
+        self.file = Path(folder) / STOP_REQUEST
+        self.requested = False
+        self.previous = {}
+
+    def __enter__(self):
+        import signal
+        import threading
+        self.file.unlink(missing_ok=True)
+        if threading.current_thread() is threading.main_thread():
+            for sig in (signal.SIGINT, signal.SIGTERM):
+                self.previous[sig] = signal.signal(sig, self._handler)
+        return self
+
+    def _handler(self, signum, frame):
+        if self.requested:
+            raise KeyboardInterrupt
+        self.request()
+
+    def request(self):
+        self.requested = True
+        try:
+            self.file.touch()
+        except OSError:
+            pass
+
+    def __exit__(self, *exc):
+        import signal
+        for sig, h in self.previous.items():
+            signal.signal(sig, h)
+        self.file.unlink(missing_ok=True)
+        return False
+
+
+def _cancel_queued(client, futures):
+    """Cancel the campaign's tasks that no worker has started (running ones checkpoint)."""
+    def states(dask_scheduler=None):
+        return {str(k): ts.state for k, ts in dask_scheduler.tasks.items()}
+    try:
+        now = client.run_on_scheduler(states)
+    except Exception:   # the scheduler is gone: nothing left to cancel
+        return
+    queued = [f for f in futures if not f.done() and now.get(str(f.key)) != "processing"]
+    if queued:
+        client.cancel(queued)
 
 
 @dataclass(frozen=True)
@@ -192,7 +295,7 @@ class CampaignResult:
 
     @property
     def failed(self) -> list:
-        return [r for r in self.ran if r["status"] != "finished"]
+        return [r for r in self.ran if r["status"] == "failed"]
 
 
 def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, serial=False,
@@ -225,32 +328,73 @@ def run_campaign(campaign: Campaign, out=None, *, scheduler=None, workers=None, 
             + (", resumed" if r["how"] == "resumed" else "")
             + (f"; {r['message']}" if r["status"] != "finished" else "") + ")")
 
-    if pending and serial:
-        for c, a in zip(pending, args):
-            report(c, run_combination(*a))
-    elif pending:
-        client, cluster = _dask_client(scheduler, workers, threads)
+    with _StopRequest(folder) as stop:
         try:
-            from dask.distributed import as_completed
-            futures = {client.submit(run_combination, *a, pure=False,
-                                     key=f"campaign-run-{c.name}-{time.time_ns()}"): c
-                       for c, a in zip(pending, args)}
-            for fut in as_completed(futures):
-                c = futures[fut]
-                try:
-                    r = fut.result()
-                except Exception as exc:  # a lost worker, for example
-                    r = {"run_dir": str(folder / "runs" / c.name), "status": "failed",
-                         "message": f"{type(exc).__name__}: {exc}".splitlines()[0],
-                         "seconds": float("nan"), "how": "new"}
-                report(c, r)
-        finally:
-            client.close()
-            if cluster is not None:
-                cluster.close()
+            if pending and serial:
+                _run_serial(pending, args, stop, report)
+            elif pending:
+                _run_dask(pending, args, stop, report, folder, scheduler, workers, threads)
+        except KeyboardInterrupt:   # a second Ctrl-C: the last checkpoints stand
+            stop.request()
+        interrupted = stop.requested or any(r["status"] == "interrupted" for r in ran)
+    if interrupted:
+        gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0)
+        done = {Path(r["run_dir"]).name for r in ran}
+        raise CampaignInterrupted(folder, [r["run_dir"] for r in ran
+                                           if r["status"] == "interrupted"],
+                                  sum(c.name not in done for c in pending))
     summary = gather(campaign, folder, ran=ran, seconds=time.monotonic() - t0)
     return CampaignResult(folder=folder, summary=summary[0], price=summary[1], ran=ran,
                           skipped=skipped, seconds=time.monotonic() - t0)
+
+
+def _run_serial(pending, args, stop, report):
+    """One run after another in this process until all are done or a stop is asked."""
+    for c, a in zip(pending, args):
+        if stop.requested:
+            return
+        r = run_combination(*a, str(stop.file))
+        if r["status"] == "cancelled":
+            return
+        report(c, r)
+        if r["status"] == "interrupted":   # the run's own handler took the signal
+            stop.request()
+            return
+
+
+def _run_dask(pending, args, stop, report, folder, scheduler, workers, threads):
+    """One Dask task per run; on a stop request the queued tasks are cancelled and the
+    running ones checkpoint and return before the cluster is closed."""
+    from concurrent.futures import CancelledError
+    client, cluster = _dask_client(scheduler, workers, threads)
+    try:
+        from dask.distributed import as_completed
+        futures = {client.submit(run_combination, *a, str(stop.file), pure=False,
+                                 key=f"campaign-run-{c.name}-{time.time_ns()}"): c
+                   for c, a in zip(pending, args)}
+        cancelled = False
+        for fut in as_completed(futures):
+            if stop.requested and not cancelled:
+                _cancel_queued(client, futures)
+                cancelled = True
+            c = futures[fut]
+            try:
+                r = fut.result()
+            except CancelledError:
+                continue
+            except Exception as exc:  # a lost worker, for example
+                r = {"run_dir": str(folder / "runs" / c.name), "status": "failed",
+                     "message": f"{type(exc).__name__}: {exc}".splitlines()[0],
+                     "seconds": float("nan"), "how": "new"}
+            if r["status"] == "cancelled":
+                continue
+            report(c, r)
+            if r["status"] == "interrupted" and not stop.requested:
+                stop.request()
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
 
 
 # ----------------------------------------------------------------------------- results
@@ -285,8 +429,11 @@ def summary_rows(campaign: Campaign, folder: Path):
             except (OptimiserError, OSError, ValueError) as exc:
                 run, problem = None, str(exc).splitlines()[0] if str(exc) else repr(exc)
         if run is None:
+            from .runfolder.checkpoint import has_checkpoint
             err = run_dir / "error.txt"
-            row["status"] = "failed" if err.is_file() or problem else "not run"
+            # a run stopped by Ctrl-C/SIGTERM keeps its checkpoint: the next sweep resumes it
+            row["status"] = "failed" if err.is_file() or problem else \
+                "interrupted" if has_checkpoint(run_dir) else "not run"
             row["note"] = problem or (err.read_text("utf-8").strip() if err.is_file() else "")
             rows.append(row)
             continue
@@ -424,8 +571,11 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None):
         "combinations": len(campaign.combinations),
         "finished": int((summary["status"] == "finished").sum()),
         "this_session": {"runs": len(ran), "seconds": seconds,
-                         "failed": [r["run_dir"] for r in ran if r["status"] != "finished"]},
+                         "failed": [r["run_dir"] for r in ran if r["status"] == "failed"]},
         "caution": CAUTION,
     }
+    stopped = [r["run_dir"] for r in ran if r["status"] == "interrupted"]
+    if stopped:   # (the key only when a run was stopped: an uninterrupted file is unchanged)
+        info["this_session"]["interrupted"] = stopped
     write_atomic(folder / "campaign.json", json_bytes(info, default=str))
     return summary, price

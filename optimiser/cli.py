@@ -23,38 +23,80 @@ def _study(path):
     return load_study(path if path else bundled_study_path())
 
 
-def _write_csv_atomic(frame, path: Path, force: bool):
+def _output_path(text, force: bool) -> Path | None:
+    """--out as a path (None for standard output, '-'); refused before any work when it
+    exists (without --force) or its folder does not."""
+    if text is None or text == "-":
+        return None
+    path = Path(text)
     if path.exists() and not force:
         raise UsageError(f"{path}: exists; expected a new file (use --force to replace it)")
     parent = path.parent if str(path.parent) else Path(".")
     if not parent.is_dir():
         raise UsageError(f"{path}: folder {parent} does not exist")
-    tmp = parent / f".{path.name}.tmp-{os.getpid()}"
+    return path
+
+
+def _write_csv_stream(frames, path: Path) -> tuple:
+    """Write the frames as one CSV file: to a temporary file beside ``path``, renamed onto
+    it only when every chunk is written (a bad row anywhere, an error or Ctrl-C leaves
+    nothing, and an existing file untouched). Returns what :func:`_summary` needs."""
+    from .evaluation import evaluated_csv_pieces
+    tmp = path.parent / f".{path.name}.tmp-{os.getpid()}"
     try:
-        frame.to_csv(tmp, index=False, float_format="%.10g")
+        with open(tmp, "w", encoding="utf-8", newline="") as fh:
+            seen = _SummaryCounts()
+            for frame in frames:
+                fh.writelines(evaluated_csv_pieces(frame, header=seen.n_designs == 0))
+                seen.add(frame)
         os.replace(tmp, path)
     except OSError as exc:
         tmp.unlink(missing_ok=True)
         raise UsageError(f"{path}: cannot write ({exc.strerror})") from None
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+    return seen
 
 
-def _summary(study, frame) -> str:
+class _SummaryCounts:
+    """What the printed summary needs of a stream of evaluated chunks: the first rows and
+    the counts (nothing else of the table is kept)."""
+
+    def __init__(self):
+        self.head, self.n_designs, self.n_feasible = None, 0, 0
+
+    def add(self, frame):
+        import pandas as pd
+        if self.head is None or len(self.head) < SUMMARY_ROWS:
+            part = frame.head(SUMMARY_ROWS).copy()
+            self.head = part if self.head is None else \
+                pd.concat([self.head, part]).head(SUMMARY_ROWS)
+        self.n_designs += len(frame)
+        self.n_feasible += int(frame["feasible"].sum())
+
+
+SUMMARY_ROWS = 40
+"""Designs listed in the printed summary of ``optimiser evaluate``."""
+
+
+def _summary(study, seen: _SummaryCounts) -> str:
     """The terminal table of ``evaluate``: columns named as in the output file."""
     size_col = study.engine_size_column
     cols = [("wing_loading_N_m2", ".0f"), (study.loading_column, ".4g"), ("aspect_ratio", ".2f"),
             ("takeoff_mass_kg", ".0f"), ("trip_fuel_kg", ".1f"), (size_col, ".1f"),
             ("maintenance_index", ".2f")]
-    lines = [f"study {study.name}: {len(frame)} design(s), {int(frame['feasible'].sum())} feasible",
+    lines = [f"study {study.name}: {seen.n_designs} design(s), {seen.n_feasible} feasible",
              f"{'flap':<22}" + "".join(f"{c:>{len(c) + 2}}" for c, _ in cols) + "  verdict"]
-    for _, r in frame.head(40).iterrows():
+    for _, r in seen.head.iterrows():
         verdict = "feasible (closest: " + r["limiting_constraint"] + ")" if r["feasible"] else \
             "fails " + r["most_violated"] + f" ({r['margin_' + r['most_violated']]:+.1%})"
         if not r["within_bounds"]:
             verdict += " [outside bounds: " + r["outside_bounds"] + "]"
         lines.append(f"{r['flap']:<22}" + "".join(f"{r[c]:>{len(c) + 2}{fmt}}" for c, fmt in cols)
                      + f"  {verdict}")
-    if len(frame) > 40:
-        lines.append(f"... {len(frame) - 40} more rows in the output file")
+    if seen.n_designs > SUMMARY_ROWS:
+        lines.append(f"... {seen.n_designs - SUMMARY_ROWS} more rows in the output file")
     return "\n".join(lines)
 
 
@@ -71,17 +113,22 @@ def _check_evaluate_memory(study, rows_at_once: int, args):
 
 
 def cmd_evaluate(args):
-    from .designs import parse_design_option, read_designs_csv
-    from .evaluation import CAUTION, evaluate
+    """Size the designs a chunk at a time (:data:`~optimiser.evaluation.EVALUATE_CHUNK_ROWS`):
+    memory stays bounded for a table of millions of rows. ``--out -`` writes the CSV to
+    standard output (the summary then goes to standard error) after a first pass has
+    checked every row, so a bad row still leaves nothing written."""
+    from .designs import iter_designs_csv, parse_design_option
+    from .evaluation import CAUTION, EVALUATE_CHUNK_ROWS, evaluate_chunks, evaluated_csv_pieces
     study = _study(args.study)
-    out = Path(args.out) if args.out else None
-    if out is not None and out.exists() and not args.force:
-        raise UsageError(f"{out}: exists; expected a new file (use --force to replace it)")
+    out = _output_path(args.out, args.force)
     if args.design is not None and args.designs is not None:
         raise UsageError(f"--design and --designs: got both ({args.design!r} and "
                         f"{args.designs!r}); expected one of them")
     if args.design is not None:
-        table = parse_design_option(study, args.design)
+        design = parse_design_option(study, args.design)
+
+        def tables():
+            return iter([design])
     else:
         designs = args.designs
         if designs is None:
@@ -90,12 +137,30 @@ def cmd_evaluate(args):
                 raise UsageError(f"no designs given; expected --designs FILE.csv or --design "
                                  f"'...' (no sample file {candidate} beside the study)")
             designs = candidate
-        table = read_designs_csv(study, designs)
-    _check_evaluate_memory(study, len(table), args)
-    frame = evaluate(study, table)
-    print(_summary(study, frame))
-    if out is not None:
-        _write_csv_atomic(frame, out, args.force)
+
+        def tables():
+            return iter_designs_csv(study, designs, EVALUATE_CHUNK_ROWS)
+    # every chunk is sized in one call: the memory must hold a whole chunk
+    _check_evaluate_memory(study, 1 if args.design is not None else EVALUATE_CHUNK_ROWS, args)
+    if args.out == "-":
+        for _ in tables():   # every row checked before the first byte is written
+            pass
+        seen = _SummaryCounts()
+        for frame in evaluate_chunks(study, tables()):
+            sys.stdout.writelines(evaluated_csv_pieces(frame, header=seen.n_designs == 0))
+            seen.add(frame)
+        sys.stdout.flush()
+        print(_summary(study, seen), file=sys.stderr)
+        print(CAUTION, file=sys.stderr)
+        return 0
+    if out is None:
+        seen = _SummaryCounts()
+        for frame in evaluate_chunks(study, tables()):
+            seen.add(frame)
+        print(_summary(study, seen))
+    else:
+        seen = _write_csv_stream(evaluate_chunks(study, tables()), out)
+        print(_summary(study, seen))
         print(f"wrote {out}")
     print(CAUTION)
     return 0
@@ -259,7 +324,8 @@ def build_parser() -> argparse.ArgumentParser:
                    "thrust_to_weight, aspect_ratio, flap")
     e.add_argument("--design", help="one design as name=value pairs, e.g. "
                    "'wing_loading_N_m2=1100 power_loading_N_kW=75 aspect_ratio=8 flap=fowler'")
-    e.add_argument("--out", help="CSV file to write (never replaced without --force)")
+    e.add_argument("--out", help="CSV file to write (never replaced without --force); '-' "
+                   "writes it to standard output (and the summary to standard error)")
     e.add_argument("--force", action="store_true", help="replace an existing output file")
     e.set_defaults(func=cmd_evaluate)
     c = sub.add_parser("check", help="validate a study file and summarise it")

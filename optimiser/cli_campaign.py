@@ -10,7 +10,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from .errors import UsageError
+from .errors import CampaignInterrupted, UsageError
 
 
 def add_sweep_parser(sub):
@@ -65,7 +65,12 @@ def cmd_sweep(args):
         result = run_campaign(campaign, args.out, scheduler=args.scheduler,
                               workers=args.workers, serial=args.serial,
                               progress=lambda s: print(s, flush=True))
-    except KeyboardInterrupt:
+    except CampaignInterrupted as exc:
+        print(f"\n{exc}; finished runs are kept and the interrupted ones resume from their "
+              f"checkpoints; continue with: {_continue_command(args, exc.folder)}",
+              file=sys.stderr)
+        return 130
+    except KeyboardInterrupt:   # before the campaign folder was ready
         from .errors import shell_command
         again = (shell_command("optimiser", "sweep", args.campaign, "--out", args.out)
                  if args.out else shell_command("optimiser", "sweep", args.campaign)
@@ -84,6 +89,22 @@ def cmd_sweep(args):
               f"the same command with --out {result.folder} to retry them", file=sys.stderr)
         return 1
     return 0
+
+
+def _continue_command(args, folder) -> str:
+    """The sweep command (quoted for the shell) that continues the campaign in ``folder``,
+    run the same way (serial, scheduler, workers, plots) as this one."""
+    from .errors import shell_command
+    words = ["optimiser", "sweep", args.campaign, "--out", folder]
+    if args.serial:
+        words.append("--serial")
+    if args.scheduler:
+        words += ["--scheduler", args.scheduler]
+    if args.workers is not None:
+        words += ["--workers", args.workers]
+    if args.no_plots:
+        words.append("--no-plots")
+    return shell_command(*words)
 
 
 def _design_table(study, args):

@@ -1,7 +1,9 @@
-"""Reading and checking a designs table (CSV) for ``evaluate``."""
+"""Reading and checking a designs table (CSV) for ``evaluate``: whole, or in chunks of rows
+(:func:`iter_designs_csv`, bounded memory for a table of millions of rows)."""
 
 from __future__ import annotations
 
+import codecs
 import csv
 import difflib
 import math
@@ -15,13 +17,14 @@ from .study import StudyError
 
 
 def check_designs(study, table: pd.DataFrame, source: str = "designs",
-                  model_range: bool = False) -> pd.DataFrame:
+                  model_range: bool = False, first_row: int = 1) -> pd.DataFrame:
     """Check columns, numbers and flap names; return the table with float columns.
 
     Raises :class:`StudyError` (one line) naming the column, row and value at fault: a
     number that is not finite and positive, and with ``model_range`` (the command line's
     designs) one outside the model's valid range (:data:`~optimiser.sizing.inputs.MODEL_RANGES`),
-    which the model would size at the nearest limit and flag ``outside_model_range``.
+    which the model would size at the nearest limit and flag ``outside_model_range``. Rows are
+    counted from ``first_row`` (a later chunk of a long table names its rows in the file).
     """
     need = design_columns(study)
     cols = [str(c).strip() for c in table.columns]
@@ -44,7 +47,7 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
         r = MODEL_RANGES[c]
         values = []
         for i, v in enumerate(table[c].tolist()):
-            where = f"{source}: " + (f"row {i + 1}, " if len(table) > 1 or source != "--design"
+            where = f"{source}: " + (f"row {first_row + i}, " if len(table) > 1 or source != "--design"
                                      else "") + f"column {c!r}"
             try:
                 x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
@@ -67,7 +70,7 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
             close = difflib.get_close_matches(name, names, n=1)
             hint = f" (did you mean {close[0]!r}?)" if close else ""
             base = sorted({n.split("+")[0] for n in names})
-            raise StudyError(f"{source}: row {i + 1}, column 'flap': unknown flap type "
+            raise StudyError(f"{source}: row {first_row + i}, column 'flap': unknown flap type "
                              f"{name!r}{hint}; expected one of: " + ", ".join(base)
                              + ", optionally followed by '+slats'")
         flaps.append(name)
@@ -75,34 +78,96 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
     return table
 
 
-def read_designs_csv(study, path) -> pd.DataFrame:
-    """Read a designs CSV file and check it; raises :class:`StudyError` on any problem."""
+READ_BLOCK_BYTES = 1 << 20
+"""Bytes read from a designs file at a time (the text is decoded and split as it comes)."""
+
+_LINE_BREAKS = "\r\n\x0b\x0c\x1c\x1d\x1e\x85\u2028\u2029"   # those of str.splitlines
+
+
+def _text_lines(path):
+    """The lines of a UTF-8 file (an optional byte-order mark skipped), split as
+    ``str.splitlines`` splits the whole text, read a block at a time."""
     p = Path(path)
+    decoder = codecs.getincrementaldecoder("utf-8")()
     try:
-        raw = p.read_bytes()
+        fh = open(p, "rb")
     except OSError as exc:
         raise StudyError(f"{path}: cannot read the designs file ({exc.strerror})") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise StudyError(f"{path}: byte {exc.start} is not UTF-8; expected a UTF-8 CSV "
-                         "file") from None
-    try:
-        rows = list(csv.reader(text.splitlines()))
-    except csv.Error as exc:   # e.g. a field over the csv module's size limit
-        raise StudyError(f"{path}: not a readable CSV table ({exc}); expected a header "
-                         + ",".join(design_columns(study)) + " and design rows") from None
-    rows = [r for r in rows if any(cell.strip() for cell in r)]
-    if not rows:
+    with fh:
+        offset, carry, bom = 0, "", 0
+        while True:
+            try:
+                block = fh.read(READ_BLOCK_BYTES)
+            except OSError as exc:
+                raise StudyError(f"{path}: cannot read the designs file ({exc.strerror})") \
+                    from None
+            held = len(decoder.getstate()[0])
+            try:
+                text = decoder.decode(block, final=not block)
+            except UnicodeDecodeError as exc:
+                raise StudyError(f"{path}: byte {offset - held + exc.start - bom} is not UTF-8; "
+                                 "expected a UTF-8 CSV file") from None
+            if offset == 0 and text.startswith("\ufeff"):
+                text, bom = text[1:], 3
+            offset += len(block)
+            lines = (carry + text).splitlines(True)
+            if not block:
+                yield from (line.rstrip(_LINE_BREAKS) for line in lines)
+                return
+            # the last piece may be a partial line (or a CR whose LF is in the next block)
+            carry = lines.pop() if lines else ""
+            yield from (line.rstrip(_LINE_BREAKS) for line in lines)
+
+
+def _csv_rows(study, path):
+    """The non-blank rows of a designs CSV file, as lists of cells."""
+    reader = csv.reader(_text_lines(path))
+    while True:
+        try:
+            row = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:   # e.g. a field over the csv module's size limit
+            raise StudyError(f"{path}: not a readable CSV table ({exc}); expected a header "
+                             + ",".join(design_columns(study)) + " and design rows") from None
+        if any(cell.strip() for cell in row):
+            yield row
+
+
+def iter_designs_csv(study, path, chunk_rows: int):
+    """Read a designs CSV file ``chunk_rows`` rows at a time; yield each chunk checked
+    (:func:`check_designs`, rows named by their number in the file). Raises
+    :class:`StudyError` on the first problem met, so a caller that must write nothing for a
+    bad file reads the whole stream before keeping anything it wrote."""
+    if chunk_rows < 1:
+        raise ValueError(f"chunk_rows must be at least 1, got {chunk_rows}")
+    rows = _csv_rows(study, path)
+    first = next(rows, None)
+    if first is None:
         raise StudyError(f"{path}: the file is empty; expected a header "
                          + ",".join(design_columns(study)) + " and design rows")
-    header = [h.strip() for h in rows[0]]
-    for i, r in enumerate(rows[1:]):
+    header = [h.strip() for h in first]
+    chunk, seen = [], 0
+    for r in rows:
+        seen += 1
         if len(r) != len(header):
-            raise StudyError(f"{path}: row {i + 1} has {len(r)} cells; expected {len(header)} "
+            raise StudyError(f"{path}: row {seen} has {len(r)} cells; expected {len(header)} "
                              "like the header")
-    table = pd.DataFrame(rows[1:], columns=header, dtype=object)
-    return check_designs(study, table, str(path), model_range=True)
+        chunk.append(r)
+        if len(chunk) == chunk_rows:
+            yield check_designs(study, pd.DataFrame(chunk, columns=header, dtype=object),
+                                str(path), model_range=True, first_row=seen - len(chunk) + 1)
+            chunk = []
+    if chunk or seen == 0:   # no rows at all: check_designs says so (after the columns)
+        yield check_designs(study, pd.DataFrame(chunk, columns=header, dtype=object),
+                            str(path), model_range=True, first_row=seen - len(chunk) + 1)
+
+
+def read_designs_csv(study, path) -> pd.DataFrame:
+    """Read a designs CSV file and check it; raises :class:`StudyError` on any problem."""
+    from .evaluation import EVALUATE_CHUNK_ROWS
+    chunks = list(iter_designs_csv(study, path, EVALUATE_CHUNK_ROWS))
+    return chunks[0] if len(chunks) == 1 else pd.concat(chunks, ignore_index=True)
 
 
 def parse_design_option(study, text: str) -> pd.DataFrame:

@@ -57,3 +57,17 @@ class RunInterrupted(Exception):
         self.run_dir = Path(run_dir)
         super().__init__(f"interrupted; the run is saved in {self.run_dir}; resume it with: "
                          f"{shell_command('optimiser', 'resume', self.run_dir)}")
+
+
+class CampaignInterrupted(Exception):
+    """A campaign stopped by Ctrl-C or SIGTERM: finished runs are kept, the running ones
+    saved a checkpoint, the rest did not start. Not an :class:`OptimiserError`: the command
+    line prints how to continue and exits with status 130 (as for an interrupted run)."""
+
+    def __init__(self, folder, interrupted=(), not_started=0):
+        self.folder = Path(folder)
+        self.interrupted = list(interrupted)
+        self.not_started = not_started
+        super().__init__(f"interrupted; the campaign is saved in {self.folder} "
+                         f"({len(self.interrupted)} run(s) saved mid-way, {not_started} not "
+                         "started)")
