@@ -107,7 +107,7 @@ def _check_evaluate_memory(study, rows_at_once: int, args):
     short = memory_shortfall(rows_at_once * design_bytes_estimate(study))
     if short is not None:
         what = f"--designs {args.designs}" if args.designs is not None else "the designs"
-        raise UsageError(f"{what}: sizing its {rows_at_once} designs at once {short} "
+        raise UsageError(f"{what}: sizing {rows_at_once} designs at once {short} "
                          f"({design_bytes_estimate(study)} bytes a design, with head-room); "
                          "expected a table that fits in memory (split it into smaller files)")
 
@@ -118,9 +118,11 @@ def cmd_evaluate(args):
     standard output (the summary then goes to standard error) after a first pass has
     checked every row, so a bad row still leaves nothing written."""
     from .designs import iter_designs_csv, parse_design_option
-    from .evaluation import CAUTION, EVALUATE_CHUNK_ROWS, evaluate_chunks, evaluated_csv_pieces
+    from .evaluation import (CAUTION, evaluate_chunk_rows, evaluate_chunks,
+                             evaluated_csv_pieces)
     study = _study(args.study)
     out = _output_path(args.out, args.force)
+    chunk_rows = evaluate_chunk_rows(study)   # fewer where memory is short
     if args.design is not None and args.designs is not None:
         raise UsageError(f"--design and --designs: got both ({args.design!r} and "
                         f"{args.designs!r}); expected one of them")
@@ -139,9 +141,9 @@ def cmd_evaluate(args):
             designs = candidate
 
         def tables():
-            return iter_designs_csv(study, designs, EVALUATE_CHUNK_ROWS)
+            return iter_designs_csv(study, designs, chunk_rows)
     # every chunk is sized in one call: the memory must hold a whole chunk
-    _check_evaluate_memory(study, 1 if args.design is not None else EVALUATE_CHUNK_ROWS, args)
+    _check_evaluate_memory(study, 1 if args.design is not None else chunk_rows, args)
     if args.out == "-":
         for _ in tables():   # every row checked before the first byte is written
             pass

@@ -27,8 +27,9 @@ CSV_WRITE_ROWS = 2_000
 """Rows formatted as text at a time when a chunk is written (each cell is a Python string
 until it is joined: a small slice keeps that within some megabytes)."""
 
-CSV_FLOAT_FORMAT = "%.10g"
-"""The number format of ``optimiser evaluate``'s CSV output (ten significant digits)."""
+CSV_FLOAT_FORMAT = "%.17g"
+"""The number format of the pandas fallback of :func:`evaluated_csv_text` (17 significant
+digits: exact for a double)."""
 
 CAUTION = ("Conceptual-design estimates only: not for certification, airworthiness or "
            "operational use. The applicable airworthiness authority's rules and licensed "
@@ -96,6 +97,21 @@ def memory_shortfall(need_bytes) -> str | None:
         return None
     return (f"needs an estimated {memory_text(need_bytes)}; only {memory_text(have)} of "
             "memory is available")
+
+
+MIN_CHUNK_ROWS = 1000
+"""Fewest rows a chunked evaluation sizes at once (ours: below this the per-call overhead
+of the model dominates); a machine that cannot hold them is refused."""
+
+
+def evaluate_chunk_rows(study) -> int:
+    """Rows :func:`evaluate_chunks` sizes at once: :data:`EVALUATE_CHUNK_ROWS`, or fewer where
+    the available memory holds fewer (never below :data:`MIN_CHUNK_ROWS`; the caller checks
+    that those fit with :func:`memory_shortfall`)."""
+    have = available_memory_bytes()
+    if have is None:
+        return EVALUATE_CHUNK_ROWS
+    return max(MIN_CHUNK_ROWS, min(EVALUATE_CHUNK_ROWS, have // design_bytes_estimate(study)))
 
 
 def design_columns(study) -> tuple[str, ...]:
@@ -168,27 +184,6 @@ def evaluate_checked(study, table) -> pd.DataFrame:
     return frame
 
 
-def _csv_cells(column: pd.Series) -> list[str] | None:
-    """The CSV cells of one column as pandas writes them with ``float_format``
-    :data:`CSV_FLOAT_FORMAT` (NaN and None empty), or None where a cell would need quotes."""
-    values = column.to_numpy()
-    kind = values.dtype.kind
-    if kind == "f":
-        cells = list(map(CSV_FLOAT_FORMAT.__mod__, values.tolist()))
-        for i in np.flatnonzero(np.isnan(values)).tolist():
-            cells[i] = ""
-        return cells
-    if kind == "b":
-        return np.where(values, "True", "False").tolist()
-    if kind in "iu":
-        return list(map(str, values.tolist()))
-    cells = ["" if v is None or (isinstance(v, float) and v != v) else str(v)
-             for v in values.tolist()]
-    if any(("," in c) or ('"' in c) or ("\n" in c) or ("\r" in c) for c in cells):
-        return None
-    return cells
-
-
 def evaluated_csv_pieces(frame: pd.DataFrame, header: bool = True):
     """:func:`evaluated_csv_text` of ``frame`` in slices of :data:`CSV_WRITE_ROWS` rows,
     one string each (their concatenation is the whole text)."""
@@ -198,14 +193,25 @@ def evaluated_csv_pieces(frame: pd.DataFrame, header: bool = True):
 
 
 def evaluated_csv_text(frame: pd.DataFrame, header: bool = True) -> str:
-    """``frame`` as CSV text, the same characters as pandas'
-    ``frame.to_csv(index=False, float_format=CSV_FLOAT_FORMAT)`` (with or without the header
-    line), several times faster: each column is formatted once and the rows joined."""
+    """``frame`` as CSV text, written by Apache Arrow's CSV writer: every float in its
+    shortest exact form (it reads back to the same float), NaN empty, booleans ``true`` /
+    ``false``, text unquoted (the tool's names and flags hold no commas, quotes or line
+    breaks; a cell that would need quotes takes pandas' writer at full precision instead)."""
+    import io
+
+    import pyarrow as pa
+    import pyarrow.csv as pa_csv
     names = [str(c) for c in frame.columns]
-    columns = [_csv_cells(frame[c]) for c in frame.columns] if len(frame) else []
-    if any(c is None for c in columns) or any(("," in n) or ('"' in n) or ("\n" in n)
-                                              for n in names):
+    text_cols = [c for c in frame.columns if frame[c].dtype.kind == "O"]
+    needs_quotes = any(("," in n) or ('"' in n) or ("\n" in n) for n in names) or any(
+        frame[c].astype(str).str.contains(r'[,"\n\r]', regex=True).any() for c in text_cols)
+    if needs_quotes:
         return frame.to_csv(index=False, header=header, float_format=CSV_FLOAT_FORMAT)
-    lines = [",".join(names)] if header else []
-    lines.extend(map(",".join, zip(*columns)))
-    return "\n".join(lines) + "\n" if lines else ""
+    buf = io.BytesIO()
+    if header:
+        buf.write((",".join(names) + "\n").encode("utf-8"))
+    if len(frame):
+        table = pa.Table.from_pandas(frame, preserve_index=False)
+        pa_csv.write_csv(table, buf, pa_csv.WriteOptions(include_header=False,
+                                                         quoting_style="none"))
+    return buf.getvalue().decode("utf-8")

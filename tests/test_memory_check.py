@@ -89,13 +89,21 @@ def test_evaluate_refuses_a_table_too_large_for_memory(monkeypatch, tmp_path, ca
     out = tmp_path / "out.csv"
     code = main(["evaluate", str(UTILITY), "--designs", str(designs), "--out", str(out)])
     err = capsys.readouterr().err
-    # 10 designs x 1 440 x 2 = 28 800 bytes > 20 000
+    # the smallest chunk, 1 000 designs x 1 440 x 2 = 2.88 MB > 20 000 bytes
     assert code == 2
-    assert err == (f"error: --designs {designs}: sizing its 10 designs at once needs an "
-                   "estimated 28.8 kB; only 20.0 kB of memory is available (2880 bytes a "
+    assert err == (f"error: --designs {designs}: sizing 1000 designs at once needs an "
+                   "estimated 2.9 MB; only 20.0 kB of memory is available (2880 bytes a "
                    "design, with head-room); expected a table that fits in memory (split it "
                    "into smaller files)\n")
     assert not out.exists()
+
+
+def test_evaluate_sizes_smaller_chunks_where_memory_is_short(monkeypatch):
+    study = load_study(UTILITY)
+    monkeypatch.setattr(evaluation, "available_memory_bytes", lambda: 2880 * 5000)
+    assert evaluation.evaluate_chunk_rows(study) == 5000
+    monkeypatch.setattr(evaluation, "available_memory_bytes", lambda: None)
+    assert evaluation.evaluate_chunk_rows(study) == evaluation.EVALUATE_CHUNK_ROWS
 
 
 def test_design_bytes_estimate_by_family():
