@@ -14,39 +14,53 @@ from ..decide import RUNNERS_UP, Choice, runners_up
 from ..errors import DecideError
 from ..evaluation import CAUTION
 from ..runfolder import names
-from ..runfolder.files import write_atomic
+from ..runfolder.files import new_folder, write_atomic
 from ..runfolder.reader import Run
 from ..runfolder.runinfo import json_bytes
 from . import sheet
-from .figures import save
+from .figures import pyplot, save
 
 
 def pick_folder(run_dir, method) -> Path:
     return Path(run_dir) / f"{names.PICK_DIR_PREFIX}{method}"
 
 
+def _refuse_existing(out: Path, force: bool, what: str):
+    if out.exists() and not out.is_dir():
+        raise DecideError(f"{out}: is a file; expected a folder for {what}")
+    if out.is_dir() and any(out.iterdir()) and not force:
+        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
+                          f"{what} in it)")
+
+
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
     """Write ``RUN_DIR/pick-<method>/``: design.csv, design.md, constraint_diagram.png/.svg,
-    runners_up.csv, choice.json. An existing folder is refused unless ``force``."""
+    runners_up.csv, choice.json. An existing folder is refused unless ``force``.
+
+    Every table and the figure are made before anything is written; the folder is built in
+    a temporary sibling and renamed into place (:func:`~optimiser.runfolder.files.new_folder`),
+    so a failure leaves no partial folder and an old one untouched."""
     from .plots import design_constraint_diagram
     out = pick_folder(run.run_dir, choice.method)
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
-                          "the pick files in it)")
-    out.mkdir(exist_ok=True)
+    _refuse_existing(out, force, "the pick files")
     study = run.study
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
-    write_atomic(out / "design.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
     md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
                               how=choice.describe(), runners=runners)
-    write_atomic(out / "design.md", md.encode())
     info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
             "caution": CAUTION}
-    write_atomic(out / names.PICK_CHOICE, json_bytes(info))
-    save(design_constraint_diagram(study, choice.design, label="chosen design"),
-         out / "constraint_diagram")
+    texts = {"design.csv": table.to_csv(index=False).encode(),
+             "runners_up.csv": runners.to_csv(index=False).encode(),
+             "design.md": md.encode(), names.PICK_CHOICE: json_bytes(info, allow_nan=False)}
+    fig = design_constraint_diagram(study, choice.design, label="chosen design")
+    try:
+        with new_folder(out, "the pick folder") as tmp:
+            for name, data in texts.items():
+                write_atomic(tmp / name, data)
+            save(fig, tmp / "constraint_diagram")
+    finally:  # the figure is made before the folder: closed whatever happens
+        pyplot().close(fig)
     return out
 
 
@@ -76,16 +90,20 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str
 
 def write_flaps(run: Run, table, fronts, force=False) -> Path:
     """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
-    unless ``force``)."""
+    unless ``force``); built whole in a temporary sibling and renamed into place."""
     from .plots import flap_fronts
     out = run.run_dir / names.FLAPS_DIR
-    if out.exists() and any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
-                          "flap comparison in it)")
-    out.mkdir(exist_ok=True)
-    write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "flaps.md", sheet.flaps_markdown(run.study, table).encode())
-    save(flap_fronts(run.study, fronts, table), out / "flaps")
+    _refuse_existing(out, force, "the flap comparison")
+    texts = {"flaps.csv": table.to_csv(index=False).encode(),
+             "flaps.md": sheet.flaps_markdown(run.study, table).encode()}
+    fig = flap_fronts(run.study, fronts, table)
+    try:
+        with new_folder(out, "the flap comparison") as tmp:
+            for name, data in texts.items():
+                write_atomic(tmp / name, data)
+            save(fig, tmp / "flaps")
+    finally:
+        pyplot().close(fig)
     return out
 
 
