@@ -5,7 +5,9 @@ here; the search loop (:mod:`optimiser.runs`, :mod:`optimiser.loop`) only calls 
 Modules: :mod:`~.names` (file names), :mod:`~.files` (atomic writes, appending, fsync, CSV
 bytes), :mod:`~.place` (where a run goes, free space, writability, ``--force``),
 :mod:`~.archive` (``evaluations.csv`` and ``history.csv``), :mod:`~.checkpoint`,
-:mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`).
+:mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`), :mod:`~.checked` (the
+checked readers' primitives: every damaged file is one :class:`~optimiser.errors.RunError`
+line naming it).
 
 Importing this package pulls in neither pandas nor pyarrow (they are imported where used).
 """
