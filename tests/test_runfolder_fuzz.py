@@ -25,6 +25,7 @@ import contextlib
 import errno
 import hashlib
 import json
+import os
 import shutil
 import subprocess
 from pathlib import Path
@@ -299,7 +300,7 @@ def failing_after(n_calls, error):
         calls.append(path)
         if len(calls) == n_calls:
             Path(path).with_name(".partial").write_bytes(data[:10])
-            raise OSError(error, __import__("os").strerror(error), str(path))
+            raise OSError(error, os.strerror(error), str(path))
         return real(path, data, before_replace)
     return write
 
@@ -334,34 +335,8 @@ def test_force_replaces_the_old_folder_only_when_the_new_one_is_complete(runs, t
     assert [p.name for p in run.iterdir() if p.name.startswith(".")] == []
 
 
-def _mount(where: Path, options: str):
-    import os
-    where.mkdir(parents=True, exist_ok=True)
-    if os.geteuid() != 0 or shutil.which("mount") is None:
-        pytest.skip("mounting a tmpfs needs root")
-    proc = subprocess.run(["mount", "-t", "tmpfs", "-o", options, "tmpfs", str(where)],
-                          capture_output=True, text=True)
-    if proc.returncode != 0:
-        pytest.skip(f"cannot mount a tmpfs here: {proc.stderr.strip()}")
-
-
-@pytest.fixture
-def mounted(tmp_path):
-    points = []
-
-    def make(name, options):
-        where = tmp_path / name
-        _mount(where, options)
-        points.append(where)
-        return where
-
-    yield make
-    for where in points:
-        subprocess.run(["umount", "-l", str(where)], capture_output=True)
-
-
-def test_real_read_only_and_full_disks(runs, mounted, capsys):
-    ro = mounted("ro", "size=16m")
+def test_real_read_only_and_full_disks(runs, tmpfs, capsys):
+    ro = tmpfs("ro", "size=16m")
     shutil.copytree(runs["front"], ro / "run")
     proc = subprocess.run(["mount", "-o", "remount,ro", str(ro)], capture_output=True)
     if proc.returncode != 0:
@@ -372,7 +347,7 @@ def test_real_read_only_and_full_disks(runs, mounted, capsys):
         assert "(Read-only file system)" in one_error(capsys)
     assert hashes(ro) == before
     size = sum(p.stat().st_size for p in runs["front"].iterdir())
-    full = mounted("full", f"size={(size // 4096 + 12) * 4}k")  # ~48 kB to spare
+    full = tmpfs("full", f"size={(size // 4096 + 12) * 4}k")  # ~48 kB to spare
     shutil.copytree(runs["front"], full / "run")
     before = hashes(full)
     assert main(["pick", str(full / "run")]) == 2  # real figures: more than 48 kB

@@ -27,10 +27,10 @@ def pick_folder(run_dir, method) -> Path:
 
 def _refuse_existing(out: Path, force: bool, what: str):
     if out.exists() and not out.is_dir():
-        raise DecideError(f"{out}: is a file; expected a folder for {what}")
+        raise DecideError(f"{out}: is a file; expected a folder for the {what}")
     if out.is_dir() and any(out.iterdir()) and not force:
         raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
-                          f"{what} in it)")
+                          f"it with new {what})")
 
 
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
@@ -42,7 +42,7 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     so a failure leaves no partial folder and an old one untouched."""
     from .plots import design_constraint_diagram
     out = pick_folder(run.run_dir, choice.method)
-    _refuse_existing(out, force, "the pick files")
+    _refuse_existing(out, force, "pick files")
     study = run.study
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
@@ -93,7 +93,7 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     unless ``force``); built whole in a temporary sibling and renamed into place."""
     from .plots import flap_fronts
     out = run.run_dir / names.FLAPS_DIR
-    _refuse_existing(out, force, "the flap comparison")
+    _refuse_existing(out, force, "flap comparison files")
     texts = {"flaps.csv": table.to_csv(index=False).encode(),
              "flaps.md": sheet.flaps_markdown(run.study, table).encode()}
     fig = flap_fronts(run.study, fronts, table)

@@ -27,16 +27,21 @@ def fail(path, what: str, expected: str):
     raise RunError(f"{path}: {what}; expected {expected}")
 
 
-def read_bytes(path: Path, expected: str) -> bytes:
-    """The bytes of a file that must be there and not empty."""
+def _reading(path, expected: str, read):
+    """``read()``; a missing file, a folder or an unreadable file is one line."""
     try:
-        data = Path(path).read_bytes()
+        return read()
     except FileNotFoundError:
         fail(path, "missing", expected)
     except IsADirectoryError:
         fail(path, "is a folder", expected)
     except OSError as exc:
         fail(path, f"cannot be read ({exc.strerror})", expected)
+
+
+def read_bytes(path: Path, expected: str) -> bytes:
+    """The bytes of a file that must be there and not empty."""
+    data = _reading(path, expected, Path(path).read_bytes)
     if not data.strip():
         fail(path, "empty", expected)
     return data
@@ -78,18 +83,13 @@ def header_columns(path, first_line: str, required, expected: str) -> list[str]:
 
 def first_line(path: Path, expected: str) -> str:
     """The first line of a text file (read alone: a large archive is not read twice)."""
-    try:
+    def head():
         with open(path, "rb") as fh:
-            head = fh.readline(1 << 20)
-    except FileNotFoundError:
-        fail(path, "missing", expected)
-    except IsADirectoryError:
-        fail(path, "is a folder", expected)
-    except OSError as exc:
-        fail(path, f"cannot be read ({exc.strerror})", expected)
-    if not head.strip():
-        fail(path, "empty" if not head else "the header line is empty", expected)
-    return decode(path, head, expected).rstrip("\r\n")
+            return fh.readline(1 << 20)
+    line = _reading(path, expected, head)
+    if not line.strip():
+        fail(path, "empty" if not line else "the header line is empty", expected)
+    return decode(path, line, expected).rstrip("\r\n")
 
 
 def parse_csv(path, source, expected: str, **options):
