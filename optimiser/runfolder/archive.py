@@ -178,21 +178,16 @@ def read_archive(run_dir, columns, *, feasible_only=False, flaps=None):
     columns = list(columns)
     use = columns if not feasible_only or "feasible" in columns else [*columns, "feasible"]
     checked.header_columns(path, checked.first_line(path, ARCHIVE_EXPECTED), use,
-                                    ARCHIVE_EXPECTED)
+                           ARCHIVE_EXPECTED)
     numbers = [c for c in use if c not in TEXT_COLUMNS and c != "feasible"]
     chunks = checked.parse_csv(path, path, ARCHIVE_EXPECTED, usecols=use,
                                chunksize=READ_CHUNK_ROWS)
     parts, rows = [], 0
     while True:
-        try:
-            part = next(chunks)
-        except StopIteration:
+        with checked.csv_errors(path, ARCHIVE_EXPECTED):
+            part = next(chunks, None)
+        if part is None:
             break
-        except UnicodeDecodeError as exc:
-            checked.fail(path, f"not UTF-8 text ({exc.reason})", ARCHIVE_EXPECTED)
-        except (pd.errors.ParserError, ValueError) as exc:
-            checked.fail(path, f"not readable as CSV ({checked.one_line(exc)})",
-                         ARCHIVE_EXPECTED)
         checked.check_columns(path, part, finite=numbers,
                               boolean=["feasible"] if "feasible" in use else (),
                               choices={"flap": flaps} if flaps and "flap" in use else None,
@@ -209,10 +204,5 @@ def read_history(run_dir):
     generation, evaluation and hypervolume columns there and finite, every other cell a
     number or empty; :class:`RunError` (one line) otherwise."""
     path = Path(run_dir) / names.HISTORY
-    text = checked.read_text(path, HISTORY_EXPECTED)
-    cols = checked.header_columns(path, text.split("\n", 1)[0].rstrip("\r"), HISTORY_FINITE,
-                                  HISTORY_EXPECTED)
-    history = checked.parse_csv(path, checked.text_source(text), HISTORY_EXPECTED)
-    if [str(c) for c in history.columns] != cols:
-        checked.fail(path, "rows have more cells than the header", HISTORY_EXPECTED)
+    history, cols = checked.read_table(path, HISTORY_FINITE, HISTORY_EXPECTED)
     return checked.check_columns(path, history, numeric=cols, finite=HISTORY_FINITE)

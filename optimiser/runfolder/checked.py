@@ -14,6 +14,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+from contextlib import contextmanager
 from pathlib import Path
 
 from ..errors import RunError
@@ -92,17 +93,36 @@ def first_line(path: Path, expected: str) -> str:
     return decode(path, line, expected).rstrip("\r\n")
 
 
-def parse_csv(path, source, expected: str, **options):
-    """``pd.read_csv(source, **options)``; a parse or decoding failure is one line."""
+@contextmanager
+def csv_errors(path, expected: str):
+    """Turn pandas' parse and decoding failures inside the block into one line."""
     import pandas as pd
     try:
-        return pd.read_csv(source, **options)
+        yield
     except UnicodeDecodeError as exc:
         fail(path, f"not UTF-8 text ({exc.reason})", expected)
     except pd.errors.EmptyDataError:
         fail(path, "empty", expected)
     except (pd.errors.ParserError, ValueError, csv.Error) as exc:
         fail(path, f"not readable as CSV ({one_line(exc)})", expected)
+
+
+def parse_csv(path, source, expected: str, **options):
+    """``pd.read_csv(source, **options)``; a parse or decoding failure is one line."""
+    import pandas as pd
+    with csv_errors(path, expected):
+        return pd.read_csv(source, **options)
+
+
+def read_table(path: Path, required, expected: str, **options):
+    """A whole CSV file (UTF-8, not empty) with the ``required`` columns each there once:
+    (table, its columns); ``options`` go to ``pd.read_csv``."""
+    text = read_text(path, expected)
+    cols = header_columns(path, text.split("\n", 1)[0].rstrip("\r"), required, expected)
+    table = parse_csv(path, io.StringIO(text), expected, **options)
+    if [str(c) for c in table.columns] != cols:
+        fail(path, "rows have more cells than the header", expected)
+    return table, cols
 
 
 def one_line(exc) -> str:
@@ -212,8 +232,3 @@ def json_text(value) -> str:
     import json
     text = json.dumps(value)
     return text if len(text) <= 40 else text[:37] + "..."
-
-
-def text_source(text: str):
-    """A text buffer for pandas (the text already checked as UTF-8)."""
-    return io.StringIO(text)

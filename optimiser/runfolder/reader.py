@@ -65,13 +65,8 @@ def read_sized_table(path: Path, study=None, extra=()):
     flags true or false, the flaps the study's; the empty text cells read as ""."""
     import pandas as pd
     required = [*(sized_columns(study) if study is not None else ()), *extra]
-    text = checked.read_text(path, SIZED_EXPECTED)
-    cols = checked.header_columns(path, text.split("\n", 1)[0].rstrip("\r"), required,
-                                  SIZED_EXPECTED)
-    table = checked.parse_csv(path, checked.text_source(text), SIZED_EXPECTED,
-                              keep_default_na=False, na_values=[""])
-    if [str(c) for c in table.columns] != cols:
-        checked.fail(path, "rows have more cells than the header", SIZED_EXPECTED)
+    table, cols = checked.read_table(path, required, SIZED_EXPECTED, keep_default_na=False,
+                                     na_values=[""])
     if len(table) == 0:
         checked.fail(path, "no design rows under the header", SIZED_EXPECTED)
     words = ("flap", *TEXT_COLUMNS, *BOOL_COLUMNS)
