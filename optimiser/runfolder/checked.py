@@ -173,13 +173,13 @@ def check_columns(path, frame, *, numeric=(), finite=(), boolean=(), choices=Non
                  "true or false")
         frame[c] = mapped.astype(bool)
     for c, allowed in (choices or {}).items():
-        allowed = set(allowed)
+        allowed = sorted(set(allowed))
         col = frame[c]
-        bad = ~col.map(lambda v: isinstance(v, str) and v in allowed)
+        bad = ~col.isin(allowed)
         if bad.any():
             i = int(np.flatnonzero(bad.to_numpy())[0])
             fail(path, f"row {row_offset + i + 1}, column {c!r}: got {str(col.iloc[i])!r}",
-                 "one of " + ", ".join(sorted(allowed)))
+                 "one of " + ", ".join(allowed))
     return frame
 
 
