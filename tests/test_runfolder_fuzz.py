@@ -15,7 +15,7 @@ Also here: the readers' one-line messages for the cases the hostile trial found 
 deleted, a NaN objective, run.json of the wrong shape, an archive missing a column), and the
 writers on a failing, full or read-only disk (nothing partial left, the old output kept).
 
-Source of the expectations: the project's own rules (one-line errors, exit status 2, nothing
+Source: the project's own rules (one-line errors, exit status 2, nothing
 saved is lost); no published values.
 """
 
