@@ -287,8 +287,9 @@ def choose(study, front, method="knee", *, weights=None, aspiration=None, limits
     if method not in METHODS:
         raise DecideError(f"--method: got {method!r}; expected one of {', '.join(METHODS)}")
     if front is None or len(front) == 0:
-        raise DecideError("the run has no feasible design (no front.csv); nothing to pick "
-                          "from (see least_violating.csv)")
+        raise DecideError("the run found no feasible design; nothing to pick from; expected "
+                          "a run with a front (the designs closest to feasible are in "
+                          "least_violating.csv)")
     cols = list(study.objective_columns())
     F_all = front[cols].to_numpy(float)
     ideal, nadir = F_all.min(axis=0), F_all.max(axis=0)

@@ -261,6 +261,6 @@ def compare_flaps(run):
                                      "aspect_ratio", "maintenance_index", "takeoff_mass_kg",
                                      *study.objective_columns())
             or c in {f"margin_{k}" for k in active_constraints(study.spec)}]
-    archive = read_archive(run.run_dir, need)
+    archive = read_archive(run.run_dir, need, flaps=study.spec.high_lift_names)
     scales = run.info["hypervolume"]
     return compare_flap_options(study, archive, scales)

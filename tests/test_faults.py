@@ -260,31 +260,6 @@ def test_probe_failure_is_one_line_and_removes_the_new_folders(study, tmp_path, 
     assert list(tmp_path.iterdir()) == []
 
 
-def _mount_tmpfs(where: Path, options: str):
-    where.mkdir(parents=True, exist_ok=True)
-    if os.geteuid() != 0 or shutil.which("mount") is None:
-        pytest.skip("mounting a tmpfs needs root")
-    proc = subprocess.run(["mount", "-t", "tmpfs", "-o", options, "tmpfs", str(where)],
-                          capture_output=True, text=True)
-    if proc.returncode != 0:
-        pytest.skip(f"cannot mount a tmpfs here: {proc.stderr.strip()}")
-
-
-@pytest.fixture
-def tmpfs(tmp_path):
-    mounted = []
-
-    def make(name, options):
-        where = tmp_path / name
-        _mount_tmpfs(where, options)
-        mounted.append(where)
-        return where
-
-    yield make
-    for where in mounted:
-        subprocess.run(["umount", "-l", str(where)], capture_output=True)
-
-
 def test_read_only_file_system_is_refused(tmpfs, capsys):
     ro = tmpfs("ro", "size=64m,ro")  # room enough: the refusal is for read-only
     assert main(["run", "--out", str(ro / "run"), "--pop", "8", "--gens", "1"]) == 2

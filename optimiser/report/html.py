@@ -44,8 +44,9 @@ def latest_pick_settings(run):
     picks = sorted(run.run_dir.glob(f"{names.PICK_DIR_PREFIX}*/{names.PICK_CHOICE}"),
                    key=lambda p: p.stat().st_mtime)
     if picks:
-        s = json.loads(picks[-1].read_text("utf-8"))
-        limits = [parse_limit(t, list(run.front.columns)) for t in s.get("limits", [])]
+        from ..runfolder.reader import read_pick_choice
+        s = read_pick_choice(picks[-1])
+        limits = [parse_limit(t, list(run.front.columns)) for t in s["limits"]]
         return choose(run.study, run.front, s["method"], weights=s.get("weights"),
                       aspiration=s.get("aspiration"), limits=limits)
     return choose(run.study, run.front, "knee")
@@ -352,5 +353,11 @@ def write_report(run, choice=None, flaps=True) -> Path:
         data=json.dumps(data, separators=(",", ":")).replace("</", "<\\/"),
         script=PAGE_SCRIPT if data else "")
     path = run.run_dir / names.REPORT
-    write_atomic(path, page.encode("utf-8"))
+    try:
+        write_atomic(path, page.encode("utf-8"))
+    except OSError as exc:
+        from ..errors import RunError
+        raise RunError(f"{path}: cannot write the report ({exc.strerror}); expected a "
+                       "writable folder with free space (any previous report is left as it "
+                       "was)") from None
     return path

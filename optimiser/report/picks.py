@@ -14,11 +14,11 @@ from ..decide import RUNNERS_UP, Choice, runners_up
 from ..errors import DecideError
 from ..evaluation import CAUTION
 from ..runfolder import names
-from ..runfolder.files import make_folder, write_atomic
+from ..runfolder.files import new_folder, write_atomic
 from ..runfolder.reader import Run
 from ..runfolder.runinfo import json_bytes
 from . import sheet
-from .figures import save
+from .figures import pyplot, save
 
 
 def pick_folder(run_dir, method, limits=()) -> Path:
@@ -42,30 +42,49 @@ def design_input_bytes(study, design) -> bytes:
     return (",".join(cols) + "\n" + ",".join(cells) + "\n").encode("utf-8")
 
 
+def _refuse_existing(out: Path, force: bool, what: str):
+    import os
+    if os.path.islink(out):
+        raise DecideError(f"{out}: is a symbolic link; expected a folder for the {what} "
+                          "(nothing is written through a link in a run folder: remove it)")
+    if out.exists() and not out.is_dir():
+        raise DecideError(f"{out}: is a file; expected a folder for the {what}")
+    if out.is_dir() and any(out.iterdir()) and not force:
+        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
+                          f"it with new {what})")
+
+
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
     """Write ``RUN_DIR/pick-<method>/`` (see :func:`pick_folder`): design.csv, design.md,
     design_input.csv, constraint_diagram.png/.svg, runners_up.csv, choice.json. An existing
-    folder is refused unless ``force``."""
+    folder is refused unless ``force``.
+
+    Every table and the figure are made before anything is written; the folder is built in
+    a temporary sibling and renamed into place (:func:`~optimiser.runfolder.files.new_folder`),
+    so a failure leaves no partial folder and an old one untouched."""
     from .plots import design_constraint_diagram
-    out = make_folder(pick_folder(run.run_dir, choice.method, choice.limits))  # refused if a link
-    if any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace "
-                          "the pick files in it)")
+    out = pick_folder(run.run_dir, choice.method, choice.limits)
+    _refuse_existing(out, force, "pick files")
     study = run.study
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
-    write_atomic(out / "design.csv", table.to_csv(index=False).encode())
-    write_atomic(out / names.PICK_DESIGN_INPUT, design_input_bytes(study, choice.design))
-    write_atomic(out / "runners_up.csv", runners.to_csv(index=False).encode())
     md = sheet.sheet_markdown(study, choice.design, title=f"{study.name}: chosen design",
                               how=choice.describe(), runners=runners)
-    write_atomic(out / "design.md", md.encode())
     info = {**choice.settings(), "front_row": int(choice.design["front_row"]),
             "caution": CAUTION}
-    write_atomic(out / names.PICK_CHOICE, json_bytes(info))
-    save(design_constraint_diagram(study, choice.design, label="chosen design", front=run.front,
-                                   run_utc=run.info.get("started_utc")),
-         out / "constraint_diagram")
+    texts = {"design.csv": table.to_csv(index=False).encode(),
+             names.PICK_DESIGN_INPUT: design_input_bytes(study, choice.design),
+             "runners_up.csv": runners.to_csv(index=False).encode(),
+             "design.md": md.encode(), names.PICK_CHOICE: json_bytes(info, allow_nan=False)}
+    fig = design_constraint_diagram(study, choice.design, label="chosen design", front=run.front,
+                                    run_utc=run.info.get("started_utc"))
+    try:
+        with new_folder(out, "the pick folder") as tmp:
+            for name, data in texts.items():
+                write_atomic(tmp / name, data)
+            save(fig, tmp / "constraint_diagram")
+    finally:  # the figure is made before the folder: closed whatever happens
+        pyplot().close(fig)
     return out
 
 
@@ -99,15 +118,20 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str
 
 def write_flaps(run: Run, table, fronts, force=False) -> Path:
     """Write ``RUN_DIR/flaps/``: flaps.csv, flaps.md, flaps.png/.svg (refused if present
-    unless ``force``)."""
+    unless ``force``); built whole in a temporary sibling and renamed into place."""
     from .plots import flap_fronts
-    out = make_folder(run.run_dir / names.FLAPS_DIR)  # refused if a link
-    if any(out.iterdir()) and not force:
-        raise DecideError(f"{out}: exists; expected a new folder (use --force to replace the "
-                          "flap comparison in it)")
-    write_atomic(out / "flaps.csv", table.to_csv(index=False).encode())
-    write_atomic(out / "flaps.md", sheet.flaps_markdown(run.study, table).encode())
-    save(flap_fronts(run.study, fronts, table, run.info.get("started_utc")), out / "flaps")
+    out = run.run_dir / names.FLAPS_DIR
+    _refuse_existing(out, force, "flap comparison files")
+    texts = {"flaps.csv": table.to_csv(index=False).encode(),
+             "flaps.md": sheet.flaps_markdown(run.study, table).encode()}
+    fig = flap_fronts(run.study, fronts, table, run.info.get("started_utc"))
+    try:
+        with new_folder(out, "the flap comparison") as tmp:
+            for name, data in texts.items():
+                write_atomic(tmp / name, data)
+            save(fig, tmp / "flaps")
+    finally:
+        pyplot().close(fig)
     return out
 
 

@@ -8,6 +8,8 @@ bytes), :mod:`~.place` (where a run goes, free space, writability, ``--force``),
 :mod:`~.archive` (``evaluations.csv`` and ``history.csv``), :mod:`~.checkpoint` (no code in
 it: arrays and JSON), :mod:`~.manifest` (the run id and file records binding a folder to its
 run), :mod:`~.runinfo` (``run.json``), :mod:`~.reader` (:func:`load_run`).
+:mod:`~.checked` (the checked readers' primitives: every damaged file is one
+:class:`~optimiser.errors.RunError` line naming it).
 
 Importing this package pulls in neither pandas nor pyarrow (they are imported where used).
 """

@@ -15,7 +15,7 @@ import numpy as np
 
 from ..columns import ARCHIVE_SUMMARY_COLUMNS, ENGINE_SIZE_COLUMNS
 from ..errors import RunError
-from . import files, names
+from . import checked, files, names
 
 ARCHIVE_BUFFER_ROWS = 20_000
 """Rows of evaluations.csv held in memory at most before they are written (ours: a few MB);
@@ -160,15 +160,40 @@ class Pending:
         state.history_bytes = files.append(run_dir / names.HISTORY, history)
 
 
-def read_archive(run_dir, columns, *, feasible_only=False):
+ARCHIVE_EXPECTED = "the archive of evaluated designs as 'optimiser run' wrote it (UTF-8 CSV)"
+HISTORY_EXPECTED = "the per-generation history as 'optimiser run' wrote it (UTF-8 CSV)"
+TEXT_COLUMNS = ("flap", "limiting_constraint")
+"""The text columns of evaluations.csv (every other column but ``feasible`` is a number)."""
+HISTORY_FINITE = ("generation", "evaluations", "hypervolume")
+"""Columns of history.csv that are finite numbers in every row (the others may be empty)."""
+
+
+def read_archive(run_dir, columns, *, feasible_only=False, flaps=None):
     """``columns`` of a run's ``evaluations.csv`` as a DataFrame (only the feasible rows if
-    ``feasible_only``), parsed :data:`READ_CHUNK_ROWS` rows at a time."""
+    ``feasible_only``), parsed :data:`READ_CHUNK_ROWS` rows at a time.
+
+    Checked as it is read: every column there once, every number finite, ``feasible`` true or
+    false, ``flap`` one of ``flaps`` (if given); :class:`RunError` (one line) otherwise."""
     import pandas as pd
+    path = Path(run_dir) / names.ARCHIVE
     columns = list(columns)
     use = columns if not feasible_only or "feasible" in columns else [*columns, "feasible"]
-    parts = []
-    for part in pd.read_csv(Path(run_dir) / names.ARCHIVE, usecols=use,
-                            chunksize=READ_CHUNK_ROWS):
+    checked.header_columns(path, checked.first_line(path, ARCHIVE_EXPECTED), use,
+                           ARCHIVE_EXPECTED)
+    numbers = [c for c in use if c not in TEXT_COLUMNS and c != "feasible"]
+    chunks = checked.parse_csv(path, path, ARCHIVE_EXPECTED, usecols=use,
+                               chunksize=READ_CHUNK_ROWS)
+    parts, rows = [], 0
+    while True:
+        with checked.csv_errors(path, ARCHIVE_EXPECTED):
+            part = next(chunks, None)
+        if part is None:
+            break
+        checked.check_columns(path, part, finite=numbers,
+                              boolean=["feasible"] if "feasible" in use else (),
+                              choices={"flap": flaps} if flaps and "flap" in use else None,
+                              row_offset=rows)
+        rows += len(part)
         if feasible_only:
             part = part.loc[part["feasible"].astype(bool), columns]
         parts.append(part)
@@ -176,6 +201,9 @@ def read_archive(run_dir, columns, *, feasible_only=False):
 
 
 def read_history(run_dir):
-    """A run's ``history.csv`` as a DataFrame (one row per generation)."""
-    import pandas as pd
-    return pd.read_csv(Path(run_dir) / names.HISTORY)
+    """A run's ``history.csv`` as a DataFrame (one row per generation), checked: its
+    generation, evaluation and hypervolume columns there and finite, every other cell a
+    number or empty; :class:`RunError` (one line) otherwise."""
+    path = Path(run_dir) / names.HISTORY
+    history, cols = checked.read_table(path, HISTORY_FINITE, HISTORY_EXPECTED)
+    return checked.check_columns(path, history, numeric=cols, finite=HISTORY_FINITE)

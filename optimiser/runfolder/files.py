@@ -20,6 +20,7 @@ import os
 import re
 import stat
 import threading
+from contextlib import contextmanager
 from datetime import datetime, timezone
 from pathlib import Path
 
@@ -165,9 +166,64 @@ def write_atomic(path: Path, data: bytes, before_replace=None):
     except OSError as exc:
         raise named(exc, path) from None
     finally:
-        if os.path.lexists(tmp):
-            tmp.unlink()
+        remove_quietly(tmp)
     fsync_dir(path.parent)
+
+
+def remove_quietly(path: Path):
+    """Remove a file or a folder tree if it is there; a failure is ignored (called from
+    error handlers, which must never replace the first error with their own)."""
+    import shutil
+    try:
+        if path.is_dir() and not path.is_symlink():
+            shutil.rmtree(path, ignore_errors=True)
+        else:
+            path.unlink(missing_ok=True)
+    except OSError:
+        pass
+
+
+@contextmanager
+def new_folder(target: Path, what: str = "the output"):
+    """Build a folder complete before it appears: yields a temporary sibling
+    ``.<name>.tmp-<pid>`` to write into; on success the folder is renamed into place (an
+    existing ``target`` is renamed aside first and removed only after the new one is in
+    place). On any failure the temporary folder is removed and ``target`` is left as it was;
+    an ``OSError`` (a read-only or full disk) becomes one :class:`RunError` line.
+
+    The caller decides beforehand whether an existing ``target`` may be replaced."""
+    from ..errors import RunError
+    target = Path(target)
+    tmp = temporary_path(target)
+    aside = target.with_name(f".{target.name}.old-{os.getpid()}")
+    remove_quietly(tmp)
+    try:
+        tmp.mkdir()
+    except OSError as exc:
+        raise RunError(f"{target}: cannot create {what} in {target.parent} ({exc.strerror}); "
+                       "expected a writable folder") from None
+    try:
+        yield tmp
+        fsync_dir(tmp)
+        if target.exists():
+            os.rename(target, aside)
+            try:
+                os.rename(tmp, target)
+            except OSError:
+                os.rename(aside, target)
+                raise
+            remove_quietly(aside)
+        else:
+            os.rename(tmp, target)
+        fsync_dir(target.parent)
+    except OSError as exc:
+        remove_quietly(tmp)
+        where = exc.filename or target
+        raise RunError(f"{where}: cannot write {what} ({exc.strerror}); expected a writable "
+                       f"folder with free space ({target} is left as it was)") from None
+    except BaseException:
+        remove_quietly(tmp)
+        raise
 
 
 def named(exc: OSError, path) -> OSError:

@@ -4,11 +4,12 @@ hypervolume reference, the caution). Written last: its presence marks a finished
 from __future__ import annotations
 
 import json
+import math
 import platform
 import sys
 from pathlib import Path
 
-from . import files, names
+from . import checked, files, names
 
 VERSIONED_PACKAGES = ("optimiser", "pymoo", "numpy", "pandas", "scipy", "matplotlib", "pint",
                       "pyarrow")
@@ -45,5 +46,46 @@ def is_finished(run_dir) -> bool:
     return (Path(run_dir) / names.RUN_INFO).is_file()
 
 
-def read_run_info(run_dir) -> dict:
-    return json.loads((Path(run_dir) / names.RUN_INFO).read_text("utf-8"))
+RUN_INFO_SCHEMA = {
+    "study": str, "seed": int, "method": str, "objectives": list, "termination_text": str,
+    "n_evaluations": int, "n_feasible": int, "front_size": int, "feasible_found": bool,
+    "message": str,
+    "hypervolume": {"final": (int, float), "ideal": list, "nadir": list,
+                    "reference_point_normalised": list},
+}
+"""The keys of run.json its readers use, and their types (a nested dict: an object)."""
+RUN_INFO_EXPECTED = "the run.json of a finished run (a JSON object written by 'optimiser run')"
+
+
+def read_run_info(run_dir, study=None) -> dict:
+    """A run's ``run.json``, checked against :data:`RUN_INFO_SCHEMA`; with ``study`` its
+    objectives must be the study's and the hypervolume scales one finite number per
+    objective. :class:`~optimiser.errors.RunError` (one line) otherwise."""
+    path = Path(run_dir) / names.RUN_INFO
+    info = checked.read_json_object(path, RUN_INFO_SCHEMA, RUN_INFO_EXPECTED)
+    for key in ("n_evaluations", "n_feasible", "front_size"):
+        if info[key] < 0:
+            checked.fail(path, f"key {key!r} is {info[key]}", "0 or more")
+    if info["feasible_found"] != (info["front_size"] > 0):
+        checked.fail(path, f"'feasible_found' is {json.dumps(info['feasible_found'])} with "
+                     f"'front_size' {info['front_size']}", "a front size above 0 exactly "
+                     "when a feasible design was found")
+    if study is None:
+        return info
+    objectives = list(study.objective_columns())
+    if info["objectives"] != objectives:
+        checked.fail(path, f"key 'objectives' is {checked.json_text(info['objectives'])}",
+                     f"the objectives of its study.toml, {checked.json_text(objectives)}")
+    for key in ("ideal", "nadir", "reference_point_normalised"):
+        values = info["hypervolume"][key]
+        if len(values) != len(objectives) or not all(
+                isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+                for v in values):
+            checked.fail(path, f"key 'hypervolume.{key}' is {checked.json_text(values)}",
+                         f"{len(objectives)} finite numbers, one per objective")
+    hv = info["hypervolume"]
+    if not all(n > i for i, n in zip(hv["ideal"], hv["nadir"])):
+        checked.fail(path, f"key 'hypervolume.nadir' is {checked.json_text(hv['nadir'])} with "
+                     f"'ideal' {checked.json_text(hv['ideal'])}", "a nadir above the ideal "
+                     "in every objective")
+    return info
