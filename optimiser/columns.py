@@ -14,8 +14,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-_NAME_SUFFIXES = ("_kg_m3", "_m_s2", "_N_m2", "_N_kW", "_m_s", "_kg", "_m2", "_kW", "_kN", "_N",
-                  "_m")
+_NAME_SUFFIXES = ("_kg_m3", "_m_s2", "_N_m2", "_N_kW", "_m_s", "_kg", "_m2", "_m3", "_kW", "_kN",
+                  "_N", "_m")
 """Unit suffixes of column names, longest first (stripped to give a column's plain name)."""
 
 
@@ -117,6 +117,25 @@ COLUMNS = (
         "zero-lift drag, takeoff flaps (and gear if retractable)"),
     _c("cd0_landing", "aerodynamics", "-",
         "zero-lift drag, landing flaps (and gear if retractable)"),
+    _c("cd0_build_up", "drag build-up", "-",
+        "clean CD0 of the component build-up, low speed, whether used or not (geometry "
+        "given)"),
+    _c("wetted_area_m2", "drag build-up", "m^2",
+        "wetted area of the airplane: wing, fuselage, tails and nacelles"),
+    _c("wing_wetted_area_m2", "drag build-up", "m^2", "wetted area of the exposed wing"),
+    _c("fuselage_wetted_area_m2", "drag build-up", "m^2", "wetted area of the fuselage"),
+    _c("horizontal_tail_area_m2", "drag build-up", "m^2",
+        "horizontal tail area from its volume coefficient"),
+    _c("vertical_tail_area_m2", "drag build-up", "m^2",
+        "vertical tail area from its volume coefficient"),
+    _c("tail_wetted_area_m2", "drag build-up", "m^2", "wetted area of both tails"),
+    _c("nacelle_wetted_area_m2", "drag build-up", "m^2", "wetted area of all nacelles"),
+    _c("wing_drag_area_m2", "drag build-up", "m^2", "wing drag area C_f FF Q S_wet (D/q)"),
+    _c("fuselage_drag_area_m2", "drag build-up", "m^2", "fuselage drag area C_f FF Q S_wet"),
+    _c("tail_drag_area_m2", "drag build-up", "m^2", "drag area of both tails"),
+    _c("nacelle_drag_area_m2", "drag build-up", "m^2", "drag area of all nacelles"),
+    _c("misc_drag_area_m2", "drag build-up", "m^2",
+        "fixed gear, struts, cooling, leaks and protuberances"),
     _c("oswald_e", "aerodynamics", "-", "Oswald factor at low speed (takeoff, climb)"),
     _c("oswald_e_cruise", "aerodynamics", "-", "Oswald factor at the cruise Mach number"),
     _c("cl_max_clean", "aerodynamics", "-", "clean airplane CLmax"),
@@ -126,6 +145,12 @@ COLUMNS = (
         "lift coefficient at mid-cruise weight and the cruise speed"),
     _c("cruise_lift_to_drag", "aerodynamics", "-",
         "L/D at the mid-cruise lift coefficient, used in Breguet", report_key=7),
+    _c("wing_fuel_volume_m3", "fuel volume", "m^3",
+        "usable fuel volume of the wing (box volume x usable share)"),
+    _c("fuel_volume_m3", "fuel volume", "m^3",
+        "usable fuel volume: wing, fuselage and tip tanks"),
+    _c("fuel_volume_required_m3", "fuel volume", "m^3",
+        "volume of the fuel carried at the study's fuel density"),
     _c("density_takeoff_kg_m3", "atmosphere", "kg/m^3",
         "air density at the departure airfield on the design day"),
     _c("density_landing_kg_m3", "atmosphere", "kg/m^3", "air density at the destination airfield"),
@@ -188,6 +213,9 @@ COLUMNS = (
     _c("cruise_mach", "performance", "-", "Mach number of that speed"),
     _c("service_ceiling_m", "performance", "m",
         "altitude where the best climb rate is 100 ft/min, takeoff mass"),
+    _c("cd0_built_up", "aerodynamics", "",
+        "the clean CD0 is the component build-up's (false: pinned by the study's cd0_clean "
+        "or a per-design override)"),
     _c("oswald_mach_in_range", "performance", "",
         "cruise speed and ceiling found inside the Oswald method's Mach range (false: the "
         "cruise speed is held at the method's top Mach, or the ceiling's climb needs more)"),
@@ -234,6 +262,7 @@ CONSTRAINTS = (
     Constraint("landing_climb", "Part 25 landing climb, all engines (25.119)"),
     Constraint("cruise_speed", "cruise speed at cruise altitude"),
     Constraint("service_ceiling", "service ceiling"),
+    Constraint("fuel_volume", "fuel carried (trip, reserve, trapped) fits the usable tank volume"),
     Constraint("outside_model_range", "inputs inside the model's valid ranges (only in a batch "
                "holding a design outside them, e.g. from the Python API: such a design is "
                "sized at the nearest limit and is infeasible; negative by how far outside, "

@@ -71,8 +71,11 @@ def overrides_from_factors(spec, factors: dict) -> tuple[dict, dict]:
     """
     pr, ad, wt = spec.propulsion, spec.aerodynamics, spec.weights
     ov, capped = {}, {}
-    if "cd0_clean" in factors:
-        ov["cd0_clean"] = ad.cd0_clean * factors["cd0_clean"]
+    if "cd0_clean" in factors:  # a factor on the pinned CD0, or on the build-up's
+        if ad.cd0_method == "fixed":
+            ov["cd0_clean"] = ad.cd0_clean * factors["cd0_clean"]
+        else:
+            ov["cd0_scale"] = factors["cd0_clean"]
     if "oswald_factor" in factors:
         ov["oswald_factor_scale"] = factors["oswald_factor"]
     if "propeller_efficiency" in factors:

@@ -32,6 +32,8 @@ def _f(default: Any = None, *, unit: str | None = None, lo: float | None = None,
 
 PROPULSION_FAMILIES = ("piston", "turboprop", "turbofan")
 CERTIFICATION_BASES = ("part23", "part25")
+CD0_METHODS = ("build_up", "fixed")
+"""How the clean CD0 is found: built up from the components, or the study's fixed value."""
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -103,7 +105,12 @@ class Aerodynamics:
     """Fixed aerodynamic assumptions of the study."""
 
     cd0_clean: float | None = _f(None, lo=0.005, hi=0.1, lo_open=True,
-                                 doc="clean zero-lift drag coefficient")
+                                 doc="clean zero-lift drag coefficient, pinned (cd0_method "
+                                 "'fixed'); family default when neither it nor the geometry "
+                                 "is given")
+    cd0_method: str | None = _f(None, doc="'build_up' (components, needs [geometry] "
+                                "fuselage_length) or 'fixed' (cd0_clean); default build_up "
+                                "when fuselage_length is given and cd0_clean is not")
     cl_max_clean: float | None = _f(None, lo=0.8, hi=2.2, doc="clean airplane CLmax")
     oswald_method: str = _f("nita_scholz2012", doc="key of the Oswald-factor registry")
     oswald_k_ed0: float | None = _f(None, lo=0.6, hi=1.0, doc="Nita & Scholz k_e,D0")
@@ -128,6 +135,55 @@ class Aerodynamics:
 
 
 @dataclass(frozen=True, kw_only=True)
+class Geometry:
+    """Layout of the airplane beyond the wing: fuselage, tails, nacelles, miscellaneous drag
+    and fuel tanks (for the drag build-up and the fuel volume)."""
+
+    fuselage_length_m: float | None = _f(None, unit="m", lo=2.0, hi=80.0,
+                                         doc="overall fuselage length; with it the clean CD0 "
+                                         "is built up from the components")
+    nose_fineness: float = _f(1.5, lo=0.3, hi=5.0,
+                              doc="nose length over fuselage diameter (common practice 1-2)")
+    tailcone_fineness: float = _f(2.5, lo=0.5, hi=6.0,
+                                  doc="tail-cone length over fuselage diameter (common "
+                                  "practice 2-3.5)")
+    horizontal_tail_volume: float | None = _f(None, lo=0.2, hi=1.6,
+                                              doc="S_H l_H / (S c_bar); default by class "
+                                              "(physics.geometry.TAIL_VOLUME_COEFFICIENTS)")
+    vertical_tail_volume: float | None = _f(None, lo=0.01, hi=0.2,
+                                            doc="S_V l_V / (S b); default by class")
+    tail_arm_fraction: float = _f(0.5, lo=0.2, hi=0.8,
+                                  doc="tail moment arm over fuselage length (common practice)")
+    tail_thickness_ratio: float = _f(0.10, lo=0.06, hi=0.18,
+                                     doc="thickness over chord of both tails")
+    nacelle_count: int | None = _f(None, lo=0, hi=4,
+                                   doc="podded nacelles; default one per engine on a "
+                                   "multi-engine airplane, none on a single")
+    laminar_fraction: float = _f(0.0, lo=0.0, hi=0.6,
+                                 doc="share of the wing's and tails' wetted area in laminar "
+                                 "flow")
+    fixed_gear_drag_area_m2: float | None = _f(None, unit="m^2", lo=0.0, hi=5.0,
+                                               doc="D/q of a fixed landing gear (used with "
+                                               "landing_gear = 'fixed'); default by family")
+    strut_drag_area_m2: float = _f(0.0, unit="m^2", lo=0.0, hi=2.0,
+                                   doc="D/q of wing struts and external bracing")
+    cooling_drag_fraction: float | None = _f(None, lo=0.0, hi=0.3,
+                                             doc="engine cooling drag over the components' "
+                                             "friction drag; default by family")
+    leakage_protuberance_fraction: float | None = _f(None, lo=0.0, hi=0.3,
+                                                     doc="leaks, gaps, antennas, rivets over "
+                                                     "the components' friction drag; default "
+                                                     "by family")
+    wing_fuel_share: float | None = _f(None, lo=0.1, hi=1.0,
+                                       doc="usable share of the wing box volume (ribs, "
+                                       "spars, dry bays, flapped span); default by family")
+    fuselage_tank_volume_m3: float = _f(0.0, unit="m^3", lo=0.0, hi=200.0,
+                                        doc="usable fuel volume in the fuselage")
+    tip_tank_volume_m3: float = _f(0.0, unit="m^3", lo=0.0, hi=20.0,
+                                   doc="usable fuel volume of tip tanks, both together")
+
+
+@dataclass(frozen=True, kw_only=True)
 class Weights:
     """Payload and empty-mass build-up assumptions."""
 
@@ -144,6 +200,9 @@ class Weights:
     actuator_unit_mass_kg: float = _f(3.0, unit="kg", lo=0.0, hi=200.0,
                                       doc="mass of one high-lift actuator (per side)")
     empty_mass_factor: float = _f(1.0, lo=0.5, hi=2.0, doc="multiplies the whole empty mass")
+    fuel_density_kg_m3: float | None = _f(None, unit="kg/m^3", lo=500.0, hi=1000.0,
+                                          doc="fuel density for the fuel volume; default "
+                                          "0.72 kg/l avgas (piston), 0.80 kg/l jet fuel")
     mass_limit_ratio: float = _f(40.0, lo=2.0, hi=200.0,
                                  doc="closure search stops at this multiple of payload + crew")
 
@@ -273,6 +332,7 @@ class AircraftSpec:
     destination: Airfield
     certification: Certification
     high_lift: tuple[HighLift, ...]
+    geometry: Geometry = Geometry()
 
     @property
     def uses_power_loading(self) -> bool:
@@ -298,9 +358,15 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
         # cd0: GA 0.020-0.035 [common practice]; CLmax single prop 1.3-1.9, Roskam Pt I Tbl 3.1
         # [from memory]; k_eD0 GA, Nita & Scholz 2012 [from memory]
         "weights": dict(ultimate_load_factor=5.7,   # 1.5 x 3.8, normal category [from memory]
-                        structure_systems_fraction=0.27, fixed_equipment_kg=60.0),
+                        structure_systems_fraction=0.27, fixed_equipment_kg=60.0,
+                        fuel_density_kg_m3=720.0),  # avgas 0.72 kg/l [common practice]
         # structure/systems share calibrated so that the demo's empty fraction is 0.55-0.65,
         # the range of Roskam Pt I Table 2.15 for single props [common practice]
+        "geometry": dict(fixed_gear_drag_area_m2=0.15, cooling_drag_fraction=0.08,
+                         leakage_protuberance_fraction=0.08, wing_fuel_share=0.55),
+        # faired fixed tricycle gear of a light airplane, D/q 0.1-0.2 m^2; air-cooled engine
+        # cooling 5-10 %; leaks and protuberances 5-10 % on a riveted light airplane; fuel in
+        # the inboard bays only [all common practice]
     },
     "turboprop": {
         "propulsion": dict(
@@ -313,7 +379,13 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
             engine_specific_mass=0.45),        # 0.25 kg/kW dry x 1.8 with propeller [common practice]
         "aerodynamics": dict(cd0_clean=0.024, cl_max_clean=1.5, oswald_k_ed0=0.804),
         "weights": dict(ultimate_load_factor=5.7, structure_systems_fraction=0.30,
-                        fixed_equipment_kg=450.0),
+                        fixed_equipment_kg=450.0,
+                        fuel_density_kg_m3=800.0),  # jet fuel 0.80 kg/l [common practice]
+        "geometry": dict(fixed_gear_drag_area_m2=0.30, cooling_drag_fraction=0.02,
+                         leakage_protuberance_fraction=0.06, wing_fuel_share=0.70),
+        # fixed gear (rare) of a commuter's wheel size; oil cooler and intakes 1-3 %; leaks
+        # and protuberances 5-8 %; integral tanks between the nacelles and the tips
+        # [all common practice]
     },
     "turbofan": {
         "propulsion": dict(
@@ -324,7 +396,12 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
         "aerodynamics": dict(cd0_clean=0.020, cl_max_clean=1.4, oswald_k_ed0=0.873),
         # jets 0.015-0.020 [common practice]; business jet CLmax 1.4-1.8 Roskam Tbl 3.1 [from memory]
         "weights": dict(ultimate_load_factor=3.75,  # 1.5 x 2.5, 14 CFR 25.337 [from memory]
-                        structure_systems_fraction=0.32, fixed_equipment_kg=600.0),
+                        structure_systems_fraction=0.32, fixed_equipment_kg=600.0,
+                        fuel_density_kg_m3=800.0),  # jet fuel 0.80 kg/l [common practice]
+        "geometry": dict(fixed_gear_drag_area_m2=0.30, cooling_drag_fraction=0.0,
+                         leakage_protuberance_fraction=0.04, wing_fuel_share=0.80),
+        # no cooling drag beyond the nacelle; leaks and protuberances 3-5 %; integral wing
+        # tanks over most of the span [all common practice]
     },
 }
 

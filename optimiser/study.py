@@ -21,7 +21,7 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10
 from . import spec as S
 from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
-from .physics import aerodynamics, atmosphere, highlift, mission, performance
+from .physics import aerodynamics, atmosphere, geometry, highlift, mission, performance
 from .quantities import _Reader, _dimension_name, _suggest, units  # noqa: F401  (units: public)
 from .sizing.inputs import MODEL_RANGES
 
@@ -45,11 +45,11 @@ VARIABLE_UNITS = {
 SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
                "seed": (int, 0, 2**32 - 1)}
 
-_UNIT_SUFFIXES = ("_kg_m2", "_m_s", "_kg", "_rad", "_K", "_m", "_s")
+_UNIT_SUFFIXES = ("_kg_m2", "_kg_m3", "_m_s", "_kg", "_rad", "_m2", "_m3", "_K", "_m", "_s")
 _SECTIONS = {
     "propulsion": S.Propulsion, "aerodynamics": S.Aerodynamics, "weights": S.Weights,
     "mission": S.Mission, "requirements": S.Requirements, "speeds": S.Speeds,
-    "departure": S.Airfield, "destination": S.Airfield,
+    "departure": S.Airfield, "destination": S.Airfield, "geometry": S.Geometry,
 }
 _TOP_KEYS = {"name", "description", "certification", "variables", "objectives", "flap_catalogue",
              "slats", "search", "uncertainty", *_SECTIONS}
@@ -116,6 +116,7 @@ _CHOICES = {
     ("aerodynamics", "oswald_method"): tuple(aerodynamics.OSWALD_METHODS),
     ("aerodynamics", "ground_effect_method"): tuple(aerodynamics.GROUND_EFFECT_METHODS),
     ("aerodynamics", "landing_gear"): ("fixed", "retractable"),
+    ("aerodynamics", "cd0_method"): S.CD0_METHODS,
     ("departure", "runway"): tuple(performance.RUNWAY_SURFACES),
     ("destination", "runway"): tuple(performance.RUNWAY_SURFACES),
 }
@@ -154,7 +155,7 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
         else:
             values[f.name] = rd.number(where, value, meta.get("min"), meta.get("max"),
                                        meta.get("min_open", False),
-                                       integer=(f.type in ("int", int)))
+                                       integer=(f.type in ("int", int, "int | None")))
     for f in fields(cls):
         if f.name not in values:
             if f.name in preset:
@@ -330,6 +331,38 @@ def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop) -> tuple:
     return aero, wts, mis, req, speeds
 
 
+def _read_geometry(rd: _Reader, raw: dict, family: str, prop, aero) -> tuple:
+    """[geometry] with its class defaults, and the clean-drag method of [aerodynamics]
+    resolved: 'build_up' needs the fuselage length, 'fixed' the study's (or the family's)
+    cd0_clean; returns (aerodynamics, geometry)."""
+    geo = _read_section(rd, "geometry", raw.get("geometry", {}), S.Geometry,
+                        S.FAMILY_DEFAULTS[family].get("geometry", {}))
+    v_h, v_v = geometry.TAIL_VOLUME_COEFFICIENTS[S.segment_class(family, prop.engine_count)]
+    geo = replace(
+        geo,
+        horizontal_tail_volume=v_h if geo.horizontal_tail_volume is None
+        else geo.horizontal_tail_volume,
+        vertical_tail_volume=v_v if geo.vertical_tail_volume is None else geo.vertical_tail_volume,
+        nacelle_count=(prop.engine_count if prop.engine_count > 1 else 0)
+        if geo.nacelle_count is None else geo.nacelle_count)
+    pinned = "cd0_clean" in raw["aerodynamics"]
+    method = aero.cd0_method
+    if method is None:
+        method = "build_up" if geo.fuselage_length_m is not None and not pinned else "fixed"
+    if method == "build_up" and geo.fuselage_length_m is None:
+        rd.fail("[aerodynamics] cd0_method", "got 'build_up' without [geometry] "
+                "fuselage_length; expected a fuselage length (e.g. \"8.5 m\") or "
+                "cd0_method = 'fixed'")
+    if method == "build_up" and pinned:
+        rd.fail("[aerodynamics] cd0_clean", f"given ({aero.cd0_clean:g}) with cd0_method = "
+                "'build_up'; expected one of the two: cd0_clean pins the clean CD0 "
+                "(cd0_method = 'fixed'), the build-up computes it from the geometry")
+    if geo.fuselage_length_m is not None and geo.fuselage_length_m < 2.0 * aero.fuselage_diameter_m:
+        rd.fail("[geometry] fuselage_length", f"got {geo.fuselage_length_m:g} m; expected at "
+                f"least twice the fuselage diameter ({aero.fuselage_diameter_m:g} m)")
+    return replace(aero, cd0_method=method), geo
+
+
 def _certification(rd: _Reader, raw: dict, basis, family, prop, req, mis) -> tuple:
     """The certification numbers, the mass limit they set, the airfields and the checks of
     the cruise speed; returns (certification, requirements, departure, destination)."""
@@ -375,6 +408,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     name, description, basis = _read_names(rd, raw)
     family, prop = _read_propulsion(rd, raw, basis)
     aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop)
+    aero, geo = _read_geometry(rd, raw, family, prop, aero)
     cert, req, dep, dst = _certification(rd, raw, basis, family, prop, req, mis)
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]
@@ -384,7 +418,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         wts.actuator_unit_mass_kg)) for n in all_names)
     spec = S.AircraftSpec(propulsion=prop, aerodynamics=aero, weights=wts, mission=mis,
                           requirements=req, speeds=speeds, departure=dep, destination=dst,
-                          certification=cert, high_lift=configs)
+                          certification=cert, high_lift=configs, geometry=geo)
     variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
     objectives = _read_objectives(rd, raw.get("objectives", {}))
     search = _read_search(rd, raw.get("search", {}))

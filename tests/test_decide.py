@@ -137,7 +137,14 @@ def test_choice_respects_limits_and_is_the_best_score(study, run, method, kw):
 
 def test_weights_pick_follows_the_weights(study, run):
     fuel = decide.choose(study, run.front, "weights", weights=(1.0, 0.0, 0.0))
-    assert fuel.design["trip_fuel_kg"] == pytest.approx(run.front["trip_fuel_kg"].min())
+    # L1 distance to (1, 0, 0) is 2 (1 - w_fuel): the pick has the largest pseudo-weight of
+    # trip fuel, w = (1 - nf) / sum (1 - nf) (Deb 2001), which lies at or near the least fuel
+    F = run.front[list(study.objective_columns())].to_numpy(float)
+    nF = (F - F.min(axis=0)) / (F.max(axis=0) - F.min(axis=0))
+    w_fuel = (1.0 - nF[:, 0]) / (1.0 - nF).sum(axis=1)
+    assert fuel.design["trip_fuel_kg"] == pytest.approx(
+        run.front["trip_fuel_kg"].iloc[int(np.argmax(w_fuel))])
+    assert fuel.design["trip_fuel_kg"] <= 1.01 * run.front["trip_fuel_kg"].min()
     mi = decide.choose(study, run.front, "weights", weights=(0.0, 0.0, 1.0))
     assert mi.design["maintenance_index"] == pytest.approx(run.front["maintenance_index"].min())
 

@@ -29,6 +29,7 @@ def test_physics_imports_nothing_above_it():
     code = ("import sys, optimiser.physics.performance, optimiser.physics.weights, "
             "optimiser.physics.mission, optimiser.physics.highlift, "
             "optimiser.physics.propulsion, optimiser.physics.aerodynamics, "
+            "optimiser.physics.geometry, optimiser.physics.drag, "
             "optimiser.physics.atmosphere; "
             "bad = [m for m in ('pymoo', 'pandas', 'pint', 'tomllib', 'matplotlib', "
             "'optimiser.study', 'optimiser.sizing', 'optimiser.evaluation') if m in sys.modules]; "

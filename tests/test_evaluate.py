@@ -60,7 +60,7 @@ CONSTRAINTS = {
     # Part 23 single: the 12 500 lb weight limit applies (14 CFR 23.3(a), old; from memory)
     "high_strip_utility": ["mass_closure", "takeoff_mass_limit", "runway_acceleration",
                            "stall_speed", "takeoff_field", "landing_field", "climb_rate",
-                           "climb_gradient", "cruise_speed", "service_ceiling"],
+                           "climb_gradient", "cruise_speed", "service_ceiling", "fuel_volume"],
     # Part 25 twin: no Part 23 gradient or weight limit; the one-engine-out second segment and
     # the first-segment, final-takeoff, approach (25.121(a), (c), (d)) and landing (25.119)
     # climbs instead
@@ -68,12 +68,13 @@ CONSTRAINTS = {
                                 "takeoff_field", "landing_field", "climb_rate",
                                 "oei_climb_gradient", "first_segment_climb",
                                 "final_takeoff_climb", "approach_climb", "landing_climb",
-                                "cruise_speed", "service_ceiling"],
+                                "cruise_speed", "service_ceiling", "fuel_volume"],
     "light_twin_jet": ["mass_closure", "runway_acceleration", "stall_speed", "takeoff_field",
                        "landing_field", "climb_rate", "oei_climb_gradient",
                        "first_segment_climb", "final_takeoff_climb", "approach_climb",
-                       "landing_climb", "cruise_speed", "service_ceiling"],
+                       "landing_climb", "cruise_speed", "service_ceiling", "fuel_volume"],
 }
+# every study: the fuel carried must fit the usable tank volume (Torenbeek 1982 wing box)
 
 
 @pytest.mark.parametrize("name", NAMES)

@@ -40,7 +40,9 @@ def _batch(study, n):
 
 def _replaced(spec, key, value):
     part = {"cd0_clean": "aerodynamics", "empty_mass_factor": "weights"}.get(key, "propulsion")
-    return dc.replace(spec, **{part: dc.replace(getattr(spec, part), **{key: value})})
+    # a cd0_clean override pins the clean CD0: the spec with that value, method "fixed"
+    extra = {"cd0_method": "fixed"} if key == "cd0_clean" else {}
+    return dc.replace(spec, **{part: dc.replace(getattr(spec, part), **{key: value}, **extra)})
 
 
 def _compare(a, b, i):
@@ -80,7 +82,7 @@ def test_no_overrides_and_nominal_overrides_change_nothing():
     ws, ld, ar, ix = _batch(study, 40)
     plain = size_designs(spec, ws, ld, ar, ix)
     same = size_designs(spec, ws, ld, ar, ix, overrides={
-        "cd0_clean": spec.aerodynamics.cd0_clean, "empty_mass_factor": 1.0,
+        "cd0_scale": 1.0, "empty_mass_factor": 1.0,
         "sfc_cruise": np.full(40, spec.propulsion.sfc_cruise)})
     for k in plain:
         assert np.array_equal(plain[k], same[k]), k
@@ -154,9 +156,9 @@ def test_uniform_drag_factor_probability_matches_the_root_of_the_margin():
     spec = study.spec
     args = ([800.0], [73.0], [8.1], [study.spec.high_lift_names.index("none")])
 
-    def margin(f):
-        s = _replaced(spec, "cd0_clean", spec.aerodynamics.cd0_clean * f)
-        return float(size_designs(s, *args)["margin_cruise_speed"][0])
+    def margin(f):  # the study builds its CD0 up: the factor multiplies the build-up's
+        return float(size_designs(spec, *args, overrides={"cd0_scale": f})[
+            "margin_cruise_speed"][0])
     root = brentq(margin, 0.8, 1.6, xtol=1e-10)
     assert 1.0 < root < 1.5
     low, high = root - 0.1, root + 0.2

@@ -247,8 +247,10 @@ def test_100000_random_designs_give_no_nan_or_inf(name):
     assert (frame.loc[frame["wing_loading_N_m2"] > 1e5, "margin_stall_speed"] < 0).all()
     assert (frame.loc[~frame["feasible"], "most_violated"] != "").all()
     assert (~frame.loc[absurd, "within_bounds"]).all()
-    # the in-bounds half still gives feasible designs
-    assert frame.loc[frame["within_bounds"], "feasible"].mean() > 0.05
+    # the in-bounds half still gives feasible designs (fewer for the jet, whose small wings
+    # cannot hold its fuel: the fuel-volume constraint)
+    share = 0.02 if name == "light_twin_jet" else 0.05
+    assert frame.loc[frame["within_bounds"], "feasible"].mean() > share
 
 
 # --- facts of the trade ---------------------------------------------------------------------
@@ -396,10 +398,11 @@ def test_piston_cruise_speed_is_where_thrust_equals_drag():
 
     v = out["cruise_speed_m_s"]
     sel = v > 0
-    assert sel.sum() > 0.8 * n
+    assert sel.sum() > 0.7 * n  # the small wings' built-up CD0 leaves some unable to cruise
 
     def excess(speed):
-        cd0 = ad.cd0_clean + aerodynamics.wave_drag_lock(speed / sound, ad.drag_divergence_mach)
+        cd0 = out["cd0"][sel] + aerodynamics.wave_drag_lock(speed / sound,
+                                                            ad.drag_divergence_mach)
         thrust = propulsion.propeller_thrust(speed, power[sel], pr.propeller_efficiency_cruise,
                                              static[sel])
         return thrust / weight[sel] - performance.drag_to_weight(speed, ws[sel], rho, cd0,

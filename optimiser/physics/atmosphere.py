@@ -80,6 +80,14 @@ def speed_of_sound(temperature):
     return np.sqrt(GAMMA * R_AIR * np.asarray(temperature, dtype=float))
 
 
+def dynamic_viscosity(temperature):
+    """Dynamic viscosity of air [kg m^-1 s^-1] by Sutherland's law,
+    mu = beta T^1.5 / (T + S), beta = 1.458e-6 kg m^-1 s^-1 K^-1/2, S = 110.4 K, at static
+    temperature [K] (USSA 1976, eq. 51; 1.7894e-5 at 288.15 K, its Table I)."""
+    t = np.asarray(temperature, dtype=float)
+    return 1.458e-6 * t**1.5 / (t + 110.4)
+
+
 def density_ratio(geopotential_altitude, delta_isa=0.0):
     """sigma = rho / rho0 [-]."""
     return isa_density(geopotential_altitude, delta_isa) / RHO0

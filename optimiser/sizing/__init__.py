@@ -5,10 +5,10 @@ loop over designs). Inputs are the four decision variables; everything else come
 resolved :class:`~optimiser.spec.AircraftSpec` (SI, no ``None`` left). Each stage is a pure
 function returning a frozen dataclass of arrays:
 
-``design_batch`` (inputs) -> ``air_states`` -> ``clean_drag``, ``high_lift``,
-``cruise_consumption`` -> ``closure_inputs`` -> ``close_takeoff_mass`` (with
-``mission_fuel`` and ``mass_groups`` inside) -> ``installed_propulsion``,
-``low_speed_polar`` -> :class:`Airplane` -> ``takeoff``, ``oei_climb_gradient``,
+``design_batch`` (inputs) -> ``air_states`` -> ``clean_drag`` (with ``build_up_inputs``),
+``high_lift``, ``cruise_consumption`` -> ``closure_inputs`` -> ``close_takeoff_mass`` (with
+``component_drag``, ``mission_fuel`` and ``mass_groups`` inside) -> ``built_up_drag``,
+``fuel_volume``, ``installed_propulsion``, ``low_speed_polar`` -> :class:`Airplane` -> ``takeoff``, ``oei_climb_gradient``,
 ``takeoff_field``, ``landing``, ``landing_field_required``, ``climb_and_ceiling``,
 ``aeo_climb_gradient_required``, ``transport_climb_segments``, ``cruise_speed`` ->
 ``constraint_margins``.
@@ -27,8 +27,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..spec import AircraftSpec
-from .aero import (AirStates, CleanDrag, HighLift, LowSpeedPolar, air_states, clean_drag,
-                   high_lift, low_speed_polar)
+from .aero import (AirStates, CleanDrag, HighLift, LowSpeedPolar, air_states, built_up_drag,
+                   clean_drag, high_lift, low_speed_polar)
 from .airplane import Airplane, airplane, maintenance_index
 from .closure import (ClosureInputs, MassClosure, MassGroups, MissionFuel, close_takeoff_mass,
                       closure_inputs, mass_groups, mission_fuel)
@@ -41,21 +41,24 @@ from .flight import (Climb, CruiseSpeed, TransportClimb, aeo_climb_gradient_requ
                      climb_and_ceiling, cruise_speed, oei_climb_gradient,
                      transport_climb_segments)
 from .inputs import MODEL_RANGES, OVERRIDE_KEYS, DesignBatch, ModelRange, design_batch
+from .layout import (BuildUpInputs, ComponentDrag, FuelVolume, build_up_inputs, component_drag,
+                     fuel_volume)
 from .margins import (CONSTRAINT_LABELS, OUTSIDE_MODEL_RANGE, Margins, active_constraints,
                       constraint_margins)
 
 __all__ = [
     "CONSTRAINT_LABELS", "MODEL_RANGES", "OUTSIDE_MODEL_RANGE", "OVERRIDE_KEYS", "AirStates",
-    "Airplane", "CleanDrag", "Climb", "ClosureInputs", "CruiseConsumption", "CruiseSpeed",
-    "DesignBatch", "HighLift", "InstalledPropulsion", "Landing", "LowSpeedPolar", "Margins",
-    "MassClosure", "MassGroups", "MissionFuel", "ModelRange", "SizedBatch", "Takeoff",
-    "TakeoffField", "TransportClimb", "active_constraints", "aeo_climb_gradient_required",
-    "air_states", "airplane", "checked_constraints", "clean_drag", "climb_and_ceiling",
-    "close_takeoff_mass", "closure_inputs", "constraint_margins", "cruise_consumption",
-    "cruise_speed", "design_batch", "high_lift", "installed_propulsion", "landing",
-    "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups",
-    "mission_fuel", "oei_climb_gradient", "size_batch", "size_designs", "takeoff",
-    "takeoff_field", "transport_climb_segments",
+    "Airplane", "BuildUpInputs", "CleanDrag", "Climb", "ClosureInputs", "ComponentDrag",
+    "CruiseConsumption", "CruiseSpeed", "DesignBatch", "FuelVolume", "HighLift",
+    "InstalledPropulsion", "Landing", "LowSpeedPolar", "Margins", "MassClosure", "MassGroups",
+    "MissionFuel", "ModelRange", "SizedBatch", "Takeoff", "TakeoffField", "TransportClimb",
+    "active_constraints", "aeo_climb_gradient_required", "air_states", "airplane",
+    "build_up_inputs", "built_up_drag", "checked_constraints", "clean_drag", "climb_and_ceiling",
+    "close_takeoff_mass", "closure_inputs", "component_drag", "constraint_margins",
+    "cruise_consumption", "cruise_speed", "design_batch", "fuel_volume", "high_lift",
+    "installed_propulsion", "landing", "landing_field_required", "low_speed_polar",
+    "maintenance_index", "mass_groups", "mission_fuel", "oei_climb_gradient", "size_batch",
+    "size_designs", "takeoff", "takeoff_field", "transport_climb_segments",
 ]
 
 
@@ -78,6 +81,8 @@ class SizedBatch:
     landing_field_required_m: np.ndarray
     climb_gradient_required: np.ndarray  # [-]
     transport_climb: TransportClimb
+    components: ComponentDrag | None  # drag build-up of the sized airplane (geometry given)
+    fuel_volume: FuelVolume
 
 
 def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
@@ -95,6 +100,12 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
     consumption = cruise_consumption(spec, ov)
     closure = close_takeoff_mass(closure_inputs(spec, batch, air, drag, hl, consumption))
     st = closure.state
+    components = st.components
+    if components is None and drag.build_up is not None:  # pinned CD0: build-up for the record
+        components = component_drag(spec, drag.build_up, st.wing_area_m2, batch.aspect_ratio,
+                                    st.rated)
+    drag = built_up_drag(drag, components)
+    tanks = fuel_volume(spec, st.wing_area_m2, st.span_m, st.fuel.fuel_mass_kg)
     polar = low_speed_polar(spec, batch.aspect_ratio, st.span_m, drag, hl, ov)
     engines = installed_propulsion(spec, st.rated, ov)
     ap = airplane(closure.takeoff_mass_kg, batch.wing_loading_N_m2, batch.aspect_ratio,
@@ -117,9 +128,11 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
         climb_gradient=climb.climb_gradient, climb_gradient_required=gradient_required,
         oei_climb_gradient=oei, transport_climb=transport,
         cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m,
+        fuel_volume_required_m3=tanks.required_m3, fuel_volume_available_m3=tanks.available_m3,
         model_range_margin=batch.model_range_margin)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
-                      maintenance_index(ap), land_required, gradient_required, transport)
+                      maintenance_index(ap), land_required, gradient_required, transport,
+                      components, tanks)
 
 
 def checked_constraints(spec: AircraftSpec, sized: dict) -> tuple[str, ...]:

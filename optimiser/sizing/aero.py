@@ -4,7 +4,7 @@ lift, the low-speed and cruise drag polars."""
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 
@@ -12,6 +12,7 @@ from ..physics import aerodynamics as aero
 from ..physics import atmosphere as atm
 from ..physics import highlift
 from ..spec import AircraftSpec
+from .layout import BuildUpInputs, ComponentDrag, build_up_inputs
 
 
 @functools.lru_cache(maxsize=256)
@@ -157,16 +158,36 @@ def high_lift(spec: AircraftSpec, high_lift_index, aspect_ratio) -> HighLift:
 
 @dataclass(frozen=True, slots=True)
 class CleanDrag:
-    """Mass-independent drag numbers of the clean airplane."""
+    """Drag numbers of the clean airplane: mass-independent when the CD0 is pinned; with the
+    build-up, ``cd0`` and ``cd0_cruise`` are None until the wing area is known
+    (:func:`built_up_drag`)."""
 
-    cd0: np.ndarray | float  # clean zero-lift drag (per design with an override) [-]
-    cd0_cruise: np.ndarray | float  # with the wave drag at the cruise Mach number [-]
+    cd0: np.ndarray | float | None  # clean zero-lift drag (per design with an override) [-]
+    cd0_cruise: np.ndarray | float | None  # with the wave drag at the cruise Mach number [-]
     gear_cd0: float  # extended retractable gear, 0 for a fixed gear (in cd0 already) [-]
     oswald_wing_cruise: np.ndarray  # Oswald factor of the wing alone at cruise Mach [-]
+    build_up: BuildUpInputs | None = None  # study-wide part of the build-up (geometry given)
+    wave_cd0: float = 0.0  # wave drag at the cruise Mach number [-]
+    cd0_scale: np.ndarray | float = 1.0  # per-design factor on the clean CD0 [-]
+    pinned: bool = True  # the clean CD0 is the study's cd0_clean or a per-design override
+
+
+def built_up_drag(drag: CleanDrag, components: ComponentDrag | None) -> CleanDrag:
+    """The clean drag with the build-up's CD0 [-] (x the per-design ``cd0_scale``, cruise
+    with the wave drag) where the CD0 is not pinned; ``drag`` itself where it is."""
+    if drag.pinned:
+        return drag
+    return replace(drag, cd0=components.cd0 * drag.cd0_scale,
+                   cd0_cruise=components.cd0_cruise_friction * drag.cd0_scale + drag.wave_cd0)
 
 
 def clean_drag(spec: AircraftSpec, aspect_ratio, air: AirStates, overrides) -> CleanDrag:
     """Clean zero-lift drag with the cruise wave drag, and the wing's cruise Oswald factor.
+
+    With ``cd0_method = "fixed"`` (or a per-design ``cd0_clean`` override) the clean CD0 is
+    that number; with ``"build_up"`` it follows the wing area and the engines, so only the
+    study-wide part of the build-up is gathered here (:func:`~optimiser.sizing.layout.build_up_inputs`)
+    and the CD0 is found with the mass (:func:`~optimiser.sizing.layout.component_drag`).
 
     Parameters
     ----------
@@ -177,13 +198,15 @@ def clean_drag(spec: AircraftSpec, aspect_ratio, air: AirStates, overrides) -> C
     air : AirStates
         Cruise Mach number. [-]
     overrides : dict
-        Per-design ``cd0_clean`` [-] and ``oswald_factor_scale`` [-], when given.
+        Per-design ``cd0_clean`` [-] (pins the clean CD0), ``cd0_scale`` [-] (multiplies the
+        clean CD0, pinned or built up) and ``oswald_factor_scale`` [-], when given.
 
     Returns
     -------
     CleanDrag
-        CD0 clean and in cruise [-], the gear increment [-], the wing's Oswald factor [-]
-        (the fuselage factor, which depends on the span, is applied with the mass).
+        CD0 clean and in cruise [-] (None with the build-up), the gear increment [-], the
+        wing's Oswald factor [-] (the fuselage factor, which depends on the span, is applied
+        with the mass), the build-up's study-wide part, the wave drag [-].
 
     References
     ----------
@@ -191,16 +214,25 @@ def clean_drag(spec: AircraftSpec, aspect_ratio, air: AirStates, overrides) -> C
        parameters", DLRK 2012; Lock's wave-drag law (via :mod:`optimiser.physics.aerodynamics`).
     """
     ad = spec.aerodynamics
-    cd0 = overrides.get("cd0_clean", ad.cd0_clean)
     gear = ad.gear_drag_increment if ad.landing_gear == "retractable" else 0.0
-    cd0_cruise = cd0 + float(aero.wave_drag_lock(air.cruise_mach, ad.drag_divergence_mach))
+    wave = float(aero.wave_drag_lock(air.cruise_mach, ad.drag_divergence_mach))
+    scale = overrides.get("cd0_scale", 1.0)
+    pinned = ad.cd0_method == "fixed" or "cd0_clean" in overrides
+    if pinned:
+        cd0 = overrides.get("cd0_clean", ad.cd0_clean)
+        if "cd0_scale" in overrides:
+            cd0 = cd0 * scale
+        cd0_cruise = cd0 + wave
+    else:
+        cd0 = cd0_cruise = None
+    build = build_up_inputs(spec, air) if spec.geometry.fuselage_length_m is not None else None
     e_wing_cr = aero.oswald_factor(ad.oswald_method, aspect_ratio, ad.taper_ratio,
                                    ad.sweep_quarter_chord_rad, 0.0, air.cruise_mach,
                                    ad.oswald_k_ed0)
     e_scale = overrides.get("oswald_factor_scale")
     if e_scale is not None:
         e_wing_cr = e_wing_cr * e_scale
-    return CleanDrag(cd0, cd0_cruise, gear, e_wing_cr)
+    return CleanDrag(cd0, cd0_cruise, gear, e_wing_cr, build, wave, scale, pinned)
 
 
 def cruise_induced_drag(spec: AircraftSpec, oswald_wing_cruise, aspect_ratio, span_m):

@@ -15,6 +15,7 @@ from ..spec import AircraftSpec
 from .aero import AirStates, CleanDrag, HighLift, cruise_induced_drag
 from .engines import CruiseConsumption
 from .inputs import DesignBatch, at
+from .layout import ComponentDrag, component_drag
 
 
 @dataclass(frozen=True, slots=True)
@@ -200,10 +201,15 @@ class MassState:
     rated: np.ndarray  # sea-level static thrust [N] or rated power [W], all engines
     fuel: MissionFuel
     masses: MassGroups
+    components: ComponentDrag | None  # the drag build-up at this wing area (None: pinned CD0)
 
 
 def mass_state(c: ClosureInputs, takeoff_mass_kg, ix=slice(None)) -> MassState:
-    """Geometry, engines, mission fuel and empty mass of designs ``ix`` at a takeoff mass.
+    """Geometry, engines, clean drag, mission fuel and empty mass of designs ``ix`` at a
+    takeoff mass.
+
+    With the drag build-up the cruise CD0 follows this mass's wing area and engine rating
+    (:func:`optimiser.sizing.layout.component_drag`); a pinned CD0 is taken as it is.
 
     Parameters
     ----------
@@ -229,20 +235,26 @@ def mass_state(c: ClosureInputs, takeoff_mass_kg, ix=slice(None)) -> MassState:
     s_ref = w / ws_i
     span = np.sqrt(ar_i * s_ref)
     e_cr, k_cr = cruise_induced_drag(spec, c.drag.oswald_wing_cruise[ix], ar_i, span)
+    loading = b.thrust_to_weight if b.thrust_to_weight is not None else b.power_to_weight_W_N
+    rated = loading[ix] * w
+    drag = c.drag
+    if drag.pinned:
+        components, cd0_cruise = None, at(drag.cd0_cruise, ix)
+    else:
+        components = component_drag(spec, drag.build_up, s_ref, ar_i, rated)
+        cd0_cruise = components.cd0_cruise_friction * at(drag.cd0_scale, ix) + drag.wave_cd0
     cons = c.consumption
-    fuel = mission_fuel(spec, takeoff_mass_kg, s_ref, k_cr, at(c.drag.cd0_cruise, ix),
+    fuel = mission_fuel(spec, takeoff_mass_kg, s_ref, k_cr, cd0_cruise,
                         CruiseConsumption(at(cons.propeller_efficiency, ix),
                                           at(cons.sfc_kg_J, ix), at(cons.tsfc_kg_N_s, ix)),
                         c.air)
-    loading = b.thrust_to_weight if b.thrust_to_weight is not None else b.power_to_weight_W_N
-    rated = loading[ix] * w
     masses = mass_groups(spec, takeoff_mass_kg, s_ref, rated, c.wing_mass_coefficient[ix],
                          c.high_lift, at(c.empty_mass_factor, ix), ix)
     fixed_kg = spec.weights.payload_kg + spec.weights.crew_kg
     residual = takeoff_mass_kg - (fixed_kg + fuel.fuel_mass_kg + masses.empty_kg)
     # negative fuel (L/D < 0) is no closure
     residual = np.where(fuel.fuel_mass_kg >= 0.0, residual, np.nan)
-    return MassState(residual, s_ref, span, e_cr, k_cr, rated, fuel, masses)
+    return MassState(residual, s_ref, span, e_cr, k_cr, rated, fuel, masses, components)
 
 
 def _residual(c, takeoff_mass_kg, ix):

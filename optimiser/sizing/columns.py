@@ -71,6 +71,27 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
         "cd0": np.full_like(ws_c, ap.drag.cd0),
         "cd0_takeoff": ap.polar.cd0_takeoff,
         "cd0_landing": ap.polar.cd0_landing,
+    })
+    comp = sized.components
+    if comp is not None:
+        out.update({
+            "cd0_build_up": comp.cd0,
+            "wetted_area_m2": comp.wing_wetted_area_m2 + comp.fuselage_wetted_area_m2
+            + comp.tail_wetted_area_m2 + comp.nacelle_wetted_area_m2,
+            "wing_wetted_area_m2": comp.wing_wetted_area_m2,
+            "fuselage_wetted_area_m2": comp.fuselage_wetted_area_m2,
+            "horizontal_tail_area_m2": comp.horizontal_tail_area_m2,
+            "vertical_tail_area_m2": comp.vertical_tail_area_m2,
+            "tail_wetted_area_m2": comp.tail_wetted_area_m2,
+            "nacelle_wetted_area_m2": comp.nacelle_wetted_area_m2,
+            "wing_drag_area_m2": comp.wing_drag_area_m2,
+            "fuselage_drag_area_m2": comp.fuselage_drag_area_m2,
+            "tail_drag_area_m2": comp.tail_drag_area_m2,
+            "nacelle_drag_area_m2": comp.nacelle_drag_area_m2,
+            "misc_drag_area_m2": comp.misc_drag_area_m2,
+        })
+    tanks = sized.fuel_volume
+    out.update({
         "oswald_e": ap.polar.oswald_e,
         "oswald_e_cruise": st.oswald_e_cruise,
         "cl_max_clean": np.full_like(ws_c, spec.aerodynamics.cl_max_clean),
@@ -79,6 +100,9 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
         "cruise_lift_coefficient": fuel.mid_cruise_weight_N
         / (air.cruise_dynamic_pressure_Pa * ap.wing_area_m2),
         "cruise_lift_to_drag": fuel.cruise_lift_to_drag,
+        "wing_fuel_volume_m3": tanks.wing_m3,
+        "fuel_volume_m3": tanks.available_m3,
+        "fuel_volume_required_m3": tanks.required_m3,
         "density_takeoff_kg_m3": np.full_like(ws_c, air.density_takeoff_kg_m3),
         "density_landing_kg_m3": np.full_like(ws_c, air.density_landing_kg_m3),
         "density_cruise_kg_m3": np.full_like(ws_c, air.density_cruise_kg_m3),
@@ -124,6 +148,7 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
         out[f"margin_{c}"] = mg.matrix[:, k]
     seen: set = set()
     out = {k: finite(v, ws_c.shape, seen) for k, v in out.items()}
+    out["cd0_built_up"] = np.full(ws_c.shape, not ap.drag.pinned)
     out["oswald_mach_in_range"] = climb.ceiling_mach_in_range & ~cruise.at_mach_cap
     out["feasible"] = mg.feasible
     out["limiting_index"] = mg.limiting_index

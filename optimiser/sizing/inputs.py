@@ -69,7 +69,9 @@ def _clipped(column: str, values) -> np.ndarray:
 
 
 OVERRIDE_KEYS = {
-    "cd0_clean": "clean zero-lift drag coefficient [-] (replaces the study's value)",
+    "cd0_clean": "clean zero-lift drag coefficient [-] (pins it: replaces the study's value "
+                 "or its build-up)",
+    "cd0_scale": "multiplies the clean zero-lift drag coefficient, fixed or built up [-]",
     "oswald_factor_scale": "multiplies the Oswald factor of the study's method [-]",
     "propeller_efficiency_cruise": "cruise propeller efficiency [-] (propeller studies)",
     "propeller_efficiency_climb": "takeoff and climb propeller efficiency [-] (propeller studies)",

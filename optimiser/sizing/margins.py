@@ -41,7 +41,7 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     skipped = {name for name, _ in spec.requirements.skip_checks}
     if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
         names += [c for c in TRANSPORT_CLIMB_CHECKS if c not in skipped]
-    names += ["cruise_speed", "service_ceiling"]
+    names += ["cruise_speed", "service_ceiling", "fuel_volume"]
     return tuple(names)
 
 
@@ -59,7 +59,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        min_runway_acceleration_m_s2, stall_speed_m_s, takeoff_field_required_m,
                        landing_field_required_m, climb_rate_m_s, climb_gradient,
                        climb_gradient_required, oei_climb_gradient, transport_climb,
-                       cruise_speed_m_s, service_ceiling_m, model_range_margin=None) -> Margins:
+                       cruise_speed_m_s, service_ceiling_m, fuel_volume_required_m3,
+                       fuel_volume_available_m3, model_range_margin=None) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -87,6 +88,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         Highest level speed. [m s^-1]
     service_ceiling_m : ndarray
         [m]
+    fuel_volume_required_m3, fuel_volume_available_m3 : ndarray
+        Volume of the fuel carried and the usable tank volume. [m^3]
     model_range_margin : ndarray, optional
         How far inside the model's valid ranges each design was given
         (:class:`~optimiser.sizing.inputs.DesignBatch`) [-]. Where any is negative, the
@@ -116,6 +119,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         "oei_climb_gradient": oei_climb_gradient / max(cert.oei_climb_gradient_min, 1e-9) - 1.0,
         "cruise_speed": cruise_speed_m_s / spec.mission.cruise_speed_m_s - 1.0,
         "service_ceiling": service_ceiling_m / rq.service_ceiling_m - 1.0,
+        "fuel_volume": 1.0 - fuel_volume_required_m3 / np.maximum(fuel_volume_available_m3,
+                                                                 1e-9),
     }
     names = active_constraints(spec)
     outside = None

@@ -174,3 +174,9 @@ def test_density_falls_with_altitude(h, dh, dt):
 @given(h=st.floats(-5000.0, 20000.0), dt=st.floats(0.5, 40.0))
 def test_hotter_air_is_thinner(h, dt):
     assert atm.isa_density(h, dt) < atm.isa_density(h, 0.0)
+
+
+def test_sutherland_viscosity_against_the_table():
+    # U.S. Standard Atmosphere 1976, Table I (5 figures printed): mu at 0 m and 11 km
+    np.testing.assert_allclose(atm.dynamic_viscosity([288.15, 216.65]), [1.7894e-5, 1.4216e-5],
+                               rtol=5e-5)
