@@ -21,7 +21,7 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10
 from . import spec as S
 from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
-from .physics import aerodynamics, atmosphere, highlift, mission, performance
+from .physics import aerodynamics, atmosphere, geometry, highlift, mission, performance
 from .quantities import _Reader, _dimension_name, _suggest, units  # noqa: F401  (units: public)
 
 MAX_STUDY_BYTES = 1_000_000
@@ -42,7 +42,7 @@ VARIABLE_UNITS = {
 SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
                "seed": (int, 0, 2**32 - 1)}
 
-_UNIT_SUFFIXES = ("_kg_m2", "_m_s", "_kg", "_rad", "_K", "_m", "_s")
+_UNIT_SUFFIXES = ("_kg_m2", "_kg_m3", "_m_s", "_kg", "_rad", "_K", "_m", "_s")
 _SECTIONS = {
     "propulsion": S.Propulsion, "aerodynamics": S.Aerodynamics, "weights": S.Weights,
     "mission": S.Mission, "requirements": S.Requirements, "speeds": S.Speeds,
@@ -113,6 +113,7 @@ _CHOICES = {
     ("aerodynamics", "oswald_method"): tuple(aerodynamics.OSWALD_METHODS),
     ("aerodynamics", "ground_effect_method"): tuple(aerodynamics.GROUND_EFFECT_METHODS),
     ("aerodynamics", "landing_gear"): ("fixed", "retractable"),
+    ("weights", "mass_method"): S.MASS_METHODS,
     ("departure", "runway"): tuple(performance.RUNWAY_SURFACES),
     ("destination", "runway"): tuple(performance.RUNWAY_SURFACES),
 }
@@ -308,12 +309,27 @@ def _read_propulsion(rd: _Reader, raw: dict, basis: str):
     return family, prop
 
 
-def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop) -> tuple:
+def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop, basis: str) -> tuple:
     """[aerodynamics], [weights], [mission], [requirements] and [speeds], with defaults."""
     presets = S.FAMILY_DEFAULTS[family]
-    aero = _read_section(rd, "aerodynamics", raw["aerodynamics"], S.Aerodynamics,
-                         presets.get("aerodynamics", {}))
+    aero_preset = dict(presets.get("aerodynamics", {}))
+    aero_preset["horizontal_tail_volume"], aero_preset["vertical_tail_volume"] = \
+        geometry.TAIL_VOLUME_COEFFICIENTS[S.segment_class(family, prop.engine_count)]
+    aero = _read_section(rd, "aerodynamics", raw["aerodynamics"], S.Aerodynamics, aero_preset)
+    if aero.fuselage_length_m is None:
+        aero = replace(aero, fuselage_length_m=aero.fuselage_diameter_m
+                       * S.FUSELAGE_FINENESS[family])
+    elif aero.fuselage_length_m < 2.5 * aero.fuselage_diameter_m:
+        rd.fail("[aerodynamics] fuselage_length", f"got {aero.fuselage_length_m:g} m; expected "
+                f"at least 2.5 x the fuselage_diameter ({2.5 * aero.fuselage_diameter_m:g} m)")
     wts = _read_section(rd, "weights", raw["weights"], S.Weights, presets.get("weights", {}))
+    if family == "turbofan" and "engine_dry_specific_mass" in raw["weights"]:
+        rd.fail("[weights] engine_dry_specific_mass", "given for a turbofan study; expected it "
+                "only for piston or turboprop studies (turbofans use engine_thrust_to_weight)")
+    if wts.fixed_equipment_kg is None:
+        wts = replace(wts, fixed_equipment_kg=S.FIXED_EQUIPMENT_DEFAULTS[wts.mass_method][family])
+    if wts.flight_control_coefficient is None:
+        wts = replace(wts, flight_control_coefficient=S.FLIGHT_CONTROL_COEFFICIENT[basis])
     fr = mission.SEGMENT_FRACTIONS[S.segment_class(family, prop.engine_count)]
     mis_preset = dict(zip(("fraction_startup", "fraction_taxi", "fraction_takeoff",
                            "fraction_climb", "fraction_descent", "fraction_landing"), fr))
@@ -371,7 +387,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     raw = _read_toml(rd, text)
     name, description, basis = _read_names(rd, raw)
     family, prop = _read_propulsion(rd, raw, basis)
-    aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop)
+    aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop, basis)
     cert, req, dep, dst = _certification(rd, raw, basis, family, prop, req, mis)
     catalogue, slat_entry = _read_catalogue(rd, raw)
     all_names = [n for base in catalogue for n in (base, f"{base}+slats")]

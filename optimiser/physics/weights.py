@@ -437,22 +437,3 @@ def fuel_system_mass_torenbeek(fuel_volume, tank_count, engine_count):
     n_t = np.asarray(tank_count, float)
     return (80.0 * (engine_count + n_t - 1.0) + 15.0 * np.sqrt(n_t) * gal**0.333) * _LB
 
-
-def fuselage_wetted_area_torenbeek(length, diameter):
-    """Wetted area [m^2] of a fuselage of circular-like section by Torenbeek's closed form.
-
-    S = pi d l (1 - 2/lambda)^(2/3) (1 + 1/lambda^2), lambda = l/d (from memory).
-
-    Parameters
-    ----------
-    length, diameter : array_like
-        Fuselage length and equivalent diameter [m]; l/d > 2.
-
-    References
-    ----------
-    .. [1] E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, App. F (from memory).
-    """
-    length = np.asarray(length, float)
-    fineness = length / diameter
-    return np.pi * diameter * length * (1.0 - 2.0 / fineness) ** (2.0 / 3.0) \
-        * (1.0 + 1.0 / fineness**2)
