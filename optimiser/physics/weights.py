@@ -322,7 +322,8 @@ def landing_gear_mass_torenbeek(takeoff_mass, kind, wing_position_factor=1.0):
                          + ", ".join(repr(k) for k in GEAR_COEFFICIENTS_TORENBEEK))
     a, b, c, d = GEAR_COEFFICIENTS_TORENBEEK[kind]
     w = _lb(takeoff_mass)
-    return wing_position_factor * (a + b * w**0.75 + c * w + d * w**1.5) * _LB
+    root = np.sqrt(w)  # W^0.75 = sqrt(W sqrt(W)), W^1.5 = W sqrt(W): square roots are cheap
+    return wing_position_factor * (a + b * np.sqrt(w * root) + c * w + d * w * root) * _LB
 
 
 def flight_controls_mass_torenbeek(takeoff_mass, control_coefficient):
@@ -342,7 +343,7 @@ def flight_controls_mass_torenbeek(takeoff_mass, control_coefficient):
     .. [1] E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, sec. 8.4.4;
        reproduced in J. Roskam, "Airplane Design", Part V, ch. 7 (both from memory).
     """
-    return np.asarray(control_coefficient, float) * _lb(takeoff_mass) ** (2.0 / 3.0) * _LB
+    return np.asarray(control_coefficient, float) * np.cbrt(_lb(takeoff_mass)) ** 2 * _LB
 
 
 def tail_mass_torenbeek(area, dive_equivalent_airspeed, sweep_quarter_chord,

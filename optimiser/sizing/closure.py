@@ -105,7 +105,7 @@ class ComponentInputs:
     tail_arm_m: float
     cruise_eas_m_s: np.ndarray | float  # design cruise speed V_C (equivalent) [m s^-1]
     gear_kind: str  # "fixed", "retractable" or "business_jet" (Torenbeek's rows)
-    control_coefficient: float  # Torenbeek k_sc [lb^(1/3)], x1.2 with slats per design
+    control_coefficient: np.ndarray  # Torenbeek k_sc [lb^(1/3)] per design, x1.2 with slats
 
 
 @dataclass(frozen=True, slots=True)
@@ -138,7 +138,7 @@ def _tail_geometry(area_m2, aspect_ratio):
 
 
 def _component_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_kg,
-                      wing_area_m2, span_m, fuel_mass_kg, has_slats):
+                      wing_area_m2, span_m, fuel_mass_kg, ix):
     """Tails, fuselage, gear, fuel system and flight controls [kg] (class II)."""
     wt, ad = spec.weights, spec.aerodynamics
     n_ult = wt.ultimate_load_factor
@@ -168,8 +168,8 @@ def _component_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_k
                                                wt.fuel_tank_count, n_e)
     m_main = weights.landing_gear_mass_torenbeek(takeoff_mass_kg, parts.gear_kind + "_main")
     m_nose = weights.landing_gear_mass_torenbeek(takeoff_mass_kg, parts.gear_kind + "_nose")
-    k_sc = parts.control_coefficient * np.where(has_slats, 1.2, 1.0)  # Torenbeek: +20 % slats
-    m_fc = weights.flight_controls_mass_torenbeek(takeoff_mass_kg, k_sc)
+    m_fc = weights.flight_controls_mass_torenbeek(takeoff_mass_kg,
+                                                  parts.control_coefficient[ix])
     return m_ht, m_vt, m_fus, m_main, m_nose, m_fuel, m_fc
 
 
@@ -239,7 +239,7 @@ def mass_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_kg, win
     zero = np.zeros_like(takeoff_mass_kg)
     if parts.components:
         groups = _component_groups(spec, parts, takeoff_mass_kg, wing_area_m2, span_m,
-                                   fuel_mass_kg, hl.slat_area_ratio[ix] > 0.0)
+                                   fuel_mass_kg, ix)
         m_rest = zero
     else:
         groups = (zero,) * 7
@@ -251,7 +251,7 @@ def mass_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_kg, win
                       m_fixed, m_rest, empty)
 
 
-def component_inputs(spec: AircraftSpec, cruise_eas_m_s) -> ComponentInputs:
+def component_inputs(spec: AircraftSpec, cruise_eas_m_s, hl: HighLift) -> ComponentInputs:
     """Mass-independent geometry and speeds of the class II component masses.
 
     Parameters
@@ -261,6 +261,9 @@ def component_inputs(spec: AircraftSpec, cruise_eas_m_s) -> ComponentInputs:
         flight-control coefficient [-].
     cruise_eas_m_s : ndarray or float
         Design cruise speed as equivalent airspeed [m s^-1].
+    hl : HighLift
+        High-lift configuration of every design (slat area ratio [-]: Torenbeek's k_sc is
+        20 % higher with leading-edge slats).
 
     Returns
     -------
@@ -286,7 +289,8 @@ def component_inputs(spec: AircraftSpec, cruise_eas_m_s) -> ComponentInputs:
         fuselage_length_m=l_f, fuselage_diameter_m=d_f,
         fuselage_shell_area_m2=float(fuselage.wetted_area_m2),
         tail_arm_m=geometry.TAIL_ARM_FRACTION * l_f, cruise_eas_m_s=cruise_eas_m_s,
-        gear_kind=gear, control_coefficient=wt.flight_control_coefficient)
+        gear_kind=gear, control_coefficient=wt.flight_control_coefficient
+        * np.where(hl.slat_area_ratio > 0.0, 1.2, 1.0))
 
 
 @dataclass(frozen=True, slots=True)
@@ -336,7 +340,7 @@ def closure_inputs(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag:
         ad.thickness_ratio, ad.sweep_quarter_chord_rad, v_h_eas)
     emf = batch.overrides.get("empty_mass_factor", wt.empty_mass_factor)
     return ClosureInputs(spec, batch, air, drag, hl, consumption, wing_k, emf,
-                         component_inputs(spec, v_h_eas))
+                         component_inputs(spec, v_h_eas, hl))
 
 
 @dataclass(frozen=True, slots=True)
