@@ -343,7 +343,7 @@ def flight_controls_mass_torenbeek(takeoff_mass, control_coefficient):
     .. [1] E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, sec. 8.4.4;
        reproduced in J. Roskam, "Airplane Design", Part V, ch. 7 (both from memory).
     """
-    return np.asarray(control_coefficient, float) * np.cbrt(_lb(takeoff_mass)) ** 2 * _LB
+    return np.asarray(control_coefficient, float) * _lb(takeoff_mass) ** (2.0 / 3.0) * _LB
 
 
 def tail_mass_torenbeek(area, dive_equivalent_airspeed, sweep_quarter_chord,
