@@ -179,9 +179,9 @@ def evaluate_checked(study, table) -> pd.DataFrame:
     allowed = np.isin(frame["flap"].to_numpy(object), np.asarray(study.flaps, dtype=object))
     outside.append(np.where(allowed, "", "flap"))
     notes = [";".join(p for p in parts if p) for parts in zip(*outside)]
-    frame["within_bounds"] = [n == "" for n in notes]
-    frame["outside_bounds"] = notes
-    return frame
+    flags = pd.DataFrame({"within_bounds": [n == "" for n in notes], "outside_bounds": notes},
+                         index=frame.index)
+    return pd.concat([frame, flags], axis=1)  # one block added (no fragmented frame)
 
 
 def evaluated_csv_pieces(frame: pd.DataFrame, header: bool = True):

@@ -115,7 +115,7 @@ class Aerodynamics:
     oswald_method: str = _f("nita_scholz2012", doc="key of the Oswald-factor registry")
     oswald_k_ed0: float | None = _f(None, lo=0.6, hi=1.0, doc="Nita & Scholz k_e,D0")
     fuselage_diameter_m: float = _f(unit="m", lo=0.5, hi=8.0, required=True,
-                                    doc="for the Oswald factor (d_F / b)")
+                                    doc="for the Oswald factor (d_F / b) and the fuselage mass")
     taper_ratio: float = _f(0.6, lo=0.1, hi=1.0, doc="tip over root chord")
     sweep_quarter_chord_rad: float = _f(0.0, unit="rad", lo=0.0, hi=0.7,
                                         doc="quarter-chord sweep")
@@ -193,16 +193,30 @@ class Weights:
     ultimate_load_factor: float | None = _f(None, lo=2.0, hi=12.0,
                                             doc="n_ult for the wing mass")
     wing_mass_factor: float = _f(1.0, lo=0.3, hi=3.0, doc="calibration of the wing equation")
+    mass_method: str = _f("components", doc="components (class II masses by group) or "
+                          "fraction (structure and systems as a share of m_TO, class I)")
     structure_systems_fraction: float | None = _f(None, lo=0.05, hi=0.6,
-                                                  doc="fuselage, tails, gear, systems / m_TO")
+                                                  doc="fraction method: fuselage, tails, gear, "
+                                                  "systems / m_TO")
+    engine_dry_specific_mass: float | None = _f(
+        None, unit="kg/kW", lo=0.05, hi=2.0,
+        doc="components, Part 23 propellers: dry engine mass per rated power")
+    fuel_density_kg_m3: float | None = _f(None, unit="kg/m^3", lo=500.0, hi=1000.0,
+                                          doc="fuel density, for the fuel volume and the "
+                                          "fuel-system mass; default 0.72 kg/l avgas "
+                                          "(piston), 0.80 kg/l kerosene")
+    fuel_tank_count: int = _f(2, lo=1, hi=12, doc="separate fuel tanks (fuel-system mass)")
+    integral_tank_fraction: float | None = _f(None, lo=0.0, hi=1.0,
+                                              doc="share of the fuel in integral (wet) tanks")
+    flight_control_coefficient: float | None = _f(
+        None, lo=0.1, hi=1.0, doc="Torenbeek k_sc of the flight-control mass; default "
+        "0.23 (Part 23) or 0.44 (Part 25)")
     fixed_equipment_kg: float | None = _f(None, unit="kg", lo=0.0, hi=20000.0,
-                                          doc="avionics, furnishings and other fixed items")
+                                          doc="avionics, electrical, furnishings and other "
+                                          "fixed items; default by family and mass method")
     actuator_unit_mass_kg: float = _f(3.0, unit="kg", lo=0.0, hi=200.0,
                                       doc="mass of one high-lift actuator (per side)")
     empty_mass_factor: float = _f(1.0, lo=0.5, hi=2.0, doc="multiplies the whole empty mass")
-    fuel_density_kg_m3: float | None = _f(None, unit="kg/m^3", lo=500.0, hi=1000.0,
-                                          doc="fuel density for the fuel volume; default "
-                                          "0.72 kg/l avgas (piston), 0.80 kg/l jet fuel")
     mass_limit_ratio: float = _f(40.0, lo=2.0, hi=200.0,
                                  doc="closure search stops at this multiple of payload + crew")
 
@@ -358,8 +372,10 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
         # cd0: GA 0.020-0.035 [common practice]; CLmax single prop 1.3-1.9, Roskam Pt I Tbl 3.1
         # [from memory]; k_eD0 GA, Nita & Scholz 2012 [from memory]
         "weights": dict(ultimate_load_factor=5.7,   # 1.5 x 3.8, normal category [from memory]
-                        structure_systems_fraction=0.27, fixed_equipment_kg=60.0,
-                        fuel_density_kg_m3=720.0),  # avgas 0.72 kg/l [common practice]
+                        structure_systems_fraction=0.27,
+                        engine_dry_specific_mass=0.90,   # dry piston 0.85-1.0 kg/kW [common practice]
+                        fuel_density_kg_m3=720.0,        # avgas [common practice]
+                        integral_tank_fraction=0.5),     # wet and bladder tanks mixed [common practice]
         # structure/systems share calibrated so that the demo's empty fraction is 0.55-0.65,
         # the range of Roskam Pt I Table 2.15 for single props [common practice]
         "geometry": dict(fixed_gear_drag_area_m2=0.15, cooling_drag_fraction=0.08,
@@ -379,8 +395,9 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
             engine_specific_mass=0.45),        # 0.25 kg/kW dry x 1.8 with propeller [common practice]
         "aerodynamics": dict(cd0_clean=0.024, cl_max_clean=1.5, oswald_k_ed0=0.804),
         "weights": dict(ultimate_load_factor=5.7, structure_systems_fraction=0.30,
-                        fixed_equipment_kg=450.0,
-                        fuel_density_kg_m3=800.0),  # jet fuel 0.80 kg/l [common practice]
+                        engine_dry_specific_mass=0.25,   # dry turboprop 0.20-0.30 kg/kW [common practice]
+                        fuel_density_kg_m3=800.0,        # kerosene [common practice]
+                        integral_tank_fraction=1.0),     # wet wing [common practice]
         "geometry": dict(fixed_gear_drag_area_m2=0.30, cooling_drag_fraction=0.02,
                          leakage_protuberance_fraction=0.06, wing_fuel_share=0.70),
         # fixed gear (rare) of a commuter's wheel size; oil cooler and intakes 1-3 %; leaks
@@ -396,14 +413,39 @@ FAMILY_DEFAULTS: dict[str, dict[str, dict[str, Any]]] = {
         "aerodynamics": dict(cd0_clean=0.020, cl_max_clean=1.4, oswald_k_ed0=0.873),
         # jets 0.015-0.020 [common practice]; business jet CLmax 1.4-1.8 Roskam Tbl 3.1 [from memory]
         "weights": dict(ultimate_load_factor=3.75,  # 1.5 x 2.5, 14 CFR 25.337 [from memory]
-                        structure_systems_fraction=0.32, fixed_equipment_kg=600.0,
-                        fuel_density_kg_m3=800.0),  # jet fuel 0.80 kg/l [common practice]
+                        structure_systems_fraction=0.32,
+                        fuel_density_kg_m3=800.0,        # kerosene [common practice]
+                        integral_tank_fraction=1.0),     # wet wing [common practice]
         "geometry": dict(fixed_gear_drag_area_m2=0.30, cooling_drag_fraction=0.0,
                          leakage_protuberance_fraction=0.04, wing_fuel_share=0.80),
         # no cooling drag beyond the nacelle; leaks and protuberances 3-5 %; integral wing
         # tanks over most of the span [all common practice]
     },
 }
+
+FUSELAGE_FINENESS = {"piston": 6.5, "turboprop": 8.0, "turbofan": 7.5}
+"""Fuselage length over diameter where a study gives no ``[geometry] fuselage_length`` (the
+component masses need one; the clean CD0 is then pinned) [common practice:
+light singles 6-7, commuters and light jets 7-9]."""
+
+FLIGHT_CONTROL_COEFFICIENT = {"part23": 0.23, "part25": 0.44}
+"""Torenbeek's k_sc by basis: light airplanes without duplicated controls; transports with
+manual controls (Synthesis 1982, sec. 8.4.4) [from memory]."""
+
+FIXED_EQUIPMENT_DEFAULTS = {
+    # avionics, electrical, furnishings, air conditioning and other fixed items [kg]
+    "components": {"piston": 150.0, "turboprop": 850.0, "turbofan": 600.0},
+    # 10-15 % of a typical takeoff mass of the class (a six-seat single of about 1 500 kg,
+    # a 19-seat commuter of about 6 000 kg, a light jet of about 4 000 kg), METHODS.md sec. 5
+    # [common practice]
+    "fraction": {"piston": 60.0, "turboprop": 450.0, "turbofan": 600.0},
+    # beside the class I share, which carries the systems [common practice]
+}
+"""Default ``[weights] fixed_equipment`` by mass method and family."""
+
+MASS_METHODS = ("components", "fraction")
+"""``[weights] mass_method``: class II masses by group (default) or the class I share."""
+
 
 def segment_class(family: str, engine_count: int) -> str:
     """Row of the segment-fraction table for a family and engine count."""

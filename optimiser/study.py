@@ -117,6 +117,7 @@ _CHOICES = {
     ("aerodynamics", "ground_effect_method"): tuple(aerodynamics.GROUND_EFFECT_METHODS),
     ("aerodynamics", "landing_gear"): ("fixed", "retractable"),
     ("aerodynamics", "cd0_method"): S.CD0_METHODS,
+    ("weights", "mass_method"): S.MASS_METHODS,
     ("departure", "runway"): tuple(performance.RUNWAY_SURFACES),
     ("destination", "runway"): tuple(performance.RUNWAY_SURFACES),
 }
@@ -312,12 +313,19 @@ def _read_propulsion(rd: _Reader, raw: dict, basis: str):
     return family, prop
 
 
-def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop) -> tuple:
+def _read_airplane_sections(rd: _Reader, raw: dict, family: str, prop, basis: str) -> tuple:
     """[aerodynamics], [weights], [mission], [requirements] and [speeds], with defaults."""
     presets = S.FAMILY_DEFAULTS[family]
     aero = _read_section(rd, "aerodynamics", raw["aerodynamics"], S.Aerodynamics,
                          presets.get("aerodynamics", {}))
     wts = _read_section(rd, "weights", raw["weights"], S.Weights, presets.get("weights", {}))
+    if family == "turbofan" and "engine_dry_specific_mass" in raw["weights"]:
+        rd.fail("[weights] engine_dry_specific_mass", "given for a turbofan study; expected it "
+                "only for piston or turboprop studies (turbofans use engine_thrust_to_weight)")
+    if wts.fixed_equipment_kg is None:
+        wts = replace(wts, fixed_equipment_kg=S.FIXED_EQUIPMENT_DEFAULTS[wts.mass_method][family])
+    if wts.flight_control_coefficient is None:
+        wts = replace(wts, flight_control_coefficient=S.FLIGHT_CONTROL_COEFFICIENT[basis])
     fr = mission.SEGMENT_FRACTIONS[S.segment_class(family, prop.engine_count)]
     mis_preset = dict(zip(("fraction_startup", "fraction_taxi", "fraction_takeoff",
                            "fraction_climb", "fraction_descent", "fraction_landing"), fr))
@@ -407,7 +415,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     raw = _read_toml(rd, text)
     name, description, basis = _read_names(rd, raw)
     family, prop = _read_propulsion(rd, raw, basis)
-    aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop)
+    aero, wts, mis, req, speeds = _read_airplane_sections(rd, raw, family, prop, basis)
     aero, geo = _read_geometry(rd, raw, family, prop, aero)
     cert, req, dep, dst = _certification(rd, raw, basis, family, prop, req, mis)
     catalogue, slat_entry = _read_catalogue(rd, raw)

@@ -89,7 +89,8 @@ def test_family_defaults_fill_every_optional_field():
                 family = spec.propulsion.family
                 irrelevant = (family == "turbofan" and f.name in (
                     "sfc_cruise", "propeller_efficiency_cruise", "propeller_efficiency_climb",
-                    "propeller_rpm_cruise", "propeller_rpm_takeoff", "engine_specific_mass")) or (
+                    "propeller_rpm_cruise", "propeller_rpm_takeoff", "engine_specific_mass",
+                    "engine_dry_specific_mass")) or (
                     family != "turbofan" and f.name in (
                         "tsfc_cruise", "engine_thrust_to_weight", "engine_installation_factor"))
                 assert value is not None or irrelevant, f"{name}: {f.name} is None"

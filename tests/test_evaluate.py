@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 
 import optimiser
-from optimiser.study import StudyError, load_study
+from optimiser.study import StudyError, load_study, parse_study
 
 PROBLEMS = Path(__file__).resolve().parents[1] / "problems"
 NAMES = ("high_strip_utility", "twin_turboprop_commuter", "light_twin_jet")
@@ -170,12 +170,9 @@ def test_mass_closure_by_hand(studies, samples):
     # fuel = trip + reserve + trapped (0.5 % of m_TO, Roskam Pt I, from memory)
     assert r["trip_fuel_kg"] + r["reserve_fuel_kg"] + 0.005 * m_to == pytest.approx(fuel,
                                                                                    rel=1e-9)
-    # empty = wing + engine + high lift + (structure/systems share x m_TO + fixed equipment)
-    assert (r["wing_mass_kg"] + r["engine_mass_kg"] + r["high_lift_mass_kg"]
-            + r["structure_systems_mass_kg"]) == pytest.approx(empty, rel=1e-9)
-    # piston family: 0.27 m_TO + 60 kg, and 1.35 kg per installed kW (spec.FAMILY_DEFAULTS)
-    assert r["structure_systems_mass_kg"] == pytest.approx(0.27 * m_to + 60.0, rel=1e-9)
-    assert r["engine_mass_kg"] == pytest.approx(1.35 * m_to * G0 / 73.0, rel=1e-9)
+    # empty = the sum of the mass groups (empty_mass_factor 1); components: no class I share
+    assert sum(r[c] for c in MASS_GROUP_COLUMNS) == pytest.approx(empty, rel=1e-9)
+    assert r["structure_systems_mass_kg"] == 0.0
     assert r["flap"] == "none" and r["high_lift_mass_kg"] == 0.0
     # trip fuel by the Breguet range equation (propeller form, Anderson, "Aircraft Performance
     # and Design", 1999, ch. 5, from memory): W_i / W_f = exp(R g c / (eta L/D)), at the mid-cruise L/D,
@@ -399,3 +396,77 @@ def test_caution_text_is_the_documented_one():
     assert optimiser.CAUTION.startswith("Conceptual-design estimates only")
     assert "not for certification" in optimiser.CAUTION
     assert "\n" not in optimiser.CAUTION
+
+
+MASS_GROUP_COLUMNS = ("wing_mass_kg", "engine_mass_kg", "high_lift_mass_kg",
+                      "horizontal_tail_mass_kg", "vertical_tail_mass_kg", "fuselage_mass_kg",
+                      "main_gear_mass_kg", "nose_gear_mass_kg", "fuel_system_mass_kg",
+                      "flight_controls_mass_kg", "fixed_equipment_mass_kg",
+                      "structure_systems_mass_kg")
+
+
+def test_class_ii_build_up_of_the_default_study_by_hand(studies, samples):
+    """The first sample design of the default study (Part 23 piston single, fixed gear),
+    every component mass recomputed here from its equation in native units with the
+    geometry derived by hand (a self-consistency check of the build-up, not a published
+    worked example: none could be checked against its page)."""
+    study, r = studies["high_strip_utility"], samples["high_strip_utility"].iloc[0]
+    lb, ft, kt = 0.45359237, 0.3048, 1852.0 / 3600.0   # exact definitions
+    w = r["takeoff_mass_kg"] / lb
+    n = 5.7  # 1.5 x 3.8 (family default)
+    s, b = r["wing_area_m2"], r["span_m"]
+    # geometry (physics/geometry.py, common practice): fuselage 1.3 m x 6.5 = 8.45 m, tail
+    # arm half of it; V_H 0.65, V_V 0.045 (single-engine prop); tails A 4.5 and 1.5, taper
+    # 0.5, t/c 0.12; mean aerodynamic chord of the taper-0.6 wing
+    l_f, d_f = 1.3 * 6.5, 1.3
+    arm = 0.5 * l_f
+    c_r = 2 * s / (b * 1.6)
+    mac = 2 / 3 * c_r * (1 + 0.6 + 0.36) / 1.6
+    s_h, s_v = 0.65 * s * mac / arm, 0.045 * s * b / arm
+    b_h, b_v = (4.5 * s_h) ** 0.5, (1.5 * s_v) ** 0.5
+    t_h, t_v = 0.12 * 2 * s_h / (b_h * 1.5), 0.12 * 2 * s_v / (b_v * 1.5)
+    load = w * n / 1e5
+    ht = 127 * (load**0.87 * (s_h / ft**2 / 100) ** 1.2 * (arm / ft / 10) ** 0.483
+                * (b_h / t_h) ** 0.5) ** 0.458
+    vt = 98.5 * (load**0.87 * (s_v / ft**2 / 100) ** 1.2 * (b_v / t_v) ** 0.5) ** 0.458
+    v_c = 125.0 * (r["density_cruise_kg_m3"] / 1.225) ** 0.5  # KEAS of 125 kn TAS at 8000 ft
+    fus = 200 * (load**0.286 * (l_f / ft / 10) ** 0.857 * (2 * d_f / ft / 10)
+                 * (v_c / 100) ** 0.338) ** 1.1
+    gal = r["fuel_mass_kg"] / 720.0 / 3.785411784e-3  # avgas 720 kg/m^3
+    fuel_sys = 2.49 * (gal**0.6 * (1 / 1.5) ** 0.3 * 2**0.2 * 1**0.13) ** 1.21
+    main = 20 + 0.10 * w**0.75 + 0.019 * w
+    nose = 25 + 0.0024 * w
+    controls = 0.23 * w ** (2 / 3)
+    dry = r["engine_power_kW"] * 0.9 / lb  # 0.9 kg/kW dry
+    engine = 2.575 * dry**0.922
+    for column, value_lb in (("horizontal_tail_mass_kg", ht), ("vertical_tail_mass_kg", vt),
+                             ("fuselage_mass_kg", fus), ("fuel_system_mass_kg", fuel_sys),
+                             ("main_gear_mass_kg", main), ("nose_gear_mass_kg", nose),
+                             ("flight_controls_mass_kg", controls),
+                             ("engine_mass_kg", engine)):
+        # rel 1e-6: the cruise EAS here uses rho0 1.225 rounded and knots for m/s
+        assert r[column] == pytest.approx(value_lb * lb, rel=1e-5), column
+    assert r["fixed_equipment_mass_kg"] == 150.0  # components default, piston
+    assert sum(r[c] for c in MASS_GROUP_COLUMNS) == pytest.approx(r["empty_mass_kg"],
+                                                                   rel=1e-9)
+
+
+def test_fraction_method_is_the_class_i_share():
+    """mass_method = "fraction": the structure-and-systems share and the installed engine
+    by specific mass (spec.FAMILY_DEFAULTS: 0.27 m_TO, 60 kg fixed, 1.35 kg/kW; common
+    practice), every component group zero."""
+    text = (PROBLEMS / "high_strip_utility.toml").read_text(encoding="utf-8").replace(
+        "[weights]\n", '[weights]\nmass_method = "fraction"\n')
+    study = parse_study(text)
+    r = optimiser.evaluate(study, pd.DataFrame({"wing_loading_N_m2": [900.0], "power_loading_N_kW": [73.0],
+                                      "aspect_ratio": [8.0], "flap": ["none"]})).iloc[0]
+    m_to = r["takeoff_mass_kg"]
+    assert r["structure_systems_mass_kg"] == pytest.approx(0.27 * m_to, rel=1e-9)
+    assert r["fixed_equipment_mass_kg"] == 60.0
+    assert r["engine_mass_kg"] == pytest.approx(1.35 * m_to * G0 / 73.0, rel=1e-9)
+    for c in ("horizontal_tail_mass_kg", "vertical_tail_mass_kg", "fuselage_mass_kg",
+              "main_gear_mass_kg", "nose_gear_mass_kg", "fuel_system_mass_kg",
+              "flight_controls_mass_kg"):
+        assert r[c] == 0.0
+    assert sum(r[c] for c in MASS_GROUP_COLUMNS) == pytest.approx(r["empty_mass_kg"],
+                                                                   rel=1e-9)

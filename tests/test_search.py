@@ -194,9 +194,10 @@ def test_front_reaches_dense_reference_and_beats_random(study, tmp_path):
     cols = list(study.objective_columns())
     scales = reference_scales(study)
     hv_ref = hypervolume(_dense_reference(study, 25), scales)
-    # 20 generations: with 10 the threshold held only at the default seed (0.94 of the
-    # dense hypervolume; 0.78 and 0.73 at seeds 2 and 3 on the same model)
-    result = optimiser.optimise(study, out=tmp_path / "q", population=60, generations=20,
+    # 30 generations: with 10 the threshold held only at the default seed (0.94 of the
+    # dense hypervolume; 0.78 and 0.73 at seeds 2 and 3 on the same model); with the class
+    # II component masses 20 generations reach 0.79, 30 reach 0.93 and 40 reach 0.95
+    result = optimiser.optimise(study, out=tmp_path / "q", population=60, generations=30,
                                 plots=False)
     hv = hypervolume(result.front[cols].to_numpy(float), scales)
     rng = np.random.default_rng(12345)

@@ -272,23 +272,23 @@ def _power_loading_lb_hp(frame):
     return frame["power_loading_N_kW"] / LB_PER_HP
 
 
-# (study, quantity, low, high). Observed on this sample (min - max of the feasible designs):
-#   piston (2950 feasible): L/D 7.42 - 14.9, empty fraction 0.58 - 0.80, e 0.76 - 0.79,
-#     7.5 - 14.5 lb/hp, takeoff mass 1860 - 8340 kg
-#   turboprop (6899): L/D 9.3 - 16.9, empty fraction 0.53 - 0.695 (0.708 on another seed),
-#     e 0.74 - 0.78, 4.2 - 12.1 lb/hp, takeoff mass 6070 - 16400 kg
-#   jet (1974): L/D 9.6 - 15.9, empty fraction 0.60 - 0.65, e 0.80 - 0.84 (cruise 0.77 -
-#     0.81), T/W 0.42 - 0.60, takeoff mass 5210 - 16700 kg
+# (study, quantity, low, high). Observed on this sample (min - max of the feasible designs),
+# with the class II component masses (mass_method = "components"; the class I share before
+# gave piston 0.58 - 0.80, turboprop 0.53 - 0.695, jet 0.60 - 0.65):
+#   piston (2741 feasible): empty fraction 0.571 - 0.753 (10th to 90th percentile 0.60 -
+#     0.68), takeoff mass 1815 - 5405 kg
+#   turboprop (2679): empty fraction 0.525 - 0.615, takeoff mass 6280 - 10150 kg
+#   jet (1151): empty fraction 0.528 - 0.577, takeoff mass 3920 - 5750 kg
 SPIRAL = ("feasible mass-spiral designs: heavy engines at low W/P snowball the takeoff mass "
-          "(2.7 to 4.5 x the lightest feasible design) and no constraint refuses them; "
-          "reported, band not widened")
+          "(up to 3 x the lightest feasible design; empty fraction up to 0.75) and no "
+          "constraint refuses them; reported, band not widened")
 BANDS = [
     # cruise L/D roughly 8 to 17 (common practice). Lower edge 7: the single piston's fixed gear, strut-braced wing at a low
     # W/S (cruise CL 0.24) sits well below its best L/D; observed minimum 7.46.
     *[(n, "cruise_lift_to_drag", 7.0, 17.0) for n in NAMES],
     # empty-mass fraction 0.5 to 0.7 (Roskam Pt I Table 2.15, from memory)
     pytest.param("high_strip_utility", "empty_mass_fraction", 0.5, 0.7,
-                 marks=pytest.mark.xfail(strict=True, reason="observed up to 0.80; " + SPIRAL)),
+                 marks=pytest.mark.xfail(strict=True, reason="observed up to 0.753; " + SPIRAL)),
     ("twin_turboprop_commuter", "empty_mass_fraction", 0.5, 0.7),  # at the edge: max 0.695
     ("light_twin_jet", "empty_mass_fraction", 0.5, 0.7),
     # Oswald e 0.7 to 0.85 (common practice) at low speed and in cruise
@@ -319,16 +319,20 @@ def test_feasible_designs_land_in_their_class_ranges(feasible, name, quantity, l
     assert x.max() <= high, f"{name} {quantity}: max {x.max():.4g} above {high}"
 
 
-@pytest.mark.parametrize("name", [
-    pytest.param("high_strip_utility", marks=pytest.mark.xfail(
-        strict=True, reason="90th percentile 0.73; " + SPIRAL)),
-    "twin_turboprop_commuter", "light_twin_jet"])
+@pytest.mark.parametrize("name", NAMES)
 def test_typical_feasible_designs_are_in_the_empty_fraction_band(feasible, name):
     """The central 80 % of the feasible designs (10th to 90th percentile) of every demo,
     against the empty-mass fraction band 0.5 to 0.7 (Roskam Pt I Table 2.15, from memory)."""
     p10, p90 = np.percentile(feasible[name]["empty_mass_fraction"], [10, 90])
     assert p10 >= 0.5, p10
     assert p90 <= 0.7, p90
+
+
+def test_default_study_median_empty_fraction_in_the_general_aviation_range(feasible):
+    """The single piston's median feasible design against the general-aviation empty-mass
+    fraction 0.55 to 0.65 (METHODS.md sec. 8, from the Roskam Pt I Table 2.15 regressions,
+    from memory); observed 0.632 with the class II component masses."""
+    assert 0.55 <= np.median(feasible["high_strip_utility"]["empty_mass_fraction"]) <= 0.65
 
 
 # --- lift-off speed -------------------------------------------------------------------------
@@ -410,3 +414,82 @@ def test_piston_cruise_speed_is_where_thrust_equals_drag():
 
     assert np.all(excess(v[sel] - 1e-3) >= 0.0)
     assert np.all(excess(v[sel] + 1e-3) < 0.0)
+
+
+# --- class II masses: a bigger fuselage, and never a NaN inside the mass groups -------------
+
+def _sized_pair(study, u, flap_pick, **aero_changes):
+    import dataclasses
+    spec = study.spec
+    x = [np.array([v.lower + ui * (v.upper - v.lower)]) for v, ui in zip(study.variables, u)]
+    flap = np.array([flap_pick % len(spec.high_lift_names)])
+    changed = dataclasses.replace(spec, aerodynamics=dataclasses.replace(
+        spec.aerodynamics, **aero_changes))
+    return size_designs(spec, *x, flap), size_designs(changed, *x, flap)
+
+
+@pytest.mark.parametrize("name", NAMES)
+@settings(**SETTINGS)
+@given(u=st.tuples(st.floats(0, 1), st.floats(0, 1), st.floats(0, 1)),
+       wider=st.floats(1.01, 1.4), flap_pick=st.integers(0, 10**6))
+def test_a_wider_fuselage_never_lowers_the_empty_mass(name, u, wider, flap_pick):
+    """Same design variables and fuselage length, a wider fuselage: a heavier fuselage
+    (USAF (w + h)^1.1; Torenbeek S_G^1.2 / sqrt(w + h), S_G about pi d l) and a lower Oswald
+    factor (d_F / b, Nita & Scholz) -- more empty mass and more fuel, and the extra mass
+    snowballs through the closure."""
+    ad = STUDIES[name].spec.aerodynamics
+    base, big = _sized_pair(STUDIES[name], u, flap_pick,
+                            fuselage_diameter_m=ad.fuselage_diameter_m * wider)
+    if base["margin_mass_closure"][0] < 0 or big["margin_mass_closure"][0] < 0:
+        return  # no closure: the mass is the search limit, not an empty mass
+    assert big["fuselage_mass_kg"][0] > base["fuselage_mass_kg"][0]
+    assert big["empty_mass_kg"][0] >= base["empty_mass_kg"][0] * (1 - 1e-12)
+
+
+@pytest.mark.parametrize("name", NAMES)
+@settings(**SETTINGS)
+@given(u=st.tuples(st.floats(0, 1), st.floats(0, 1), st.floats(0, 1)),
+       longer=st.floats(1.01, 1.6), flap_pick=st.integers(0, 10**6))
+def test_a_longer_fuselage_is_heavier_and_its_longer_arm_shrinks_the_tails(name, u, longer,
+                                                                           flap_pick):
+    """A longer fuselage at the same takeoff mass is heavier, and the tail arm (half its
+    length) grows, so the tails sized by their volume coefficients shrink. The empty mass
+    is NOT monotone in the length: where the wing is huge (W/S at its lower bound, a
+    mass-spiral design) the tails outweigh the fuselage and a longer fuselage lightens the
+    airplane (found by this test's first version: 5691 -> 5691 - 0.7 kg); so only the
+    groups are checked here, at the first closure state's mass."""
+    from optimiser.physics import weights as w
+    ad = STUDIES[name].spec.aerodynamics
+    base, big = _sized_pair(STUDIES[name], u, flap_pick,
+                            fuselage_length_m=ad.fuselage_length_m * longer)
+    if base["margin_mass_closure"][0] < 0 or big["margin_mass_closure"][0] < 0:
+        return
+    if big["takeoff_mass_kg"][0] >= base["takeoff_mass_kg"][0]:
+        assert big["fuselage_mass_kg"][0] > base["fuselage_mass_kg"][0]
+    # at one mass and wing: the tails fall with the arm (S_t ~ 1 / l_t)
+    m, s = base["takeoff_mass_kg"][0], base["wing_area_m2"][0]
+    arm = 0.5 * ad.fuselage_length_m
+    t1 = w.horizontal_tail_mass_usaf(m, 5.7, 0.2 * s, arm, 3.0, 0.1)
+    t2 = w.horizontal_tail_mass_usaf(m, 5.7, 0.2 * s / longer, arm * longer, 3.0 / longer**0.5,
+                                     0.1 / longer**0.5)
+    assert t2 < t1
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_mass_groups_of_100000_random_designs_are_finite_before_any_cleaning(name):
+    """The raw groups of the closure (before the output's NaN safety net), for designs in
+    and around the bounds: finite and not negative."""
+    from optimiser.sizing import size_batch
+    study = STUDIES[name]
+    rng = np.random.default_rng(7)
+    n = 100_000
+    x = [10 ** rng.uniform(np.log10(v.lower) - 0.5, np.log10(v.upper) + 0.5, n)
+         for v in study.variables]
+    flaps = rng.integers(0, len(study.spec.high_lift_names), n)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        masses = size_batch(study.spec, *x, flaps).closure.state.masses
+    import dataclasses
+    for f in dataclasses.fields(masses):
+        a = getattr(masses, f.name)
+        assert np.isfinite(a).all() and (a >= 0).all(), f.name

@@ -211,7 +211,10 @@ def test_family_defaults_fill_omitted_values(default_study, turboprop_study, jet
     assert tp.sfc_cruise == pytest.approx(8.33e-8, rel=1e-9)
     assert tp.sfc_cruise == pytest.approx(0.30 / 3.6e6, rel=1e-3)
     assert tp.propeller_efficiency_cruise == pytest.approx(0.85)
-    assert turboprop_study.spec.weights.fixed_equipment_kg == pytest.approx(450.0)
+    # fixed equipment by mass method and family (spec.FIXED_EQUIPMENT_DEFAULTS, common
+    # practice): components (the default) 850 kg for a turboprop
+    assert turboprop_study.spec.weights.mass_method == "components"
+    assert turboprop_study.spec.weights.fixed_equipment_kg == pytest.approx(850.0)
     # turbofan: engine T/W 5.0, installation factor 1.3, n_ult 3.75 = 1.5 x 2.5 (14 CFR 25.337)
     jp = jet_study.spec.propulsion
     assert jp.engine_thrust_to_weight == pytest.approx(5.0)
@@ -226,7 +229,7 @@ def test_family_defaults_fill_omitted_values(default_study, turboprop_study, jet
                 if name in ("sfc_cruise", "tsfc_cruise", "propeller_efficiency_cruise",
                             "propeller_efficiency_climb", "propeller_rpm_cruise", "propeller_rpm_takeoff",
                             "engine_specific_mass", "engine_thrust_to_weight",
-                            "engine_installation_factor"):
+                            "engine_installation_factor", "engine_dry_specific_mass"):
                     continue  # the other family's keys stay None
                 assert value is not None, f"{study.name}: {type(part).__name__}.{name}"
 

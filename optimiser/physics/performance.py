@@ -149,7 +149,9 @@ def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground
     accel = G0 / w * (thrust_at(v) - q_s * cd - mu * normal)
     min_accel = accel.min(axis=1)
     a_eff = np.maximum(accel, min_acceleration)
-    distance = vlo * ((v / a_eff) @ _GL_W)
+    # a row sum, not a matrix product: BLAS sums a row in an order that depends on its
+    # position in the batch, and a design must size the same in any batch (bit for bit)
+    distance = vlo * ((v / a_eff) * _GL_W).sum(axis=1)
     thrust_lo = thrust_at(vlo[:, None])[:, 0]
     return distance, min_accel, thrust_lo
 

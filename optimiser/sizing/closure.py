@@ -7,11 +7,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..physics import G0, mission, weights
+from ..physics import G0, geometry, mission, weights
 from ..physics import aerodynamics as aero
 from ..physics import atmosphere as atm
 from ..solvers import secant_in_bracket
-from ..spec import AircraftSpec
+from ..spec import FUSELAGE_FINENESS, AircraftSpec
 from .aero import AirStates, CleanDrag, HighLift, cruise_induced_drag
 from .engines import CruiseConsumption
 from .inputs import DesignBatch, at
@@ -84,46 +84,140 @@ def mission_fuel(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, induced_drag
     return MissionFuel(w_i, w_mid, ld_mid, trip, reserve, fuel)
 
 
+DIVE_OVER_CRUISE_SPEED = 1.25
+"""V_D / V_C: the least margin 14 CFR 25.335(b) allows, V_C / 0.8 [from memory]."""
+
+
+@dataclass(frozen=True, slots=True)
+class ComponentInputs:
+    """Mass-independent numbers of the class II component masses (one element per design
+    or one for all)."""
+
+    components: bool  # [weights] mass_method = "components"
+    transport: bool  # Part 25: Torenbeek's transport equations, else the USAF light set
+    fuselage_length_m: float
+    fuselage_diameter_m: float
+    fuselage_shell_area_m2: float  # wetted area, cylinder with conical nose and tail cone
+    tail_arm_m: float
+    cruise_eas_m_s: np.ndarray | float  # design cruise speed V_C (equivalent) [m s^-1]
+    gear_kind: str  # "fixed", "retractable" or "business_jet" (Torenbeek's rows)
+    control_coefficient: np.ndarray  # Torenbeek k_sc [lb^(1/3)] per design, x1.2 with slats
+
+
 @dataclass(frozen=True, slots=True)
 class MassGroups:
-    """Empty-mass groups (before the empty-mass factor) and the empty mass (after it)."""
+    """Empty-mass groups (before the empty-mass factor) and the empty mass (after it).
+
+    With ``mass_method = "fraction"`` the component groups are zero and
+    ``structure_systems_kg`` carries the class I share; with ``"components"`` it is zero."""
 
     wing_kg: np.ndarray
+    horizontal_tail_kg: np.ndarray
+    vertical_tail_kg: np.ndarray
+    fuselage_kg: np.ndarray
+    main_gear_kg: np.ndarray
+    nose_gear_kg: np.ndarray
     engine_kg: np.ndarray
+    fuel_system_kg: np.ndarray
+    flight_controls_kg: np.ndarray
     high_lift_kg: np.ndarray
+    fixed_equipment_kg: np.ndarray
     structure_systems_kg: np.ndarray
     empty_kg: np.ndarray
 
 
-def mass_groups(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, rated, wing_mass_coefficient,
-                hl: HighLift, empty_mass_factor, ix=slice(None)) -> MassGroups:
-    """Wing, engine, high-lift and remaining groups of the empty mass.
+def _tail_geometry(area_m2, aspect_ratio, thickness_ratio):
+    """Span [m] and root thickness [m] of a tail of this area [m^2], aspect ratio [-] and
+    thickness ratio [-] (the study's ``[geometry] tail_thickness_ratio``)."""
+    span = geometry.wing_span(area_m2, aspect_ratio)
+    return span, thickness_ratio * geometry.root_chord(area_m2, span,
+                                                            geometry.TAIL_TAPER_RATIO)
+
+
+def _component_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_kg,
+                      wing_area_m2, span_m, fuel_mass_kg, ix):
+    """Tails, fuselage, gear, fuel system and flight controls [kg] (class II)."""
+    wt, ad = spec.weights, spec.aerodynamics
+    n_ult = wt.ultimate_load_factor
+    mac = geometry.mean_aerodynamic_chord(
+        geometry.root_chord(wing_area_m2, span_m, ad.taper_ratio), ad.taper_ratio)
+    g = spec.geometry
+    s_h, s_v = geometry.tail_areas(wing_area_m2, mac, span_m, g.horizontal_tail_volume,
+                                   g.vertical_tail_volume, parts.tail_arm_m)
+    b_h, t_h = _tail_geometry(s_h, geometry.HORIZONTAL_TAIL_ASPECT_RATIO, g.tail_thickness_ratio)
+    b_v, t_v = _tail_geometry(s_v, geometry.VERTICAL_TAIL_ASPECT_RATIO, g.tail_thickness_ratio)
+    d_f, l_f = parts.fuselage_diameter_m, parts.fuselage_length_m
+    fuel_volume = fuel_mass_kg / wt.fuel_density_kg_m3
+    n_e = spec.propulsion.engine_count
+    if parts.transport:
+        v_d = DIVE_OVER_CRUISE_SPEED * parts.cruise_eas_m_s
+        m_ht = weights.tail_mass_torenbeek(s_h, v_d, ad.sweep_quarter_chord_rad)
+        m_vt = weights.tail_mass_torenbeek(s_v, v_d, ad.sweep_quarter_chord_rad)
+        m_fus = weights.fuselage_mass_torenbeek(v_d, parts.tail_arm_m, d_f, d_f,
+                                                parts.fuselage_shell_area_m2)
+        m_fuel = weights.fuel_system_mass_torenbeek(fuel_volume, wt.fuel_tank_count, n_e)
+    else:
+        m_ht = weights.horizontal_tail_mass_usaf(takeoff_mass_kg, n_ult, s_h, parts.tail_arm_m,
+                                                 b_h, t_h)
+        m_vt = weights.vertical_tail_mass_usaf(takeoff_mass_kg, n_ult, s_v, b_v, t_v)
+        m_fus = weights.fuselage_mass_usaf(takeoff_mass_kg, n_ult, l_f, d_f, d_f,
+                                           parts.cruise_eas_m_s)
+        m_fuel = weights.fuel_system_mass_usaf(fuel_volume, wt.integral_tank_fraction,
+                                               wt.fuel_tank_count, n_e)
+    m_main = weights.landing_gear_mass_torenbeek(takeoff_mass_kg, parts.gear_kind + "_main")
+    m_nose = weights.landing_gear_mass_torenbeek(takeoff_mass_kg, parts.gear_kind + "_nose")
+    m_fc = weights.flight_controls_mass_torenbeek(takeoff_mass_kg,
+                                                  parts.control_coefficient[ix])
+    return m_ht, m_vt, m_fus, m_main, m_nose, m_fuel, m_fc
+
+
+def mass_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_kg, wing_area_m2,
+                span_m, rated, fuel_mass_kg, wing_mass_coefficient, hl: HighLift,
+                empty_mass_factor, ix=slice(None)) -> MassGroups:
+    """The groups of the empty mass: class II components, or the class I share.
 
     Parameters
     ----------
     spec : AircraftSpec
-        Resolved study: engine mass data, structure-and-systems fraction [-], fixed
-        equipment [kg].
-    takeoff_mass_kg, wing_area_m2 : ndarray
-        Takeoff mass [kg] and wing area [m^2] of designs ``ix``.
+        Resolved study: mass method, engine mass data, load factor [-], tail volumes [-],
+        fuel data (density [kg m^-3], tanks [-]), fixed equipment [kg], structure-and-systems
+        fraction [-] (fraction method).
+    parts : ComponentInputs
+        Mass-independent geometry and speeds of the component masses ([m], [m^2], [m s^-1]).
+    takeoff_mass_kg, wing_area_m2, span_m : ndarray
+        Takeoff mass [kg], wing area [m^2] and span [m] of designs ``ix``.
     rated : ndarray
         Sea-level static thrust [N] (turbofan) or rated power [W] of designs ``ix``.
+    fuel_mass_kg : ndarray
+        Fuel carried [kg] (sizes the fuel system) of designs ``ix``.
     wing_mass_coefficient : ndarray
         K of the wing mass K m^x, mass-independent, of designs ``ix``. [kg^(1-x)]
     hl : HighLift
         High-lift areas and masses of all designs (``ix`` picks them). [-], [kg m^-2], [kg]
     empty_mass_factor : ndarray or float
         Multiplies the sum of the groups (of designs ``ix``). [-]
+    ix : index array or slice, default all
+        Designs (rows of ``hl``) the masses belong to. [-]
 
     Returns
     -------
     MassGroups
         Group masses [kg] and the empty mass [kg].
 
+    Notes
+    -----
+    Components: the wing by the USAF light-aircraft equation; under Part 23 the USAF
+    light-airplane tails, fuselage, fuel system and (propeller families) installed
+    propulsion; under Part 25 Torenbeek's transport tails, fuselage and fuel system; for
+    both, Torenbeek's landing gear and flight controls. Turbofans and Part 25 propellers keep
+    the class I installed engine (specific mass or T/W with an installation factor, nacelles
+    included).
+
     References
     ----------
-    .. [1] USAF light-aircraft wing equation and the engine and high-lift masses of
-       :mod:`optimiser.physics.weights` (each cited there).
+    .. [1] The equations of :mod:`optimiser.physics.weights`, each cited there (USAF method
+       as in J. Roskam, "Airplane Design", Part V, and Nicolai & Carichner 2010, ch. 20;
+       E. Torenbeek, "Synthesis of Subsonic Airplane Design", 1982, ch. 8).
     """
     wt = spec.weights
     pr = spec.propulsion
@@ -131,14 +225,75 @@ def mass_groups(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, rated, wing_m
     if pr.family == "turbofan":
         m_eng = weights.turbofan_engine_mass(rated, pr.engine_thrust_to_weight,
                                              pr.engine_installation_factor)
+    elif parts.components and not parts.transport:
+        dry_kg = rated / 1e3 * wt.engine_dry_specific_mass / pr.engine_count
+        m_eng = weights.propulsion_installation_mass_usaf(dry_kg, pr.engine_count)
     else:
         m_eng = weights.propeller_engine_mass(rated, pr.engine_specific_mass)
     m_hl = weights.high_lift_mass(wing_area_m2, hl.flap_area_ratio[ix],
                                   hl.flap_mass_per_area_kg_m2[ix], hl.slat_area_ratio[ix],
                                   hl.slat_mass_per_area_kg_m2[ix], hl.actuator_mass_kg[ix])
-    m_rest = wt.structure_systems_fraction * takeoff_mass_kg + wt.fixed_equipment_kg
-    empty = empty_mass_factor * (m_wing + m_eng + m_hl + m_rest)
-    return MassGroups(m_wing, m_eng, m_hl, m_rest, empty)
+    m_fixed = np.full_like(takeoff_mass_kg, wt.fixed_equipment_kg)
+    zero = np.zeros_like(takeoff_mass_kg)
+    if parts.components:
+        groups = _component_groups(spec, parts, takeoff_mass_kg, wing_area_m2, span_m,
+                                   fuel_mass_kg, ix)
+        m_rest = zero
+    else:
+        groups = (zero,) * 7
+        m_rest = wt.structure_systems_fraction * takeoff_mass_kg
+    m_ht, m_vt, m_fus, m_main, m_nose, m_fuel, m_fc = groups
+    empty = empty_mass_factor * (m_wing + m_ht + m_vt + m_fus + m_main + m_nose + m_eng
+                                 + m_fuel + m_fc + m_hl + m_fixed + m_rest)
+    return MassGroups(m_wing, m_ht, m_vt, m_fus, m_main, m_nose, m_eng, m_fuel, m_fc, m_hl,
+                      m_fixed, m_rest, empty)
+
+
+def component_inputs(spec: AircraftSpec, cruise_eas_m_s, hl: HighLift) -> ComponentInputs:
+    """Mass-independent geometry and speeds of the class II component masses.
+
+    Parameters
+    ----------
+    spec : AircraftSpec
+        Resolved study: fuselage length and diameter [m], mass method, basis, gear, family,
+        flight-control coefficient [-].
+    cruise_eas_m_s : ndarray or float
+        Design cruise speed as equivalent airspeed [m s^-1].
+    hl : HighLift
+        High-lift configuration of every design (slat area ratio [-]: Torenbeek's k_sc is
+        20 % higher with leading-edge slats).
+
+    Returns
+    -------
+    ComponentInputs
+        Fuselage length, diameter [m] and shell area [m^2], tail arm [m], cruise EAS
+        [m s^-1], gear row and k_sc [lb^(1/3)].
+
+    References
+    ----------
+    .. [1] Fuselage as a cylinder with cones and the tail arm:
+       :mod:`optimiser.physics.geometry` (common practice; the cone lengths are this
+       module's constants).
+    """
+    ad, wt = spec.aerodynamics, spec.weights
+    g = spec.geometry
+    d_f = ad.fuselage_diameter_m
+    # the study's [geometry] fuselage length, else the family's fineness ratio (the clean
+    # CD0 is then pinned, but the fuselage and tail masses still need a length)
+    l_f = g.fuselage_length_m if g.fuselage_length_m is not None else \
+        d_f * FUSELAGE_FINENESS[spec.propulsion.family]
+    retractable = ad.landing_gear == "retractable"
+    gear = ("business_jet" if spec.propulsion.family == "turbofan" else "retractable") \
+        if retractable else "fixed"
+    fuselage = geometry.fuselage_geometry(l_f, d_f, g.nose_fineness, g.tailcone_fineness)
+    return ComponentInputs(
+        components=wt.mass_method == "components",
+        transport=spec.certification.basis == "part25",
+        fuselage_length_m=l_f, fuselage_diameter_m=d_f,
+        fuselage_shell_area_m2=float(fuselage.wetted_area_m2),
+        tail_arm_m=g.tail_arm_fraction * l_f, cruise_eas_m_s=cruise_eas_m_s,
+        gear_kind=gear, control_coefficient=wt.flight_control_coefficient
+        * np.where(hl.slat_area_ratio > 0.0, 1.2, 1.0))
 
 
 @dataclass(frozen=True, slots=True)
@@ -153,6 +308,7 @@ class ClosureInputs:
     consumption: CruiseConsumption
     wing_mass_coefficient: np.ndarray  # K of the wing mass K m^x [kg^(1-x)]
     empty_mass_factor: np.ndarray | float  # [-]
+    parts: ComponentInputs
 
 
 def closure_inputs(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
@@ -186,7 +342,8 @@ def closure_inputs(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag:
         batch.wing_loading_N_m2, wt.ultimate_load_factor, batch.aspect_ratio, ad.taper_ratio,
         ad.thickness_ratio, ad.sweep_quarter_chord_rad, v_h_eas)
     emf = batch.overrides.get("empty_mass_factor", wt.empty_mass_factor)
-    return ClosureInputs(spec, batch, air, drag, hl, consumption, wing_k, emf)
+    return ClosureInputs(spec, batch, air, drag, hl, consumption, wing_k, emf,
+                         component_inputs(spec, v_h_eas, hl))
 
 
 @dataclass(frozen=True, slots=True)
@@ -248,8 +405,9 @@ def mass_state(c: ClosureInputs, takeoff_mass_kg, ix=slice(None)) -> MassState:
                         CruiseConsumption(at(cons.propeller_efficiency, ix),
                                           at(cons.sfc_kg_J, ix), at(cons.tsfc_kg_N_s, ix)),
                         c.air)
-    masses = mass_groups(spec, takeoff_mass_kg, s_ref, rated, c.wing_mass_coefficient[ix],
-                         c.high_lift, at(c.empty_mass_factor, ix), ix)
+    masses = mass_groups(spec, c.parts, takeoff_mass_kg, s_ref, span, rated, fuel.fuel_mass_kg,
+                         c.wing_mass_coefficient[ix], c.high_lift, at(c.empty_mass_factor, ix),
+                         ix)
     fixed_kg = spec.weights.payload_kg + spec.weights.crew_kg
     residual = takeoff_mass_kg - (fixed_kg + fuel.fuel_mass_kg + masses.empty_kg)
     # negative fuel (L/D < 0) is no closure
