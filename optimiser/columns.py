@@ -101,6 +101,10 @@ COLUMNS = (
     _c("wing_area_m2", "geometry", "m^2", "reference wing area S = m g / (W/S)", archived=True,
         report_key=2),
     _c("span_m", "geometry", "m", "span b = sqrt(A S)", archived=True, report_key=3),
+    _c("aerodrome_code_letter", "geometry", "",
+        "aerodrome reference code letter of the span, ICAO Annex 14 Vol. I Table 1-1 (A below "
+        "15 m ... F below 80 m; empty from 80 m)", note=" (only with a max_span requirement)",
+        short="aerodrome code letter"),
     _c("engine_power_kW", "propulsion", "kW", "installed sea-level rated power, all engines",
         note=" (engine-size objective)", label="installed engine power, all engines [kW]",
         archived=True),
@@ -234,6 +238,7 @@ CONSTRAINTS = (
     Constraint("landing_climb", "Part 25 landing climb, all engines (25.119)"),
     Constraint("cruise_speed", "cruise speed at cruise altitude"),
     Constraint("service_ceiling", "service ceiling"),
+    Constraint("span", "wing span within the study's max_span"),
 )
 """Every constraint the model can check, in the order the model checks them."""
 
@@ -308,6 +313,9 @@ def markdown() -> str:
     lines += ["", "One `margin_<constraint>` column per active constraint (positive = met, as a "
               "fraction of its limit):", "", "| constraint | what it checks |", "|---|---|"]
     lines += [f"| `{c.name}` | {c.description} |" for c in CONSTRAINTS]
+    lines += ["", "A study may require a design margin on any active constraint "
+              "(`[requirements] margins`): the margin columns stay the raw margins, and a "
+              "design meets a constraint when `margin_<constraint>` >= its required margin."]
     return "\n".join(lines) + "\n"
 
 

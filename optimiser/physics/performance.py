@@ -701,3 +701,34 @@ def minimum_power_speed(wing_loading, density, cd0, k):
     V = sqrt(2 (W/S) / (rho sqrt(3 C_D0 / K))) (Anderson, APD 1999, ch. 5, from memory).
     """
     return np.sqrt(2.0 * np.asarray(wing_loading, dtype=float) / (density * np.sqrt(3.0 * cd0 / k)))
+
+
+AERODROME_CODE_SPANS_M = (15.0, 24.0, 36.0, 52.0, 65.0, 80.0)
+"""Upper span limits [m] ("up to but not including") of the aerodrome reference code
+letters A to F, ICAO Annex 14, Vol. I, Table 1-1 (code element 2, wingspan)."""
+
+AERODROME_CODE_LETTERS = ("A", "B", "C", "D", "E", "F")
+"""The code letters of :data:`AERODROME_CODE_SPANS_M`, in the same order."""
+
+
+def aerodrome_code_letter(span_m):
+    """Aerodrome reference code letter of a wing span (ICAO Annex 14, Vol. I, Table 1-1).
+
+    Parameters
+    ----------
+    span_m : array_like
+        Wing span [m], >= 0.
+
+    Returns
+    -------
+    ndarray of str
+        ``"A"`` for a span below 15 m, ``"B"`` from 15 m up to but not including 24 m, and so
+        on to ``"F"`` below 80 m; a span of 80 m or more (or not a number) falls in no code
+        letter of the table and gets ``""`` (this tool's convention: the table stops at F).
+        Exactly 15 m is code B: each row reads "up to but not including".
+    """
+    span = np.asarray(span_m, dtype=float)
+    index = np.searchsorted(np.asarray(AERODROME_CODE_SPANS_M), span, side="right")
+    letters = np.asarray(AERODROME_CODE_LETTERS + ("",), dtype=object)
+    index = np.where(np.isfinite(span), index, len(AERODROME_CODE_LETTERS))
+    return letters[index]

@@ -69,8 +69,10 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
     shape = (len(ld), len(ws))
     lines = []
     mins = None
+    required = dict(study.spec.requirements.margins)
     for c in active_constraints(study.spec):
-        M = frame[f"margin_{c}"].to_numpy(float).reshape(shape)
+        r = required.get(c, 0.0)  # the line where the margin is the required one
+        M = frame[f"margin_{c}"].to_numpy(float).reshape(shape) - r
         mins = M if mins is None else np.minimum(mins, M)
         if not (np.nanmin(M) < 0 < np.nanmax(M)):
             continue

@@ -183,11 +183,13 @@ def constraint_diagram(study, design, n=120, ax=None):
     frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, design["aspect_ratio"]),
                        np.full(W.size, flap))
     colours = palette.constraint_colours(active_constraints(study.spec))
+    required = dict(study.spec.requirements.margins)
     handles = []
     for c in active_constraints(study.spec):
         M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
-        if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]], linewidths=1.5)
+        r = required.get(c, 0.0)  # the line where the margin is the required one
+        if np.nanmin(M) < r < np.nanmax(M):
+            ax.contour(W, L, M, levels=[r], colors=[colours[c]], linewidths=1.5)
             handles.append(plt.Line2D([], [], color=colours[c], label=c.replace("_", " ")))
     feas = frame["feasible"].to_numpy(bool).reshape(W.shape).astype(float)
     ax.contourf(W, L, feas, levels=[0.5, 1.5], colors=[palette.FEASIBLE_REGION],
@@ -203,11 +205,16 @@ def constraint_diagram(study, design, n=120, ax=None):
     ax.set_ylabel(plot_label(study.loading_column))
     ax.legend(handles=handles, fontsize=7, loc="best")
     ax.set_title(f"{study.name}: constraints at aspect ratio {design['aspect_ratio']:.2f}, "
-                 f"flap {design['flap']}\n(each line: margin = 0; each point a sized airplane)",
-                 fontsize=9)
+                 f"flap {design['flap']}\n(each line: {_line_meaning(study)}; each point a sized "
+                 "airplane)", fontsize=9)
     ax.grid(alpha=0.3)
     fig.tight_layout()
     return fig
+
+
+def _line_meaning(study) -> str:
+    """What a line of the constraint diagram marks (the required margin where one is set)."""
+    return "margin = required margin" if study.spec.requirements.margins else "margin = 0"
 
 
 def constraint_grid(study, design, n=80):
@@ -249,12 +256,14 @@ def design_constraint_diagram(study, design, label="chosen design", n=120, ax=No
     ws, ld, frame = constraint_grid(study, design, n)
     W, L = np.meshgrid(ws, ld)
     colours = palette.constraint_colours(active_constraints(study.spec))
+    required = dict(study.spec.requirements.margins)
     handles = []
     for c in active_constraints(study.spec):
         M = frame[f"margin_{c}"].to_numpy(float).reshape(W.shape)
-        binding = float(design[f"margin_{c}"]) < BINDING_MARGIN
-        if np.nanmin(M) < 0 < np.nanmax(M):
-            ax.contour(W, L, M, levels=[0.0], colors=[colours[c]],
+        r = required.get(c, 0.0)  # the line where the margin is the required one
+        binding = float(design[f"margin_{c}"]) - r < BINDING_MARGIN
+        if np.nanmin(M) < r < np.nanmax(M):
+            ax.contour(W, L, M, levels=[r], colors=[colours[c]],
                        linewidths=3.0 if binding else 1.4)
             handles.append(plt.Line2D([], [], color=colours[c], lw=3.0 if binding else 1.4,
                                       label=CONSTRAINT_LABELS.get(c, c)
@@ -275,9 +284,11 @@ def design_constraint_diagram(study, design, label="chosen design", n=120, ax=No
     ax.set_xlabel(plot_label("wing_loading_N_m2"))
     ax.set_ylabel(plot_label(study.loading_column))
     ax.legend(handles=handles, fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0),
-              title="zero-margin lines", title_fontsize=7)
+              title="required-margin lines" if required else "zero-margin lines",
+              title_fontsize=7)
     ax.set_title(f"{study.name}: constraints at aspect ratio {float(design['aspect_ratio']):.2f}, "
-                 f"flap {design['flap']}\n(each line: margin = 0; every point an airplane sized "
+                 f"flap {design['flap']}\n(each line: {_line_meaning(study)}; every point an "
+                 "airplane sized "
                  "there; the star is the design at its own sized mass)", fontsize=9)
     ax.grid(alpha=0.3)
     fig.tight_layout()

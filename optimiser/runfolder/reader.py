@@ -10,7 +10,7 @@ from ..errors import RunError
 from . import names
 from .runinfo import read_run_info
 
-TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds")
+TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds", "aerodrome_code_letter")
 """Text columns of front.csv that may be empty: read as "" (never NaN)."""
 
 

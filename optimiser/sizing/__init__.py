@@ -41,7 +41,8 @@ from .flight import (Climb, CruiseSpeed, TransportClimb, aeo_climb_gradient_requ
                      climb_and_ceiling, cruise_speed, oei_climb_gradient,
                      transport_climb_segments)
 from .inputs import OVERRIDE_KEYS, DesignBatch, design_batch
-from .margins import CONSTRAINT_LABELS, Margins, active_constraints, constraint_margins
+from .margins import (CONSTRAINT_LABELS, Margins, active_constraints, constraint_margins,
+                      required_margins)
 
 __all__ = [
     "CONSTRAINT_LABELS", "OVERRIDE_KEYS", "AirStates", "Airplane", "CleanDrag", "Climb",
@@ -51,7 +52,7 @@ __all__ = [
     "climb_and_ceiling", "close_takeoff_mass", "closure_inputs", "constraint_margins",
     "cruise_consumption", "cruise_speed", "design_batch", "high_lift", "installed_propulsion",
     "landing", "landing_field_required", "low_speed_polar", "maintenance_index", "mass_groups", "mission_fuel",
-    "oei_climb_gradient", "size_batch", "size_designs", "takeoff", "takeoff_field",
+    "oei_climb_gradient", "required_margins", "size_batch", "size_designs", "takeoff", "takeoff_field",
     "transport_climb_segments",
 ]
 
@@ -113,7 +114,8 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
         landing_field_required_m=land_required, climb_rate_m_s=climb.climb_rate_m_s,
         climb_gradient=climb.climb_gradient, climb_gradient_required=gradient_required,
         oei_climb_gradient=oei, transport_climb=transport,
-        cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m)
+        cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m,
+        span_m=ap.span_m)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport)
 

@@ -33,7 +33,19 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
         names += [c for c in TRANSPORT_CLIMB_CHECKS if c not in skipped]
     names += ["cruise_speed", "service_ceiling"]
+    if spec.requirements.max_span_m is not None:
+        names.append("span")
     return tuple(names)
+
+
+def required_margins(spec: AircraftSpec) -> np.ndarray:
+    """The design margin the study requires on each active constraint, in the order of
+    :func:`active_constraints` [-] (``[requirements] margins``; 0 where none is given).
+
+    A design meets a constraint when its margin is at least the required one; the margin
+    columns themselves stay the raw margins."""
+    required = dict(spec.requirements.margins)
+    return np.array([float(required.get(c, 0.0)) for c in active_constraints(spec)])
 
 
 @dataclass(frozen=True, slots=True)
@@ -41,16 +53,17 @@ class Margins:
     """Margins of the active constraints (positive = met, as a fraction of the limit)."""
 
     names: tuple[str, ...]  # active_constraints(spec)
-    matrix: np.ndarray  # (designs, constraints) [-], NaN/inf replaced by -1e3/1e3
-    feasible: np.ndarray  # bool, every margin >= 0
-    limiting_index: np.ndarray  # index into names of the smallest margin (0 when not closed)
+    matrix: np.ndarray  # (designs, constraints) [-], raw margins, NaN/inf -> -1e3/1e3
+    feasible: np.ndarray  # bool, every margin >= its required margin
+    limiting_index: np.ndarray  # index into names of the smallest margin beyond the required
+    # one (0 when the mass does not close)
 
 
 def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        min_runway_acceleration_m_s2, stall_speed_m_s, takeoff_field_required_m,
                        landing_field_required_m, climb_rate_m_s, climb_gradient,
                        climb_gradient_required, oei_climb_gradient, transport_climb,
-                       cruise_speed_m_s, service_ceiling_m) -> Margins:
+                       cruise_speed_m_s, service_ceiling_m, span_m) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -78,11 +91,14 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         Highest level speed. [m s^-1]
     service_ceiling_m : ndarray
         [m]
+    span_m : ndarray
+        Wing span [m] (checked against ``[requirements] max_span`` when the study sets one).
 
     Returns
     -------
     Margins
-        Margin matrix [-], feasibility and the limiting constraint of each design.
+        Raw margin matrix [-]; feasibility and the limiting constraint of each design judged
+        against the required margins (:func:`required_margins`).
 
     References
     ----------
@@ -103,6 +119,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         "cruise_speed": cruise_speed_m_s / spec.mission.cruise_speed_m_s - 1.0,
         "service_ceiling": service_ceiling_m / rq.service_ceiling_m - 1.0,
     }
+    if rq.max_span_m is not None:
+        margins["span"] = 1.0 - span_m / rq.max_span_m
     names = active_constraints(spec)
     for name, segment in TRANSPORT_CLIMB_CHECKS.items():
         if name in names:
@@ -111,10 +129,12 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                 performance.part25_climb_gradient_min(segment, spec.propulsion.engine_count))
     matrix = np.column_stack([margins[c] for c in names])
     matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
-    feasible = np.all(matrix >= 0.0, axis=1)
+    required = required_margins(spec)
+    beyond = matrix - required if required.any() else matrix  # no copy when none is required
+    feasible = np.all(beyond >= 0.0, axis=1)
     # a design whose mass does not close is reported as such: its other margins were computed
     # at the capped mass and mean little (mass_closure is always the first constraint)
-    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(matrix, axis=1))
+    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(beyond, axis=1))
     return Margins(names, matrix, feasible, limiting)
 
 
