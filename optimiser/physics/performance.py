@@ -616,14 +616,14 @@ def maximise_on_bracket(f, low, high, iterations=60):
     d = a + _GOLDEN * (b - a)
     fc, fd = f(c), f(d)
     for _ in range(iterations):
-        left = fc >= fd  # the maximum lies in [a, d]
+        left = fc >= fd  # the maximum lies in [a, d]: new point left of d, old c becomes d
         b = np.where(left, d, b)
         a = np.where(left, a, c)
-        new = np.where(left, b - _GOLDEN * (b - a), a + _GOLDEN * (b - a))
+        width = b - a
+        new = np.where(left, b - _GOLDEN * width, a + _GOLDEN * width)
         c, d = np.where(left, new, d), np.where(left, c, new)
-        fc, fd = np.where(left, np.nan, fd), np.where(left, fc, np.nan)
         f_new = f(new)
-        fc, fd = np.where(left, f_new, fc), np.where(left, fd, f_new)
+        fc, fd = np.where(left, f_new, fd), np.where(left, fc, f_new)
     best = fc >= fd
     return np.where(best, c, d), np.where(best, fc, fd)
 
