@@ -266,6 +266,25 @@ def drag_to_weight(speed, wing_loading, density, cd0, k, cos_gamma=1.0):
     return q * cd0 / wing_loading + k * wing_loading * cos_gamma**2 / q
 
 
+class DragToWeightCurve:
+    """:func:`drag_to_weight` as a function of speed alone, for searches that evaluate it at
+    many speeds: the speed-independent factors (rho / 2, K (W/S) cos^2(gamma)) are computed
+    once, by the same operations in the same order, so that every value is bit for bit that
+    of :func:`drag_to_weight`. Arguments as there (SI)."""
+
+    __slots__ = ("half_density", "cd0", "wing_loading", "induced")
+
+    def __init__(self, wing_loading, density, cd0, k, cos_gamma=1.0):
+        self.half_density = 0.5 * density
+        self.cd0, self.wing_loading = cd0, wing_loading
+        self.induced = k * wing_loading * cos_gamma**2
+
+    def __call__(self, speed):
+        """D / W [-] at true airspeed ``speed`` [m s^-1]."""
+        q = self.half_density * np.asarray(speed, float) ** 2
+        return q * self.cd0 / self.wing_loading + self.induced / q
+
+
 def largest_root(f, low, high, iterations=36):
     """Largest x in [low, high] with f(x) >= 0, for f >= 0 at ``low`` and < 0 at ``high``.
 
