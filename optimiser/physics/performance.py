@@ -638,8 +638,8 @@ def maximise_on_bracket(f, low, high, iterations=60):
         left = fc >= fd  # the maximum lies in [a, d]: new point left of d, old c becomes d
         b = np.where(left, d, b)
         a = np.where(left, a, c)
-        width = b - a
-        new = np.where(left, b - _GOLDEN * width, a + _GOLDEN * width)
+        step = _GOLDEN * (b - a)
+        new = np.where(left, b - step, a + step)
         c, d = np.where(left, new, d), np.where(left, c, new)
         f_new = f(new)
         fc, fd = np.where(left, f_new, fd), np.where(left, fc, f_new)
