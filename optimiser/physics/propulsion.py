@@ -212,7 +212,8 @@ class PropellerThrustCurve:
     def __call__(self, speed):
         """Thrust [N] at true airspeed ``speed`` [m s^-1] (>= 0)."""
         v = np.maximum(np.asarray(speed, dtype=float), 0.0)
-        if np.broadcast_shapes(v.shape, self.shape) != v.shape:  # speeds fewer than designs
+        if v.ndim == 0 or np.broadcast_shapes(v.shape, self.shape) != v.shape:
+            # one speed, or speeds fewer than designs: no array of the result's shape to reuse
             low = self.t0 * (1.0 - v * v / self.blend_scale)
             high = self.ep / np.maximum(v, 1e-9)
             return np.where(v < self.v1, low, high)
