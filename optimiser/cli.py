@@ -182,6 +182,11 @@ def cmd_check(args):
     print(f"  objectives: {', '.join(study.objectives)}")
     for name, reason in sp.requirements.skip_checks:
         print(f"  check {name} switched off: {reason}")
+    if sp.requirements.max_span_m is not None:
+        print(f"  span limit: {sp.requirements.max_span_m:g} m (constraint span)")
+    if sp.requirements.margins:
+        print("  required design margins: " + ", ".join(
+            f"{name} {m:.1%}" for name, m in sp.requirements.margins))
     entries = resolved_entries(study)
     print("as given (the study's units -> SI):")
     for e in entries:

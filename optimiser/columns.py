@@ -118,6 +118,10 @@ COLUMNS = (
     _c("wing_area_m2", "geometry", "m^2", "reference wing area S = m g / (W/S)", archived=True,
         report_key=2),
     _c("span_m", "geometry", "m", "span b = sqrt(A S)", archived=True, report_key=3),
+    _c("aerodrome_code_letter", "geometry", "",
+        "aerodrome reference code letter of the span, ICAO Annex 14 Vol. I Table 1-1 (A below "
+        "15 m ... F below 80 m; empty from 80 m)", note=" (only with a max_span requirement)",
+        short="aerodrome code letter"),
     _c("engine_power_kW", "propulsion", "kW", "installed sea-level rated power, all engines",
         note=" (engine-size objective)", label="installed engine power, all engines [kW]",
         archived=True),
@@ -280,6 +284,7 @@ CONSTRAINTS = (
     Constraint("cruise_speed", "cruise speed at cruise altitude"),
     Constraint("service_ceiling", "service ceiling"),
     Constraint("fuel_volume", "fuel carried (trip, reserve, trapped) fits the usable tank volume"),
+    Constraint("span", "wing span within the study's max_span"),
     Constraint("outside_model_range", "inputs inside the model's valid ranges (only in a batch "
                "holding a design outside them, e.g. from the Python API: such a design is "
                "sized at the nearest limit and is infeasible; negative by how far outside, "
@@ -358,6 +363,9 @@ def markdown() -> str:
     lines += ["", "One `margin_<constraint>` column per active constraint (positive = met, as a "
               "fraction of its limit):", "", "| constraint | what it checks |", "|---|---|"]
     lines += [f"| `{c.name}` | {c.description} |" for c in CONSTRAINTS]
+    lines += ["", "A study may require a design margin on any active constraint "
+              "(`[requirements] margins`): the margin columns stay the raw margins, and a "
+              "design meets a constraint when `margin_<constraint>` >= its required margin."]
     return "\n".join(lines) + "\n"
 
 

@@ -92,7 +92,7 @@ def parse_limit(text: str, columns) -> Limit:
     if not math.isfinite(value):
         raise DecideError(f"--limit: got {text!r}; expected a finite number")
     numeric = [c for c in columns if c not in ("flap", "limiting_constraint", "most_violated",
-                                                "outside_bounds")]
+                                                "outside_bounds", "aerodrome_code_letter")]
     if col not in numeric:
         close = difflib.get_close_matches(col, numeric, n=1)
         hint = f" (did you mean {close[0]!r}?)" if close else ""

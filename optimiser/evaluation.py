@@ -133,11 +133,24 @@ def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.Dat
         "flap": np.asarray(spec.high_lift_names, dtype=object)[np.asarray(flap_index, int)],
     }
     columns.update(out)
+    if spec.requirements.max_span_m is not None:  # the code letter only with a span limit
+        columns = _with_code_letter(columns)
     columns["feasible"] = feasible
     columns["limiting_constraint"] = limiting
     columns["most_violated"] = np.where(feasible, "", limiting).astype(object)
     # one block per dtype, built once (cheaper than concatenating frames per generation)
     return pd.DataFrame(columns, copy=False)
+
+
+def _with_code_letter(columns: dict) -> dict:
+    """``columns`` with ``aerodrome_code_letter`` (text) after ``span_m``."""
+    from .physics.performance import aerodrome_code_letter
+    out = {}
+    for k, v in columns.items():
+        out[k] = v
+        if k == "span_m":
+            out["aerodrome_code_letter"] = aerodrome_code_letter(v)
+    return out
 
 
 def evaluate(study, designs) -> pd.DataFrame:

@@ -143,10 +143,13 @@ def _option_row(study, flap, mine, fr, combined, scales) -> dict:
     notes = []
     if len(fr):
         row["failing_constraint"], row["best_margin_failing"] = "", math.nan
-    else:
-        worst = min(margins, key=margins.get)
+    else:  # the margin beyond the required one (``[requirements] margins``) decides
+        required = dict(study.spec.requirements.margins)
+        worst = min(margins, key=lambda c: margins[c] - required.get(c, 0.0))
         row["failing_constraint"], row["best_margin_failing"] = worst, margins[worst]
-        notes.append(f"no feasible design: {worst} short by {-margins[worst]:.1%} at best")
+        short = required.get(worst, 0.0) - margins[worst]
+        notes.append(f"no feasible design: {worst} short by {short:.1%} at best"
+                     + (f" (of a required {required[worst]:.1%})" if worst in required else ""))
     if stall < 0:
         notes.append(f"cannot meet the stall limit anywhere within the wing-loading bounds: "
                      f"best stall margin {stall:+.1%} at the lowest wing loading "

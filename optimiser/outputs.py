@@ -65,23 +65,32 @@ def _no_front_message(state, least=None) -> str:
                 f"range, lighten the payload or widen the bounds; the designs closest "
                 f"to feasible are in {names.LEAST_VIOLATING}")
     missed = {}
+    required = required_margin_table(study)
     if least is not None and len(least):
         row = least.iloc[0]
         missed = {c[len("margin_"):]: float(row[c]) for c in least.columns
-                  if c.startswith("margin_") and float(row[c]) < 0.0}
+                  if c.startswith("margin_")
+                  and float(row[c]) < required.get(c[len("margin_"):], 0.0)}
     if not missed:  # no table to read: the best margin of each constraint on its own
         worst = min(state.best_margin, key=state.best_margin.get)
         return (f"no feasible design found in {state.n_evaluations} evaluations: the "
                 "requirements cannot all be met together within the variable bounds "
                 f"(hardest: {worst}); the designs closest to feasible are in "
                 f"{names.LEAST_VIOLATING}")
-    worst = min(missed, key=missed.get)
+    worst = min(missed, key=lambda c: missed[c] - required.get(c, 0.0))
     others = len(missed) - 1
     also = f" and {others} other constraint(s)" if others else ""
+    asked = f", {required[worst]:.1%} required" if required.get(worst) else ""
     return (f"no feasible design found in {state.n_evaluations} evaluations: the "
             "requirements cannot all be met together within the variable bounds; the design "
-            f"closest to feasible still misses {worst} (margin {missed[worst]:+.1%}){also}; the "
-            f"designs closest to feasible are in {names.LEAST_VIOLATING}")
+            f"closest to feasible still misses {worst} (margin {missed[worst]:+.1%}{asked})"
+            f"{also}; the designs closest to feasible are in {names.LEAST_VIOLATING}")
+
+
+def required_margin_table(study) -> dict:
+    """The study's required design margins by constraint (``[requirements] margins``; only
+    those given)."""
+    return {name: float(m) for name, m in study.spec.requirements.margins}
 
 
 def _write_tables(study, state: RunState, run_dir: Path):
@@ -111,7 +120,7 @@ def run_info(study, state: RunState, front, history, message, ended_utc) -> dict
     """The content of run.json."""
     from .loop import CHECKPOINT_INTERVAL_S
     b = state.budget
-    return {
+    info = {
         "study": study.name, "study_file": state.study_path, "study_sha256": study.sha256,
         "versions": versions(), "seed": state.seed,
         "started_utc": state.started_utc, "ended_utc": ended_utc,
@@ -140,6 +149,12 @@ def run_info(study, state: RunState, front, history, message, ended_utc) -> dict
                                 "reference point is fixed before the search and never changes"},
         "message": message, "caution": CAUTION,
     }
+    required = required_margin_table(study)
+    if required:  # recorded only when the study asks for margins (run.json unchanged else)
+        info["required_margins"] = required
+        info["best_margin_reached_note"] = ("best margin beyond the required one: margin_<c> "
+                                            "minus required_margins[c]")
+    return info
 
 
 def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
@@ -173,8 +188,14 @@ def summary_text(study, result: RunResult) -> str:
     if len(result.front):
         lines += _best_lines(study, result.front)
     else:
-        lines.append("  best margin reached per constraint (negative = not met):")
+        lines.append("  best margin reached per constraint (negative = not met"
+                     + ("; beyond the required margins" if study.spec.requirements.margins
+                        else "") + "):")
         lines += [f"    {k}: {v:+.1%}" for k, v in result.best_margin.items()]
+    required = required_margin_table(study)
+    if required:
+        lines.append("  required design margins: " + ", ".join(
+            f"{k} {v:.1%}" for k, v in required.items()))
     lines.append(f"run folder: {result.run_dir}")
     lines.append(CAUTION)
     return "\n".join(lines)

@@ -175,9 +175,10 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
     frame["limiting_constraint"] = np.asarray(names, dtype=object)[out["limiting_index"]]
 
     rows = []
+    required = dict(study.spec.requirements.margins)
     for c in (*names, "all"):
         met = frame["feasible"].to_numpy(bool) if c == "all" else \
-            frame[f"margin_{c}"].to_numpy(float) >= 0.0
+            frame[f"margin_{c}"].to_numpy(float) >= required.get(c, 0.0)
         p = float(met.mean())
         lo, hi = wilson_interval(p, n)
         m = None if c == "all" else frame[f"margin_{c}"].to_numpy(float)
@@ -185,7 +186,8 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
             "constraint": c,
             "description": "every constraint at once" if c == "all" else CONSTRAINT_LABELS[c],
             "nominal_margin": float("nan") if c == "all" else float(row[f"margin_{c}"]),
-            "nominal_met": bool(row["feasible"]) if c == "all" else bool(row[f"margin_{c}"] >= 0),
+            "nominal_met": bool(row["feasible"]) if c == "all" else bool(
+                row[f"margin_{c}"] >= required.get(c, 0.0)),
             "probability_met": p,
             "standard_error": math.sqrt(p * (1.0 - p) / n),
             "probability_low_95": float(lo), "probability_high_95": float(hi),

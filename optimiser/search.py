@@ -62,12 +62,16 @@ def design_arrays(study, X):
 
 
 def objectives_and_constraints(study, frame):
-    """F (objectives, minimised) and G (= -margin, <= 0 is met) from a sized frame (a
-    DataFrame, or the dict of arrays of :func:`~optimiser.sizing.size_designs`)."""
-    from .sizing import active_constraints
+    """F (objectives, minimised) and G (= required margin - margin, <= 0 is met) from a sized
+    frame (a DataFrame, or the dict of arrays of :func:`~optimiser.sizing.size_designs`); the
+    required margins are the study's ``[requirements] margins`` (0 where none is given)."""
+    from .sizing import active_constraints, required_margins
     F = np.column_stack([np.asarray(frame[c], float) for c in study.objective_columns()])
     G = -np.column_stack([np.asarray(frame[f"margin_{c}"], float)
                           for c in active_constraints(study.spec)])
+    required = required_margins(study.spec)
+    if required.any():  # no margins required: G is -margin exactly, as before
+        G = G + required
     # A non-finite number must not reach the sorting: treat it as a large violation / a bad
     # objective (the sizing model returns finite numbers; this is a guard, not a path).
     G = np.where(np.isfinite(G), G, 1e6)

@@ -263,6 +263,11 @@ class Requirements:
                                        "landing rule (14 CFR 135.385(b)); Part 25 always does")
     skip_checks: tuple[tuple[str, str], ...] = _f((), doc="Part 25 climb checks switched off, "
                                                   "a table name = \"reason\"")
+    max_span_m: float | None = _f(None, unit="m", lo=1.0, hi=200.0,
+                                  doc="largest wing span allowed (a hangar, a gate, an aerodrome "
+                                  "code letter); none by default")
+    margins: tuple[tuple[str, float], ...] = _f((), doc="design margins required on "
+                                                "constraints, a table name = fraction (0 to 0.5)")
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -143,6 +143,8 @@ def _read_section(rd: _Reader, section: str, raw: dict, cls, preset: dict) -> An
                 rd.fail(where, f"got {value!r}; expected true or false")
         elif f.name == "skip_checks":
             values[f.name] = _skip_checks(rd, where, value)
+        elif f.name == "margins":
+            values[f.name] = _margins_table(rd, where, value)
         elif f.type in ("str", str):
             values[f.name] = rd.choice(where, value, (value,)) if isinstance(value, str) else \
                 rd.fail(where, f"got {value!r}; expected a string")
@@ -187,6 +189,32 @@ def _skip_checks(rd: _Reader, where: str, value) -> tuple[tuple[str, str], ...]:
             rd.fail(f"{where}.{name}", f"got {reason!r}; expected a non-empty string giving "
                     "the reason the check is switched off")
     return tuple((name, reason.strip()) for name, reason in value.items())
+
+
+MAX_REQUIRED_MARGIN = 0.5
+"""Largest design margin a study may require on a constraint (a fraction of its limit; a
+larger one would stand for a different requirement, better written as that requirement)."""
+
+
+def _margins_table(rd: _Reader, where: str, value) -> tuple[tuple[str, float], ...]:
+    """``{ takeoff_field = 0.05 }`` -> (("takeoff_field", 0.05),), each value checked; the
+    names are checked against the active constraints by :func:`_check_margin_names`."""
+    if not isinstance(value, dict):
+        rd.fail(where, f"got {value!r}; expected a table such as "
+                "{ takeoff_field = 0.05, climb_rate = 0.10 }")
+    return tuple((name, rd.number(f"{where}.{name}", v, 0.0, MAX_REQUIRED_MARGIN))
+                 for name, v in value.items())
+
+
+def _check_margin_names(rd: _Reader, spec: S.AircraftSpec):
+    """Every name of ``[requirements] margins`` is an active constraint of the study."""
+    from .sizing.margins import active_constraints
+    active = active_constraints(spec)
+    for name, _ in spec.requirements.margins:
+        if name not in active:
+            rd.fail(f"[requirements] margins.{name}", f"unknown constraint {name!r}"
+                    f"{_suggest(name, active)}; expected one of the study's constraints: "
+                    + ", ".join(active))
 
 
 def _bounds(rd: _Reader, key: str, raw, unit, lo_ok, hi_ok) -> tuple[float, float]:
@@ -427,6 +455,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     spec = S.AircraftSpec(propulsion=prop, aerodynamics=aero, weights=wts, mission=mis,
                           requirements=req, speeds=speeds, departure=dep, destination=dst,
                           certification=cert, high_lift=configs, geometry=geo)
+    _check_margin_names(rd, spec)
     variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
     objectives = _read_objectives(rd, raw.get("objectives", {}))
     search = _read_search(rd, raw.get("search", {}))

@@ -268,6 +268,25 @@ def drag_to_weight(speed, wing_loading, density, cd0, k, cos_gamma=1.0):
     return q * cd0 / wing_loading + k * wing_loading * cos_gamma**2 / q
 
 
+class DragToWeightCurve:
+    """:func:`drag_to_weight` as a function of speed alone, for searches that evaluate it at
+    many speeds: the speed-independent factors (rho / 2, K (W/S) cos^2(gamma)) are computed
+    once, by the same operations in the same order, so that every value is bit for bit that
+    of :func:`drag_to_weight`. Arguments as there (SI)."""
+
+    __slots__ = ("half_density", "cd0", "wing_loading", "induced")
+
+    def __init__(self, wing_loading, density, cd0, k, cos_gamma=1.0):
+        self.half_density = 0.5 * density
+        self.cd0, self.wing_loading = cd0, wing_loading
+        self.induced = k * wing_loading * cos_gamma**2
+
+    def __call__(self, speed):
+        """D / W [-] at true airspeed ``speed`` [m s^-1]."""
+        q = self.half_density * np.asarray(speed, float) ** 2
+        return q * self.cd0 / self.wing_loading + self.induced / q
+
+
 def largest_root(f, low, high, iterations=36):
     """Largest x in [low, high] with f(x) >= 0, for f >= 0 at ``low`` and < 0 at ``high``.
 
@@ -618,14 +637,14 @@ def maximise_on_bracket(f, low, high, iterations=60):
     d = a + _GOLDEN * (b - a)
     fc, fd = f(c), f(d)
     for _ in range(iterations):
-        left = fc >= fd  # the maximum lies in [a, d]
+        left = fc >= fd  # the maximum lies in [a, d]: new point left of d, old c becomes d
         b = np.where(left, d, b)
         a = np.where(left, a, c)
-        new = np.where(left, b - _GOLDEN * (b - a), a + _GOLDEN * (b - a))
+        step = _GOLDEN * (b - a)
+        new = np.where(left, b - step, a + step)
         c, d = np.where(left, new, d), np.where(left, c, new)
-        fc, fd = np.where(left, np.nan, fd), np.where(left, fc, np.nan)
         f_new = f(new)
-        fc, fd = np.where(left, f_new, fc), np.where(left, fd, f_new)
+        fc, fd = np.where(left, f_new, fd), np.where(left, fc, f_new)
     best = fc >= fd
     return np.where(best, c, d), np.where(best, fc, fd)
 
@@ -703,3 +722,34 @@ def minimum_power_speed(wing_loading, density, cd0, k):
     V = sqrt(2 (W/S) / (rho sqrt(3 C_D0 / K))) (Anderson, APD 1999, ch. 5, from memory).
     """
     return np.sqrt(2.0 * np.asarray(wing_loading, dtype=float) / (density * np.sqrt(3.0 * cd0 / k)))
+
+
+AERODROME_CODE_SPANS_M = (15.0, 24.0, 36.0, 52.0, 65.0, 80.0)
+"""Upper span limits [m] ("up to but not including") of the aerodrome reference code
+letters A to F, ICAO Annex 14, Vol. I, Table 1-1 (code element 2, wingspan)."""
+
+AERODROME_CODE_LETTERS = ("A", "B", "C", "D", "E", "F")
+"""The code letters of :data:`AERODROME_CODE_SPANS_M`, in the same order."""
+
+
+def aerodrome_code_letter(span_m):
+    """Aerodrome reference code letter of a wing span (ICAO Annex 14, Vol. I, Table 1-1).
+
+    Parameters
+    ----------
+    span_m : array_like
+        Wing span [m], >= 0.
+
+    Returns
+    -------
+    ndarray of str
+        ``"A"`` for a span below 15 m, ``"B"`` from 15 m up to but not including 24 m, and so
+        on to ``"F"`` below 80 m; a span of 80 m or more (or not a number) falls in no code
+        letter of the table and gets ``""`` (this tool's convention: the table stops at F).
+        Exactly 15 m is code B: each row reads "up to but not including".
+    """
+    span = np.asarray(span_m, dtype=float)
+    index = np.searchsorted(np.asarray(AERODROME_CODE_SPANS_M), span, side="right")
+    letters = np.asarray(AERODROME_CODE_LETTERS + ("",), dtype=object)
+    index = np.where(np.isfinite(span), index, len(AERODROME_CODE_LETTERS))
+    return letters[index]

@@ -191,13 +191,41 @@ def propeller_thrust(speed, power, efficiency, static_thrust):
     static_thrust : array_like
         T0 from :func:`static_thrust_momentum` [N].
     """
-    v = np.maximum(np.asarray(speed, dtype=float), 0.0)
-    ep = np.asarray(efficiency, dtype=float) * np.asarray(power, dtype=float)
-    t0 = np.maximum(np.asarray(static_thrust, dtype=float), 1e-9)
-    v1 = 1.5 * ep / t0
-    low = t0 * (1.0 - v * v / (3.0 * v1 * v1 + 1e-300))
-    high = ep / np.maximum(v, 1e-9)
-    return np.where(v < v1, low, high)
+    return PropellerThrustCurve(power, efficiency, static_thrust)(speed)
+
+
+class PropellerThrustCurve:
+    """The thrust of :func:`propeller_thrust` as a function of speed alone, for searches that
+    evaluate it at many speeds: what does not depend on speed (eta P, T0, the blend speed V1)
+    is computed once, by the same operations, so that every value is bit for bit that of
+    :func:`propeller_thrust`. Arguments as there (power [W], efficiency [-], T0 [N])."""
+
+    __slots__ = ("ep", "t0", "v1", "blend_scale", "shape")
+
+    def __init__(self, power, efficiency, static_thrust):
+        self.ep = np.asarray(efficiency, dtype=float) * np.asarray(power, dtype=float)
+        self.t0 = np.maximum(np.asarray(static_thrust, dtype=float), 1e-9)
+        self.v1 = 1.5 * self.ep / self.t0
+        self.blend_scale = 3.0 * self.v1 * self.v1 + 1e-300
+        self.shape = np.broadcast_shapes(self.ep.shape, self.t0.shape)
+
+    def __call__(self, speed):
+        """Thrust [N] at true airspeed ``speed`` [m s^-1] (>= 0)."""
+        v = np.maximum(np.asarray(speed, dtype=float), 0.0)
+        if v.ndim == 0 or np.broadcast_shapes(v.shape, self.shape) != v.shape:
+            # one speed, or speeds fewer than designs: no array of the result's shape to reuse
+            low = self.t0 * (1.0 - v * v / self.blend_scale)
+            high = self.ep / np.maximum(v, 1e-9)
+            return np.where(v < self.v1, low, high)
+        # the same operations in place (multiplication commutes exactly): fewer temporaries
+        low = v * v
+        low /= self.blend_scale
+        np.subtract(1.0, low, out=low)
+        low *= self.t0                                    # T0 (1 - V^2 / (3 V1^2))
+        high = np.maximum(v, 1e-9)
+        np.divide(self.ep, high, out=high)                # eta P / V
+        np.copyto(high, low, where=v < self.v1)
+        return high
 
 
 LB_PER_HP_H = 0.45359237 / (745.69987 * 3600.0)

@@ -52,14 +52,16 @@ def _brackets(M, along_loading: bool):
     return i, j, i, j + 1
 
 
-def trace(study, design, ws, ld, frame, constraints) -> list[ZeroLine]:
-    """Lines where each of ``constraints`` has zero margin, at ``design``'s aspect ratio and
-    flap, over the grid ``ws`` x ``ld`` whose sized ``frame`` (row-major, loading the slow
-    axis) is given. Constraints whose margin has no sign change on the grid have no line."""
+def trace(study, design, ws, ld, frame, constraints, required=None) -> list[ZeroLine]:
+    """Lines where each of ``constraints`` has its required margin (``required``: name ->
+    margin, 0 where absent), at ``design``'s aspect ratio and flap, over the grid ``ws`` x
+    ``ld`` whose sized ``frame`` (row-major, loading the slow axis) is given. Constraints
+    whose margin does not cross that value on the grid have no line."""
+    required = required or {}
     shape = (len(ld), len(ws))
     jobs = []  # (constraint, along_loading, i0, j0, i1, j1, sign at the first point)
     for c in constraints:
-        M = frame[f"margin_{c}"].to_numpy(float).reshape(shape)
+        M = frame[f"margin_{c}"].to_numpy(float).reshape(shape) - required.get(c, 0.0)
         M = np.where(np.isfinite(M), M, -1.0)
         n_vertical = len(_brackets(M, True)[0])
         n_horizontal = len(_brackets(M, False)[0])
@@ -84,7 +86,7 @@ def trace(study, design, ws, ld, frame, constraints) -> list[ZeroLine]:
         m = np.empty(len(mw))
         for k, c in enumerate(names):
             sel = owner == k
-            m[sel] = sized[f"margin_{c}"].to_numpy(float)[sel]
+            m[sel] = sized[f"margin_{c}"].to_numpy(float)[sel] - required.get(c, 0.0)
         ok = np.where(np.isfinite(m), m, -1.0) >= 0
         same = ok == first_ok           # the midpoint is on the first point's side
         lo_w, lo_l = np.where(same, mw, lo_w), np.where(same, ml, lo_l)

@@ -72,11 +72,13 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
     ws, ld, frame = constraint_grid(study, design, n)
     shape = (len(ld), len(ws))
     constraints = active_constraints(study.spec)
-    mins = np.min([np.where(np.isfinite(m), m, -1.0) for m in
-                   (frame[f"margin_{c}"].to_numpy(float) for c in constraints)], axis=0)
+    required = dict(study.spec.requirements.margins)   # each line at its required margin
+    mins = np.min([np.where(np.isfinite(frame[f"margin_{c}"].to_numpy(float)),
+                            frame[f"margin_{c}"].to_numpy(float) - required.get(c, 0.0), -1.0)
+                   for c in constraints], axis=0)
     mins = mins.reshape(shape)
     lines = []
-    for line in trace(study, design, ws, ld, frame, constraints):
+    for line in trace(study, design, ws, ld, frame, constraints, required):
         colour, dash = palette.constraint_style(line.name)
         segs = [[[_r(x), _r(y)] for x, y in pts] for pts in line.polylines]
         lines.append({"name": line.name, "label": CONSTRAINT_LABELS.get(line.name, line.name),

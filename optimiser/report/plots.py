@@ -252,6 +252,11 @@ def representative_design(study, front):
     return front.iloc[int(Fn.sum(axis=1).argmin())]
 
 
+def _line_meaning(study) -> str:
+    """What a line of the constraint diagram marks (the required margin where one is set)."""
+    return "margin = required margin" if study.spec.requirements.margins else "margin = 0"
+
+
 def constraint_grid(study, design, n=80):
     """Wing loading and loading axes of a constraint diagram for ``design`` (the study's
     bounds, widened to include the design) and the sized grid at its aspect ratio and flap.
@@ -302,16 +307,18 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     ws, ld, frame = constraint_grid(study, design, n)
     W, L = np.meshgrid(ws, ld)
     constraints = active_constraints(study.spec)
+    required = dict(study.spec.requirements.margins)
     handles = []
-    mins = np.min([np.where(np.isfinite(m), m, -1.0) for m in
-                   (frame[f"margin_{c}"].to_numpy(float) for c in constraints)], axis=0)
+    mins = np.min([np.where(np.isfinite(frame[f"margin_{c}"].to_numpy(float)),
+                            frame[f"margin_{c}"].to_numpy(float) - required.get(c, 0.0), -1.0)
+                   for c in constraints], axis=0)
     if mins.max() >= 0:
         ax.contourf(W, L, mins.reshape(W.shape), levels=[0.0, np.inf],
                     colors=[palette.FEASIBLE_REGION], alpha=palette.FEASIBLE_REGION_ALPHA)
-    for line in trace(study, design, ws, ld, frame, constraints):
+    for line in trace(study, design, ws, ld, frame, constraints, required):
         c = line.name
         colour, dash = palette.constraint_style(c)
-        binding = float(design[f"margin_{c}"]) < BINDING_MARGIN
+        binding = float(design[f"margin_{c}"]) - required.get(c, 0.0) < BINDING_MARGIN
         lw = 2.8 if binding else 1.4
         for pts in line.polylines:
             ax.plot(pts[:, 0], pts[:, 1], color=colour, ls=palette.DASHES[dash], lw=lw,
@@ -344,11 +351,12 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     ax.set_ylim(ld[0], ld[-1])
     ax.set_xlabel(plot_label("wing_loading_N_m2"))
     ax.set_ylabel(plot_label(study.loading_column))
-    ax.legend(handles=handles, fontsize=7, title="zero-margin lines", title_fontsize=7,
+    ax.legend(handles=handles, fontsize=7,
+              title="required-margin lines" if required else "zero-margin lines", title_fontsize=7,
               **LEGEND_OUTSIDE)
     title = (f"{study.name}: constraint diagram at aspect ratio "
              f"{float(design['aspect_ratio']):.2f}, {palette.flap_label(str(design['flap']))}\n"
-             "each line: margin = 0, every point an airplane sized there; the star is the "
+             f"each line: {_line_meaning(study)}, every point an airplane sized there; the star is the "
              "design at its own sized mass")
     if note:
         title += f"\n{note}"

@@ -20,10 +20,12 @@ BINDING_MARGIN = 0.01
 this tool: the search pushes designs against their active constraints)."""
 
 def binding_constraints(study, design) -> list[str]:
-    """Constraints of ``design`` with a margin below :data:`BINDING_MARGIN`."""
+    """Constraints of ``design`` with a margin less than :data:`BINDING_MARGIN` beyond the
+    study's required margin (``[requirements] margins``, 0 where none is given)."""
     from ..sizing import active_constraints
+    required = dict(study.spec.requirements.margins)
     return [c for c in active_constraints(study.spec)
-            if float(design[f"margin_{c}"]) < BINDING_MARGIN]
+            if float(design[f"margin_{c}"]) - required.get(c, 0.0) < BINDING_MARGIN]
 
 
 def design_sheet(study, design):
@@ -48,15 +50,20 @@ def design_sheet(study, design):
     for c in design.index:
         if c in skip or c in margins or c.startswith("margin_") or c not in COLUMN_DOCS:
             continue
-        rows.append(("sized", c, float(design[c]), unit_of(c), "", COLUMN_DOCS[c]))
+        v = design[c]
+        rows.append(("sized", c, v if isinstance(v, str) else float(v), unit_of(c), "",
+                     COLUMN_DOCS[c]))
     limiting = str(design.get("limiting_constraint", ""))
+    required = dict(study.spec.requirements.margins)
     for c in active_constraints(study.spec):
         m = float(design[f"margin_{c}"])
-        status = "violated" if m < 0 else "binding" if m < BINDING_MARGIN else "met"
+        r = required.get(c, 0.0)
+        status = "violated" if m < r else "binding" if m - r < BINDING_MARGIN else "met"
         if c == limiting:
             status += " (limiting)"
-        rows.append(("margin", f"margin_{c}", m, "fraction of the limit", status,
-                     CONSTRAINT_LABELS.get(c, c) + " (positive = met)"))
+        meaning = CONSTRAINT_LABELS.get(c, c) + (
+            f" (met when at least the required {r:.1%})" if r else " (positive = met)")
+        rows.append(("margin", f"margin_{c}", m, "fraction of the limit", status, meaning))
     rows.append(("verdict", "feasible", bool(design.get("feasible", True)), "", "",
                  COLUMN_DOCS["feasible"]))
     return pd.DataFrame(rows, columns=["section", "quantity", "value", "unit", "status",
@@ -106,16 +113,29 @@ def sheet_markdown(study, design, title, how="", runners=None) -> str:
                         [(short_and_unit(q)[0], _fmt(v), u) for q, v, u in
                          zip(obj["quantity"], obj["value"], obj["unit"])]), ""]
     mar = table[table["section"] == "margin"].copy()
-    mar["order"] = mar["value"].astype(float)
+    required = dict(study.spec.requirements.margins)
+    mar["required"] = [required.get(q[len("margin_"):], 0.0) for q in mar["quantity"]]
+    mar["order"] = mar["value"].astype(float) - mar["required"]
     mar = mar.sort_values("order")
     bind = binding_constraints(study, design)
-    lines += ["## Constraint margins", "",
-              "Positive = met, as a fraction of the limit; a margin below "
-              f"{BINDING_MARGIN:.0%} counts as binding. Binding: "
-              + (", ".join(b.replace("_", " ") for b in bind) if bind else "none") + ".", "",
-              _md_table(["constraint", "margin", "status"],
-                        [(m, f"{float(v):+.1%}", s) for m, v, s in
-                         zip(mar["meaning"], mar["value"], mar["status"])]), ""]
+    binding = ("Binding: " + (", ".join(b.replace("_", " ") for b in bind) if bind else "none")
+               + ".")
+    if required:  # the study requires design margins: show them beside the margins
+        lines += ["## Constraint margins", "",
+                  "Margins as a fraction of the limit; a constraint is met when its margin is "
+                  "at least the margin the study requires, and binding when less than "
+                  f"{BINDING_MARGIN:.0%} beyond it. " + binding, "",
+                  _md_table(["constraint", "margin", "required", "status"],
+                            [(m, f"{float(v):+.1%}", f"{r:.1%}", s) for m, v, r, s in
+                             zip(mar["meaning"], mar["value"], mar["required"],
+                                 mar["status"])]), ""]
+    else:
+        lines += ["## Constraint margins", "",
+                  "Positive = met, as a fraction of the limit; a margin below "
+                  f"{BINDING_MARGIN:.0%} counts as binding. " + binding, "",
+                  _md_table(["constraint", "margin", "status"],
+                            [(m, f"{float(v):+.1%}", s) for m, v, s in
+                             zip(mar["meaning"], mar["value"], mar["status"])]), ""]
     sized = table[table["section"] == "sized"]
     lines += ["## Every sized number", "",
               _md_table(["column", "value", "unit", "meaning"],

@@ -18,7 +18,7 @@ from . import checked, names
 from .manifest import check_run_files
 from .runinfo import read_run_info
 
-TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds")
+TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds", "aerodrome_code_letter")
 """Text columns of front.csv that may be empty: read as "" (never NaN)."""
 BOOL_COLUMNS = ("feasible", "within_bounds", "oswald_mach_in_range")
 """True/false columns of front.csv and least_violating.csv."""

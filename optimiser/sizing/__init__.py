@@ -44,7 +44,7 @@ from .inputs import MODEL_RANGES, OVERRIDE_KEYS, DesignBatch, ModelRange, design
 from .layout import (BuildUpInputs, ComponentDrag, FuelVolume, build_up_inputs, component_drag,
                      fuel_volume)
 from .margins import (CONSTRAINT_LABELS, OUTSIDE_MODEL_RANGE, Margins, active_constraints,
-                      constraint_margins)
+                      constraint_margins, required_margins)
 
 __all__ = [
     "CONSTRAINT_LABELS", "MODEL_RANGES", "OUTSIDE_MODEL_RANGE", "OVERRIDE_KEYS", "AirStates",
@@ -57,7 +57,7 @@ __all__ = [
     "close_takeoff_mass", "closure_inputs", "component_drag", "constraint_margins",
     "cruise_consumption", "cruise_speed", "design_batch", "fuel_volume", "high_lift",
     "installed_propulsion", "landing", "landing_field_required", "low_speed_polar",
-    "maintenance_index", "mass_groups", "mission_fuel", "oei_climb_gradient", "size_batch",
+    "maintenance_index", "mass_groups", "mission_fuel", "oei_climb_gradient", "required_margins", "size_batch",
     "size_designs", "takeoff", "takeoff_field", "transport_climb_segments",
 ]
 
@@ -129,7 +129,7 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
         oei_climb_gradient=oei, transport_climb=transport,
         cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m,
         fuel_volume_required_m3=tanks.required_m3, fuel_volume_available_m3=tanks.available_m3,
-        model_range_margin=batch.model_range_margin)
+        span_m=ap.span_m, model_range_margin=batch.model_range_margin)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport,
                       components, tanks)

@@ -148,6 +148,17 @@ class InstalledThrust:
                 self.power_per_engine, density, disc, p.propeller_figure_of_merit) \
                 * p.engine_count * share
 
+    def thrust_at(self, efficiency):
+        """Thrust of all working engines [N] as a function of speed alone (one per design,
+        arrays shaped like the designs), each value bit for bit that of :meth:`thrust`: for
+        propellers what does not depend on speed is computed once
+        (:class:`~optimiser.physics.propulsion.PropellerThrustCurve`)."""
+        if self.is_jet:
+            return lambda speed: self.thrust(speed, efficiency)
+        return propulsion.PropellerThrustCurve(np.asarray(self.power, dtype=float),
+                                               np.asarray(efficiency, dtype=float),
+                                               np.asarray(self.static, dtype=float))
+
     def thrust(self, speed, efficiency):
         """Thrust of all working engines [N] at ``speed`` [m s^-1] (propeller efficiency [-])."""
         if self.is_jet:

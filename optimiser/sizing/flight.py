@@ -122,11 +122,22 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     v_low = np.maximum(v_floor, 0.7 * v0)
     v_high = np.maximum(np.minimum(2.0 * v0, mach_hi * sound), v_low)
 
-    def rate(v):
-        """Rate of climb [m s^-1] at true airspeeds ``v`` [m s^-1], one per design."""
-        k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
-        return v * (eng.thrust(v, eta) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h,
-                                                                          k_m))
+    thrust = eng.thrust_at(eta)  # the speed-independent part once, not per golden step
+    if _induced_drag_factor_at_mach(spec, k_i, v_high / sound) is k_i:
+        # no speed of the bracket (nor the speed limit's, lower) reaches the Mach term: K is
+        # K at the reference Mach throughout, and the drag's speed-independent part is
+        # computed once (values bit for bit as below)
+        drag = performance.DragToWeightCurve(ws_i, rho, cd0_h, k_i)
+
+        def rate(v):
+            """Rate of climb [m s^-1] at true airspeeds ``v`` [m s^-1], one per design."""
+            return v * (thrust(v) / w_i - drag(v))
+    else:
+        def rate(v):
+            """Rate of climb [m s^-1] at true airspeeds ``v`` [m s^-1], one per design."""
+            k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
+            return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h,
+                                                                      k_m))
 
     v, _ = performance.maximise_on_bracket(rate, v_low, v_high, iterations)
     if sp.climb_speed_limit:

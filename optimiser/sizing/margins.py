@@ -42,7 +42,19 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
         names += [c for c in TRANSPORT_CLIMB_CHECKS if c not in skipped]
     names += ["cruise_speed", "service_ceiling", "fuel_volume"]
+    if spec.requirements.max_span_m is not None:
+        names.append("span")
     return tuple(names)
+
+
+def required_margins(spec: AircraftSpec) -> np.ndarray:
+    """The design margin the study requires on each active constraint, in the order of
+    :func:`active_constraints` [-] (``[requirements] margins``; 0 where none is given).
+
+    A design meets a constraint when its margin is at least the required one; the margin
+    columns themselves stay the raw margins."""
+    required = dict(spec.requirements.margins)
+    return np.array([float(required.get(c, 0.0)) for c in active_constraints(spec)])
 
 
 @dataclass(frozen=True, slots=True)
@@ -50,9 +62,10 @@ class Margins:
     """Margins of the active constraints (positive = met, as a fraction of the limit)."""
 
     names: tuple[str, ...]  # active_constraints(spec)
-    matrix: np.ndarray  # (designs, constraints) [-], NaN/inf replaced by -1e3/1e3
-    feasible: np.ndarray  # bool, every margin >= 0
-    limiting_index: np.ndarray  # index into names of the smallest margin (0 when not closed)
+    matrix: np.ndarray  # (designs, constraints) [-], raw margins, NaN/inf -> -1e3/1e3
+    feasible: np.ndarray  # bool, every margin >= its required margin
+    limiting_index: np.ndarray  # index into names of the smallest margin beyond the required
+    # one (0 when the mass does not close)
 
 
 def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
@@ -60,7 +73,7 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        landing_field_required_m, climb_rate_m_s, climb_gradient,
                        climb_gradient_required, oei_climb_gradient, transport_climb,
                        cruise_speed_m_s, service_ceiling_m, fuel_volume_required_m3,
-                       fuel_volume_available_m3, model_range_margin=None) -> Margins:
+                       fuel_volume_available_m3, span_m, model_range_margin=None) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -95,11 +108,14 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         (:class:`~optimiser.sizing.inputs.DesignBatch`) [-]. Where any is negative, the
         constraint ``outside_model_range`` is added last, with this margin, and is the
         limiting constraint of each design outside (before ``mass_closure``).
+    span_m : ndarray
+        Wing span [m] (checked against ``[requirements] max_span`` when the study sets one).
 
     Returns
     -------
     Margins
-        Margin matrix [-], feasibility and the limiting constraint of each design.
+        Raw margin matrix [-]; feasibility and the limiting constraint of each design judged
+        against the required margins (:func:`required_margins`).
 
     References
     ----------
@@ -122,6 +138,8 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         "fuel_volume": 1.0 - fuel_volume_required_m3 / np.maximum(fuel_volume_available_m3,
                                                                  1e-9),
     }
+    if rq.max_span_m is not None:
+        margins["span"] = 1.0 - span_m / rq.max_span_m
     names = active_constraints(spec)
     outside = None
     if model_range_margin is not None and not np.all(np.asarray(model_range_margin) >= 0.0):
@@ -135,10 +153,14 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                 performance.part25_climb_gradient_min(segment, spec.propulsion.engine_count))
     matrix = np.column_stack([margins[c] for c in names])
     matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
-    feasible = np.all(matrix >= 0.0, axis=1)
+    required = required_margins(spec)
+    if len(required) < len(names):  # outside_model_range: no margin can be required on it
+        required = np.concatenate([required, np.zeros(len(names) - len(required))])
+    beyond = matrix - required if required.any() else matrix  # no copy when none is required
+    feasible = np.all(beyond >= 0.0, axis=1)
     # a design whose mass does not close is reported as such: its other margins were computed
     # at the capped mass and mean little (mass_closure is always the first constraint)
-    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(matrix, axis=1))
+    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(beyond, axis=1))
     if outside is not None:  # sized at the clipped values: that is what limits it
         limiting = np.where(outside, len(names) - 1, limiting)
     return Margins(names, matrix, feasible, limiting)
