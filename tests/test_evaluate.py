@@ -415,16 +415,16 @@ def test_class_ii_build_up_of_the_default_study_by_hand(studies, samples):
     w = r["takeoff_mass_kg"] / lb
     n = 5.7  # 1.5 x 3.8 (family default)
     s, b = r["wing_area_m2"], r["span_m"]
-    # geometry (physics/geometry.py, common practice): fuselage 1.3 m x 6.5 = 8.45 m, tail
-    # arm half of it; V_H 0.65, V_V 0.045 (single-engine prop); tails A 4.5 and 1.5, taper
-    # 0.5, t/c 0.12; mean aerodynamic chord of the taper-0.6 wing
-    l_f, d_f = 1.3 * 6.5, 1.3
+    # geometry (the study's [geometry]; physics/geometry.py, common practice): fuselage
+    # 8.8 m x 1.3 m, tail arm half of it; V_H 0.65, V_V 0.045 (single-engine prop); tails A
+    # 4.5 and 1.5, taper 0.5, t/c 0.10; mean aerodynamic chord of the taper-0.6 wing
+    l_f, d_f = 8.8, 1.3
     arm = 0.5 * l_f
     c_r = 2 * s / (b * 1.6)
     mac = 2 / 3 * c_r * (1 + 0.6 + 0.36) / 1.6
     s_h, s_v = 0.65 * s * mac / arm, 0.045 * s * b / arm
     b_h, b_v = (4.5 * s_h) ** 0.5, (1.5 * s_v) ** 0.5
-    t_h, t_v = 0.12 * 2 * s_h / (b_h * 1.5), 0.12 * 2 * s_v / (b_v * 1.5)
+    t_h, t_v = 0.10 * 2 * s_h / (b_h * 1.5), 0.10 * 2 * s_v / (b_v * 1.5)
     load = w * n / 1e5
     ht = 127 * (load**0.87 * (s_h / ft**2 / 100) ** 1.2 * (arm / ft / 10) ** 0.483
                 * (b_h / t_h) ** 0.5) ** 0.458

@@ -76,7 +76,7 @@ def test_margins_and_span_are_read_in_si():
     ("margins = { take_off_field = 0.05 }",
      r"^.*\[requirements\] margins\.take_off_field: unknown constraint 'take_off_field' "
      r"\(did you mean 'takeoff_field'\?\); expected one of the study's constraints: "
-     r"mass_closure, .*takeoff_field, .*service_ceiling$"),
+     r"mass_closure, .*takeoff_field, .*service_ceiling, fuel_volume$"),
     ("margins = { span = 0.05 }",  # span is active only with max_span
      r"margins\.span: unknown constraint 'span'.*expected one of"),
     ("margins = { climb_rate = 0.6 }",
