@@ -44,12 +44,13 @@ def _least_table(study, least: DesignSet):
     from .evaluation import size_frame
     d = least.designs
     table = size_frame(study, d[:, 0], d[:, 1], d[:, 2], least.flap)
-    table.insert(0, "generation", least.generation)
-    table.insert(0, "total_violation", least.key)
-    return table
+    import pandas as pd
+    head = pd.DataFrame({"total_violation": least.key, "generation": least.generation},
+                        index=table.index)
+    return pd.concat([head, table], axis=1)  # one block added (no fragmented frame)
 
 
-def _no_front_message(state, least=None) -> str:
+def _no_front_message(study, state, least=None) -> str:
     """Why nothing feasible was found, and where the closest designs are.
 
     ``least`` is the least-violating table (row 0 the closest to feasible): the constraint
@@ -113,7 +114,7 @@ def _write_tables(study, state: RunState, run_dir: Path):
     front = pd.DataFrame(columns=list(least.columns[1:]))
     files.write_atomic(run_dir / names.LEAST_VIOLATING, files.csv_bytes(least))
     (run_dir / names.FRONT).unlink(missing_ok=True)
-    return front, least, _no_front_message(state, least)
+    return front, least, _no_front_message(study, state, least)
 
 
 def run_info(study, state: RunState, front, history, message, ended_utc) -> dict:

@@ -96,7 +96,7 @@ def test_issue_example_climbs_faster_than_at_the_minimum_power_speed():
 
 def test_jet_climb_is_held_to_250_kn_indicated_below_10000_ft():
     # 14 CFR 91.117(a): 250 kn indicated below 10 000 ft MSL; the jet demo's best speed
-    # (169 m/s true at the departure airfield) is above it, so the climb is flown at the
+    # (143 m/s true at the departure airfield) is above it, so the climb is flown at the
     # true airspeed of 250 kn calibrated there (isentropic pitot relation)
     study = load_study(ROOT / "problems" / "light_twin_jet.toml")
     spec = study.spec
@@ -108,7 +108,7 @@ def test_jet_climb_is_held_to_250_kn_indicated_below_10000_ft():
     dep = spec.departure
     rho, p, _ = atm._density_unchecked(np.asarray(dep.elevation_m), dep.temperature_offset_K)
     v_limit = atm.calibrated_to_true_airspeed(performance.SPEED_LIMIT_BELOW_10000FT, p, rho)
-    assert free["climb_speed_m_s"][0] > v_limit + 10.0
+    assert free["climb_speed_m_s"][0] > v_limit + 1.0   # 142.7 against 136.2 m/s
     assert out["climb_speed_m_s"][0] == pytest.approx(float(v_limit), rel=1e-9)
     assert out["climb_rate_m_s"][0] < free["climb_rate_m_s"][0]
 
@@ -166,7 +166,7 @@ def test_top_speed_stays_inside_the_oswald_methods_mach_range_and_is_flagged():
     names = spec.high_lift_names
     flap = np.full(2, names.index(study.flaps[0]))
     ws = np.full(2, v_ws.upper)
-    tw = np.array([v_tw.upper, v_tw.lower])
+    tw = np.array([2.0 * v_tw.upper, v_tw.lower])  # T/W 1.2: thrust to spare (model range 1.5)
     out = sizing.size_designs(spec, ws, tw, np.full(2, 9.0), flap)
     assert out["cruise_mach"][0] == pytest.approx(0.8, rel=1e-9)
     assert not out["oswald_mach_in_range"][0]

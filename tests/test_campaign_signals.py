@@ -20,6 +20,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from optimiser.runfolder import names
+
 ROOT = Path(__file__).resolve().parent.parent
 STOP_WITHIN_S = 30.0
 """Seconds from the signal to the exit, generous for a shared 2-core machine (a run stops
@@ -110,7 +112,7 @@ def test_signal_stops_the_sweep_and_the_printed_command_finishes_it(case, tmp_pa
     assert not list(out.rglob("error.txt"))
     for _, row in summary[summary["status"] == "interrupted"].iterrows():
         run = out / row["run_folder"]
-        assert (run / "checkpoint.pkl").is_file() and not (run / "run.json").exists()
+        assert (run / names.CHECKPOINT).is_file() and not (run / names.RUN_INFO).exists()
     assert not (out / ".stop-requested").exists()
     marker = "continue with: "
     commands = [line.split(marker, 1)[1] for line in stderr.splitlines() if marker in line]

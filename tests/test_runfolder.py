@@ -56,3 +56,17 @@ def test_the_clock_reads_source_date_epoch_when_set(monkeypatch):
     assert files.utc_now() == "2027-01-01T00:00:00Z"
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "not a number")
     assert files.utc_now() != "2027-01-01T00:00:00Z"
+
+
+def test_every_true_or_false_column_of_a_front_is_read_as_one():
+    # the reader converts the schema's boolean columns; a new flag column must be listed
+    import numpy as np
+    from optimiser.evaluation import evaluate
+    from optimiser.runfolder.reader import BOOL_COLUMNS
+    from optimiser.study import load_study
+    from pathlib import Path
+    study = load_study(Path(__file__).resolve().parents[1] / "problems" / "light_twin_jet.toml")
+    frame = evaluate(study, {"wing_loading_N_m2": [3000.0], "thrust_to_weight": [0.4],
+                             "aspect_ratio": [8.0], "flap": ["fowler"]})
+    flags = {c for c in frame.columns if frame[c].dtype == np.bool_}
+    assert flags <= set(BOOL_COLUMNS), flags - set(BOOL_COLUMNS)
