@@ -28,6 +28,8 @@ def pyplot():
         matplotlib.use("Agg")
         # SVG text stays text (searchable, smaller), not outlines
         matplotlib.rcParams["svg.fonttype"] = "none"
+        # the same figure gives the same bytes: fixed ids in SVG (no random salt)
+        matplotlib.rcParams["svg.hashsalt"] = "optimiser"
         import matplotlib.pyplot as plt
         _PYPLOT = plt
     return _PYPLOT
@@ -65,11 +67,15 @@ def save(fig, stem, dpi=DPI) -> list[Path]:
     for ext in FORMATS:
         path = Path(f"{stem}.{ext}")
         buf = io.BytesIO()
-        fig.savefig(buf, format=ext, dpi=dpi)
+        fig.savefig(buf, format=ext, dpi=dpi, metadata=_NO_DATE[ext])
         write_atomic(path, buf.getvalue())
         written.append(path)
     pyplot().close(fig)
     return written
+
+
+_NO_DATE = {"svg": {"Date": None}, "png": {}}
+"""savefig metadata: no creation date in an SVG (the same figure gives the same bytes)."""
 
 
 def svg_data_uri(fig) -> str:
@@ -78,7 +84,7 @@ def svg_data_uri(fig) -> str:
     import base64
     import io
     buf = io.BytesIO()
-    fig.savefig(buf, format="svg", dpi=DPI)
+    fig.savefig(buf, format="svg", dpi=DPI, metadata=_NO_DATE["svg"])
     pyplot().close(fig)
     return "data:image/svg+xml;base64," + base64.b64encode(buf.getvalue()).decode("ascii")
 
