@@ -149,6 +149,7 @@ def page_data(run, choice):
         "loading_column": study.loading_column, "flaps": list(study.flaps),
         "colours": colours, "sheet_columns": sheet_cols, "designs": designs,
         "diagrams": diagrams, "binding_margin": BINDING_MARGIN, "chosen": chosen,
+        "required": {c: float(r) for c, r in study.spec.requirements.margins},
     }
 
 

@@ -183,7 +183,7 @@ function drawDiagram(d){
     'fill-opacity': __REGION_ALPHA__, 'fill-rule': 'evenodd', class: 'region'}, svg);
   let ly = 400 + 22;
   g.lines.forEach((ln, k) => { const m = val(d, 'margin_' + ln.name);
-    const bind = m < D.binding_margin, col = ln.colour;
+    const req = D.required[ln.name] || 0, bind = m - req < D.binding_margin, col = ln.colour;
     ln.pts.forEach(seg => el('path', {d: path(seg), fill: 'none', stroke: col, 'stroke-dasharray': ln.dash,
       'stroke-width': bind ? 3 : 1.3, class: 'cline', 'data-constraint': ln.name}, svg));
     el('line', {x1: 64, x2: 84, y1: ly - 4, y2: ly - 4, stroke: col, 'stroke-dasharray': ln.dash,
@@ -201,7 +201,8 @@ function drawDiagram(d){
   t2.textContent = `star: design ${d.id} at its own sized takeoff mass ${fmt(val(d, 'takeoff_mass_kg'))} kg ` +
     `(its aspect ratio ${fmt(val(d, 'aspect_ratio'))})`;
   const t3 = el('text', {x: 58, y: 40, 'font-size': '10'}, svg);
-  t3.textContent = 'lines: margin = 0 (every point an airplane sized there); shaded: all constraints met'; }
+  t3.textContent = 'lines: margin = ' + (Object.keys(D.required).length ? 'required margin' : '0') +
+    ' (every point an airplane sized there); shaded: all constraints met'; }
 
 function drawSheet(d){
   document.getElementById('sheet-title').textContent =
@@ -216,7 +217,8 @@ function drawSheet(d){
   D.sheet_columns.forEach((c, i) => { const v = d.values[i], tr = h('tr', {'data-col': c.col}, undefined, tb);
     h('td', {}, c.section, tr); h('td', {}, c.col, tr);
     if (c.section === 'margin'){
-      const st = v < 0 ? 'violated' : v < D.binding_margin ? 'binding' : 'met';
+      const req = D.required[c.col.slice(7)] || 0;   // 'margin_<constraint>'
+      const st = v < req ? 'violated' : v - req < D.binding_margin ? 'binding' : 'met';
       h('td', {class: 'status-' + st}, (v >= 0 ? '+' : '') + (100 * v).toFixed(1) + ' % ' + st, tr);
     } else h('td', {}, fmt(v), tr);
     h('td', {}, c.unit, tr); h('td', {}, c.meaning, tr); }); }
