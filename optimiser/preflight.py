@@ -49,12 +49,11 @@ class Finding:
     text: str                # one line for a person
 
 
-def _key_text(study, constraint: str) -> str:
-    from .study_table import resolved_entries
+def _key_text(study, constraint: str, entries) -> str:
     section_key = CONSTRAINT_KEYS.get(constraint)
     if section_key is None:
         return f"certification {study.spec.certification.basis} at the [departure] airfield"
-    for e in resolved_entries(study):
+    for e in entries:
         if (e.section, e.key) == section_key:
             shown = e.given if e.given is not None else f"{e.value_text} ({e.origin})"
             si = e.value_text
@@ -80,12 +79,14 @@ def grid_margins(study, points: int = GRID_POINTS):
 def findings(study, points: int = GRID_POINTS) -> tuple[list[Finding], float]:
     """Constraints that no grid design meets (best margin below zero), and the feasible
     share of the grid."""
+    from .study_table import resolved_entries
     best, share = grid_margins(study, points)
+    entries = resolved_entries(study)   # read once for every finding
     out = []
     for c, m in best.items():
         if m >= 0:
             continue
-        where = _key_text(study, c)
+        where = _key_text(study, c, entries)
         out.append(Finding(c, m, where, (
             f"{where}: no design of a {points}-point grid over the bounds meets the "
             f"{CONSTRAINT_LABELS.get(c, c)} (best margin {m:+.1%}); check the value and its "

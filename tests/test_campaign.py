@@ -123,12 +123,21 @@ def test_picking_rules_on_a_known_front():
     assert pick_compromise(front.iloc[:0], near, "engine_power_kW", objectives) is None
 
 
-def test_price_arithmetic_on_known_values(tmp_path):
+KNOWN_TRIP = [300.0, 310.0, 250.0, 262.0, 220.0, 230.0]
+KNOWN_POWER = [400.0, 420.0, 330.0, 340.0, 300.0, 300.0]
+"""Picked trip fuel [kg] and engine power [kW] per combination of :func:`_three_fields`
+(invented values, in combination order: field length slowest, flaps fastest)."""
+
+
+def _three_fields(tmp_path):
+    """The small campaign with three field lengths (500, 700, 900 m) by two flap settings."""
     text = SMALL.replace("[\"600 m\", \"900 m\"]", "[\"500 m\", \"700 m\", \"900 m\"]")
-    c = load_campaign(_small(tmp_path, text))
-    # combination order: field length slowest, flaps fastest
-    trip = [300.0, 310.0, 250.0, 262.0, 220.0, 230.0]
-    power = [400.0, 420.0, 330.0, 340.0, 300.0, 300.0]
+    return load_campaign(_small(tmp_path, text))
+
+
+def test_price_arithmetic_on_known_values(tmp_path):
+    c = _three_fields(tmp_path)
+    trip, power = KNOWN_TRIP, KNOWN_POWER
     summary = pd.DataFrame({"combination": [k.name for k in c.combinations],
                             "picked_trip_fuel_kg": trip, "picked_engine_power_kW": power,
                             "min_trip_fuel_kg": trip, "min_engine_power_kW": power})
@@ -214,10 +223,8 @@ def test_small_campaign_on_a_local_cluster_then_resume(tmp_path):
 def test_carpet_plot_draws_every_combination_infeasible_ones_hatched(tmp_path):
     from optimiser.report.campaign_plots import carpet_plot
     from optimiser.report.figures import pyplot
-    text = SMALL.replace("[\"600 m\", \"900 m\"]", "[\"500 m\", \"700 m\", \"900 m\"]")
-    c = load_campaign(_small(tmp_path, text))
-    trip = [300.0, 310.0, 250.0, 262.0, 220.0, 230.0]
-    power = [400.0, 420.0, 330.0, 340.0, 300.0, 300.0]
+    c = _three_fields(tmp_path)
+    trip, power = KNOWN_TRIP, KNOWN_POWER
     summary = pd.DataFrame({"combination": [k.name for k in c.combinations],
                             "picked_trip_fuel_kg": trip, "picked_engine_power_kW": power,
                             "note": "", "status": "finished"})

@@ -1,7 +1,7 @@
 """Ctrl-C and SIGTERM during ``optimiser sweep``, serial and on a local Dask cluster, through
 the real command line.
 
-The expectations are the project's own rules (DEVELOPERS.md, campaigns): an interrupted
+Source: the project's own rules (DEVELOPERS.md, campaigns): an interrupted
 campaign exits with status 130 within seconds, keeps every finished run, leaves each running
 run with its checkpoint (marked "interrupted" in summary.csv, never "failed") and prints one
 command, quoted for the shell, that finishes it. A resumed run equals an uninterrupted one

@@ -2,7 +2,7 @@
 defaults applied, the certification numbers, and a coarse-grid warning for a requirement that
 no design in the bounds meets (a unit slip shows before a run).
 
-Sources of the expected values: exact unit definitions (1 ft = 0.3048 m, 1 kn = 1852/3600
+Source: for the expected values, exact unit definitions (1 ft = 0.3048 m, 1 kn = 1852/3600
 m/s, NIST SP 811 Appendix B); the 50 ft screen height of 14 CFR 23.53 (part23 takeoff
 distance, as optimiser.physics.performance.OBSTACLE_HEIGHT has it); the rest are the
 project's own rules (one line per value, exit status 0 for a valid study).

@@ -1,6 +1,6 @@
 """``optimiser compare``: the study values that differ, the fronts on a common reference.
 
-Sources: the hypervolume of a two-objective front is the area it dominates up to the
+Source: the hypervolume of a two-objective front is the area it dominates up to the
 reference point (Zitzler & Thiele 1998, "Multiobjective optimization using evolutionary
 algorithms - a comparative case study"), computed here independently by sorting; the
 common reference (ideal and nadir of the union's non-dominated designs, reference point 1.1

@@ -1,8 +1,8 @@
 """``optimiser evaluate`` on long designs tables: read, checked, sized and written in chunks.
 
-The expectations are the project's own rules: the streamed output is character for character
-what pandas' ``to_csv(index=False, float_format="%.10g")`` writes for the whole table (the
-format the command has always written); a bad row anywhere is refused by its row number in
+Source: the project's own rules: the streamed output reads back to exactly the numbers of the
+whole table (Arrow's writer, every float in its shortest exact form), the same bytes whether
+written to a file or to standard output; a bad row anywhere is refused by its row number in
 the file, in one line, and nothing is written (an existing file is left as it was).
 """
 

@@ -1,7 +1,7 @@
 """Design margins required on constraints (``[requirements] margins``) and the span limit
 (``[requirements] max_span``) with the aerodrome reference code letter.
 
-Sources: ICAO Annex 14, Aerodromes, Vol. I, Table 1-1 (aerodrome reference code, code element
+Source: ICAO Annex 14, Aerodromes, Vol. I, Table 1-1 (aerodrome reference code, code element
 2: wingspan A < 15 m, B < 24 m, C < 36 m, D < 52 m, E < 65 m, F < 80 m, each "up to but not
 including"), as /work/shared/METHODS.md section 10 gives it. Everything else checks the
 project's own rules (DEVELOPERS.md, study reference: a design meets a constraint when its raw

@@ -2,7 +2,7 @@
 ``optimiser robust --front`` and sizes to exactly the chosen design's numbers; a pick with
 hard limits goes to its own folder and leaves the unlimited pick alone.
 
-Source of the expectations: the project's own rules (the model is deterministic per design,
+Source: the project's own rules (the model is deterministic per design,
 so an exact input gives the same numbers bit for bit).
 """
 

@@ -2,7 +2,7 @@
 default marked with its origin), the certification basis and its numbers, the uncertainty
 table, and figures as SVG (crisp, self-contained).
 
-Sources: the project's own rules for what the report must state; the 50 ft screen height of
+Source: the project's own rules for what the report must state; the 50 ft screen height of
 14 CFR 23.53 for the part23 takeoff (as optimiser.physics.performance has it); exact unit
 definitions (1 kn = 1852/3600 m/s).
 """

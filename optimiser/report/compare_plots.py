@@ -48,34 +48,29 @@ def compare_fronts(cmp):
 
 
 def write_comparison(cmp, out: Path, force=False) -> Path:
-    """Write ``compare.csv``, ``study_changes.csv`` and ``fronts.png/.svg`` in ``out``
-    (built in a temporary sibling folder and renamed into place; an existing folder is
-    refused unless ``force``)."""
-    import os
-    import shutil
+    """Write ``compare.csv``, ``study_changes.csv`` and ``fronts.png/.svg`` in ``out``: the
+    tables and the figure are made first, then the folder is built in a temporary sibling and
+    renamed into place (:func:`~optimiser.runfolder.files.new_folder`); an existing folder is
+    refused unless ``force`` (:func:`~optimiser.report.picks.refuse_existing`)."""
     from ..errors import DecideError
-    from ..runfolder.files import csv_bytes, write_atomic
+    from ..runfolder.files import csv_bytes, new_folder, write_atomic
+    from .picks import refuse_existing
     out = Path(out)
-    if out.exists() and (not out.is_dir() or any(out.iterdir())) and not force:
-        raise DecideError(f"--out {out}: exists; expected a new folder (use --force to "
-                          "replace it)")
-    tmp = out.with_name(f".{out.name}.tmp-{os.getpid()}")
+    refuse_existing(out, force, "comparison")
+    texts = {"compare.csv": csv_bytes(cmp.summary),
+             "study_changes.csv": cmp.changes.to_csv(index=False).encode()}
+    fig = compare_fronts(cmp)
     try:
-        tmp.mkdir(parents=True, exist_ok=False)
-        write_atomic(tmp / "compare.csv", csv_bytes(cmp.summary))
-        write_atomic(tmp / "study_changes.csv", cmp.changes.to_csv(index=False).encode())
-        save(compare_fronts(cmp), tmp / "fronts")
-        if out.exists():
-            old = out.with_name(f".{out.name}.old-{os.getpid()}")
-            out.rename(old)
-            tmp.rename(out)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            tmp.rename(out)
+        out.parent.mkdir(parents=True, exist_ok=True)   # results/ on a first comparison
     except OSError as exc:
-        raise DecideError(f"--out {out}: cannot write ({exc.strerror}); expected a writable "
-                          "folder") from None
+        pyplot().close(fig)
+        raise DecideError(f"--out {out}: cannot create {out.parent} ({exc.strerror}); "
+                          "expected a writable folder") from None
+    try:
+        with new_folder(out, "the comparison") as tmp:
+            for name, data in texts.items():
+                write_atomic(tmp / name, data)
+            save(fig, tmp / "fronts")
     finally:
-        if tmp.exists():
-            shutil.rmtree(tmp, ignore_errors=True)
+        pyplot().close(fig)
     return out

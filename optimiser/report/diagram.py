@@ -34,6 +34,16 @@ class ZeroLine:
     polylines: list  # of (k, 2) arrays, infeasible side on the left of travel
 
 
+def smallest_excess(frame, constraints, required=None) -> np.ndarray:
+    """Per grid point, the smallest margin beyond its required one over ``constraints``
+    (``required``: name -> margin, 0 where absent; a non-finite margin counts as -1): where it
+    is at least 0 every constraint is met, the diagram's shaded region."""
+    required = required or {}
+    return np.min([np.where(np.isfinite(m), m - required.get(c, 0.0), -1.0)
+                   for c, m in ((c, frame[f"margin_{c}"].to_numpy(float)) for c in constraints)],
+                  axis=0)
+
+
 def _size(study, design, ws, ld):
     from ..evaluation import size_frame
     flap = study.spec.high_lift_names.index(design["flap"])

@@ -67,15 +67,13 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
     palette's colour and dash of each constraint."""
     import contourpy
     from ..sizing import active_constraints
-    from .diagram import trace
+    from .diagram import smallest_excess, trace
     from .plots import constraint_grid
     ws, ld, frame = constraint_grid(study, design, n)
     shape = (len(ld), len(ws))
     constraints = active_constraints(study.spec)
     required = dict(study.spec.requirements.margins)   # each line at its required margin
-    mins = np.min([np.where(np.isfinite(frame[f"margin_{c}"].to_numpy(float)),
-                            frame[f"margin_{c}"].to_numpy(float) - required.get(c, 0.0), -1.0)
-                   for c in constraints], axis=0)
+    mins = smallest_excess(frame, constraints, required)
     mins = mins.reshape(shape)
     lines = []
     for line in trace(study, design, ws, ld, frame, constraints, required):

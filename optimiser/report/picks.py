@@ -42,7 +42,8 @@ def design_input_bytes(study, design) -> bytes:
     return (",".join(cols) + "\n" + ",".join(cells) + "\n").encode("utf-8")
 
 
-def _refuse_existing(out: Path, force: bool, what: str):
+def refuse_existing(out: Path, force: bool, what: str):
+    """Refuse an output folder that is a link, a file, or (without ``force``) not empty."""
     import os
     if os.path.islink(out):
         raise DecideError(f"{out}: is a symbolic link; expected a folder for the {what} "
@@ -64,7 +65,7 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
     so a failure leaves no partial folder and an old one untouched."""
     from .plots import design_constraint_diagram
     out = pick_folder(run.run_dir, choice.method, choice.limits)
-    _refuse_existing(out, force, "pick files")
+    refuse_existing(out, force, "pick files")
     study = run.study
     runners = runners_up(study, choice, n_runners)
     table = sheet.design_sheet(study, choice.design)
@@ -121,7 +122,7 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     unless ``force``); built whole in a temporary sibling and renamed into place."""
     from .plots import flap_fronts
     out = run.run_dir / names.FLAPS_DIR
-    _refuse_existing(out, force, "flap comparison files")
+    refuse_existing(out, force, "flap comparison files")
     texts = {"flaps.csv": table.to_csv(index=False).encode(),
              "flaps.md": sheet.flaps_markdown(run.study, table).encode()}
     fig = flap_fronts(run.study, fronts, table, run.info.get("started_utc"))

@@ -297,7 +297,7 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     other front designs of the same flap type at their own sized points."""
     from matplotlib import patheffects
     from ..sizing import active_constraints
-    from .diagram import trace
+    from .diagram import smallest_excess, trace
     from .sheet import BINDING_MARGIN
     plt = pyplot()
     own = ax is None
@@ -309,9 +309,7 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     constraints = active_constraints(study.spec)
     required = dict(study.spec.requirements.margins)
     handles = []
-    mins = np.min([np.where(np.isfinite(frame[f"margin_{c}"].to_numpy(float)),
-                            frame[f"margin_{c}"].to_numpy(float) - required.get(c, 0.0), -1.0)
-                   for c in constraints], axis=0)
+    mins = smallest_excess(frame, constraints, required)
     if mins.max() >= 0:
         ax.contourf(W, L, mins.reshape(W.shape), levels=[0.0, np.inf],
                     colors=[palette.FEASIBLE_REGION], alpha=palette.FEASIBLE_REGION_ALPHA)

@@ -16,7 +16,7 @@ from pathlib import Path
 from ..errors import RunError
 from . import checked, names
 from .manifest import check_run_files
-from .runinfo import read_run_info
+from .runinfo import check_run_info_study, read_run_info
 
 TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds", "aerodrome_code_letter")
 """Text columns of front.csv that may be empty: read as "" (never NaN)."""
@@ -154,6 +154,6 @@ def load_run(run_dir) -> Run:
     info = read_run_info(run_dir)
     check_run_files(run_dir, info)  # the files are those the run wrote (run.json records)
     study = parse_study(read_study_text(run_dir), str(run_dir / names.STUDY))
-    info = read_run_info(run_dir, study)
+    check_run_info_study(run_dir, info, study)  # read once above, checked against its study
     return Run(study=study, run_dir=run_dir, front=read_front(run_dir, study, info),
                info=info)

@@ -70,8 +70,16 @@ def read_run_info(run_dir, study=None) -> dict:
         checked.fail(path, f"'feasible_found' is {json.dumps(info['feasible_found'])} with "
                      f"'front_size' {info['front_size']}", "a front size above 0 exactly "
                      "when a feasible design was found")
-    if study is None:
-        return info
+    if study is not None:
+        check_run_info_study(run_dir, info, study)
+    return info
+
+
+def check_run_info_study(run_dir, info: dict, study):
+    """A ``run.json`` already read (:func:`read_run_info`) agrees with its study: the same
+    objectives, and hypervolume scales of one finite number per objective, the nadir above
+    the ideal. :class:`~optimiser.errors.RunError` (one line) otherwise."""
+    path = Path(run_dir) / names.RUN_INFO
     objectives = list(study.objective_columns())
     if info["objectives"] != objectives:
         checked.fail(path, f"key 'objectives' is {checked.json_text(info['objectives'])}",
@@ -88,4 +96,3 @@ def read_run_info(run_dir, study=None) -> dict:
         checked.fail(path, f"key 'hypervolume.nadir' is {checked.json_text(hv['nadir'])} with "
                      f"'ideal' {checked.json_text(hv['ideal'])}", "a nadir above the ideal "
                      "in every objective")
-    return info
