@@ -85,7 +85,13 @@ COLUMNS = (
         archived=True, report_key=1),
     _c("empty_mass_kg", "mass", "kg",
         "empty mass, sum of the groups below times the empty-mass factor", archived=True),
+    _c("max_takeoff_mass_kg", "mass", "kg",
+        "frozen design: its maximum takeoff mass (the mass it was sized at)",
+        note=" (optimiser analyse only)"),
     _c("fuel_mass_kg", "mass", "kg", "fuel carried: trip + reserve + trapped", archived=True),
+    _c("fuel_on_board_kg", "mass", "kg",
+        "frozen design: fuel on board, takeoff mass - empty - crew - payload",
+        note=" (optimiser analyse only)"),
     _c("trip_fuel_kg", "mass", "kg",
         "fuel of the design mission, start-up to shut-down, no reserves", archived=True),
     _c("reserve_fuel_kg", "mass", "kg", "reserve fuel (time and/or distance at cruise speed)"),
@@ -269,6 +275,10 @@ class Constraint:
 
 CONSTRAINTS = (
     Constraint("mass_closure", "takeoff mass closes"),
+    Constraint("mission_fuel", "frozen design: the fuel on board covers the mission's trip, "
+               "reserve and trapped fuel (optimiser analyse, in place of mass_closure)"),
+    Constraint("max_takeoff_mass", "frozen design: takeoff mass within its maximum takeoff "
+               "mass (optimiser analyse)"),
     Constraint("takeoff_mass_limit", "takeoff mass within the certification basis' limit"),
     Constraint("runway_acceleration", "accelerates on the runway"),
     Constraint("stall_speed", "stall speed, landing configuration"),

@@ -58,7 +58,7 @@ __all__ = [
     "cruise_consumption", "cruise_speed", "design_batch", "fuel_volume", "high_lift",
     "installed_propulsion", "landing", "landing_field_required", "low_speed_polar",
     "maintenance_index", "mass_groups", "mission_fuel", "oei_climb_gradient", "required_margins", "size_batch",
-    "size_designs", "takeoff", "takeoff_field", "transport_climb_segments",
+    "fly", "size_designs", "takeoff", "takeoff_field", "transport_climb_segments",
 ]
 
 
@@ -106,10 +106,30 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
                                     st.rated)
     drag = built_up_drag(drag, components)
     tanks = fuel_volume(spec, st.wing_area_m2, st.span_m, st.fuel.fuel_mass_kg)
-    polar = low_speed_polar(spec, batch.aspect_ratio, st.span_m, drag, hl, ov)
-    engines = installed_propulsion(spec, st.rated, ov)
-    ap = airplane(closure.takeoff_mass_kg, batch.wing_loading_N_m2, batch.aspect_ratio,
-                  st.wing_area_m2, st.span_m, engines, hl, drag, polar)
+    return fly(spec, batch, air, drag, hl, consumption, closure, closure.takeoff_mass_kg,
+               st.wing_area_m2, st.span_m, st.rated, st.fuel, st.induced_drag_factor_cruise,
+               components, tanks, closure.closure_margin)
+
+
+def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag, hl: HighLift,
+        consumption: CruiseConsumption, closure: MassClosure, mass_kg, wing_area_m2, span_m,
+        rated, fuel: MissionFuel, induced_drag_factor_cruise, components, tanks: FuelVolume,
+        first_margin, constraints=None, extra_margins=None,
+        first_limits_only_when_violated=False) -> SizedBatch:
+    """The stages after the mass: polar, engines, the :class:`Airplane` at ``mass_kg`` [kg],
+    every performance stage and the margins (shared by :func:`size_batch` and the
+    frozen-design analysis, :func:`optimiser.sizing.frozen.analyse_batch`).
+
+    ``first_margin`` [-] is the first constraint's margin (the mass closure when sizing, the
+    fuel on board when analysing a fixed airplane); ``constraints`` and ``extra_margins``
+    (name -> margin [-]) name a constraint list other than :func:`active_constraints`, and
+    ``first_limits_only_when_violated`` (:func:`constraint_margins`) keeps the first from
+    being named limiting where it is met.
+    """
+    polar = low_speed_polar(spec, batch.aspect_ratio, span_m, drag, hl, batch.overrides)
+    engines = installed_propulsion(spec, rated, batch.overrides)
+    ap = airplane(mass_kg, batch.wing_loading_N_m2, batch.aspect_ratio, wing_area_m2, span_m,
+                  engines, hl, drag, polar)
     to = takeoff(spec, ap, air)
     oei = oei_climb_gradient(spec, ap, air)
     field = takeoff_field(spec, ap, air, to, oei)
@@ -119,9 +139,9 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
     gradient_required = aeo_climb_gradient_required(spec, ap)
     transport = transport_climb_segments(spec, ap, air, to.liftoff_speed_m_s)
     cruise = cruise_speed(spec, ap, air, consumption.propeller_efficiency,
-                          st.fuel.start_cruise_weight_N, st.induced_drag_factor_cruise)
+                          fuel.start_cruise_weight_N, induced_drag_factor_cruise)
     margins = constraint_margins(
-        spec, closure_margin=closure.closure_margin, takeoff_mass_kg=ap.mass_kg,
+        spec, closure_margin=first_margin, takeoff_mass_kg=ap.mass_kg,
         min_runway_acceleration_m_s2=to.min_runway_acceleration_m_s2,
         stall_speed_m_s=land.stall_speed_m_s, takeoff_field_required_m=field.required_m,
         landing_field_required_m=land_required, climb_rate_m_s=climb.climb_rate_m_s,
@@ -129,7 +149,9 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
         oei_climb_gradient=oei, transport_climb=transport,
         cruise_speed_m_s=cruise.speed_m_s, service_ceiling_m=climb.service_ceiling_m,
         fuel_volume_required_m3=tanks.required_m3, fuel_volume_available_m3=tanks.available_m3,
-        span_m=ap.span_m, model_range_margin=batch.model_range_margin)
+        span_m=ap.span_m, model_range_margin=batch.model_range_margin,
+        constraints=constraints, extra_margins=extra_margins,
+        first_limits_only_when_violated=first_limits_only_when_violated)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport,
                       components, tanks)

@@ -47,14 +47,16 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     return tuple(names)
 
 
-def required_margins(spec: AircraftSpec) -> np.ndarray:
+def required_margins(spec: AircraftSpec, constraints=None) -> np.ndarray:
     """The design margin the study requires on each active constraint, in the order of
-    :func:`active_constraints` [-] (``[requirements] margins``; 0 where none is given).
+    :func:`active_constraints` (or of ``constraints``) [-] (``[requirements] margins``; 0
+    where none is given).
 
     A design meets a constraint when its margin is at least the required one; the margin
     columns themselves stay the raw margins."""
     required = dict(spec.requirements.margins)
-    return np.array([float(required.get(c, 0.0)) for c in active_constraints(spec)])
+    names = active_constraints(spec) if constraints is None else constraints
+    return np.array([float(required.get(c, 0.0)) for c in names])
 
 
 @dataclass(frozen=True, slots=True)
@@ -73,7 +75,9 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        landing_field_required_m, climb_rate_m_s, climb_gradient,
                        climb_gradient_required, oei_climb_gradient, transport_climb,
                        cruise_speed_m_s, service_ceiling_m, fuel_volume_required_m3,
-                       fuel_volume_available_m3, span_m, model_range_margin=None) -> Margins:
+                       fuel_volume_available_m3, span_m, model_range_margin=None,
+                       constraints=None, extra_margins=None,
+                       first_limits_only_when_violated=False) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -110,6 +114,17 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         limiting constraint of each design outside (before ``mass_closure``).
     span_m : ndarray
         Wing span [m] (checked against ``[requirements] max_span`` when the study sets one).
+    constraints : tuple of str, optional
+        The constraints checked, in order (default :func:`active_constraints`); the first
+        one's margin is ``closure_margin``, and a design whose first margin is negative has it
+        as its limiting constraint.
+    extra_margins : dict of str -> ndarray, optional
+        Margins [-] of constraints the model does not compute here (a frozen design's
+        ``max_takeoff_mass``).
+    first_limits_only_when_violated : bool, default False
+        The first constraint is the limiting one only where it is violated (a frozen
+        design's fuel on board, 0 by construction at its design case, would otherwise name
+        itself limiting for every design sized there).
 
     Returns
     -------
@@ -140,7 +155,9 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     }
     if rq.max_span_m is not None:
         margins["span"] = 1.0 - span_m / rq.max_span_m
-    names = active_constraints(spec)
+    names = active_constraints(spec) if constraints is None else tuple(constraints)
+    margins[names[0]] = closure_margin
+    margins.update(extra_margins or {})
     outside = None
     if model_range_margin is not None and not np.all(np.asarray(model_range_margin) >= 0.0):
         margins[OUTSIDE_MODEL_RANGE] = np.broadcast_to(model_range_margin, np.shape(closure_margin))
@@ -153,14 +170,17 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                 performance.part25_climb_gradient_min(segment, spec.propulsion.engine_count))
     matrix = np.column_stack([margins[c] for c in names])
     matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
-    required = required_margins(spec)
+    required = required_margins(spec, names[:len(names) - (outside is not None)])
     if len(required) < len(names):  # outside_model_range: no margin can be required on it
         required = np.concatenate([required, np.zeros(len(names) - len(required))])
     beyond = matrix - required if required.any() else matrix  # no copy when none is required
     feasible = np.all(beyond >= 0.0, axis=1)
     # a design whose mass does not close is reported as such: its other margins were computed
-    # at the capped mass and mean little (mass_closure is always the first constraint)
-    limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(beyond, axis=1))
+    # at the capped mass and mean little (mass_closure is always the first constraint; for a
+    # frozen design the first is the fuel on board, which likewise decides the rest)
+    smallest = (1 + np.argmin(beyond[:, 1:], axis=1) if first_limits_only_when_violated
+                and len(names) > 1 else np.argmin(beyond, axis=1))
+    limiting = np.where(matrix[:, 0] < 0.0, 0, smallest)
     if outside is not None:  # sized at the clipped values: that is what limits it
         limiting = np.where(outside, len(names) - 1, limiting)
     return Margins(names, matrix, feasible, limiting)
