@@ -52,14 +52,18 @@ class OperatingCase:
     def describe(self, study) -> str:
         """One line: what the case changes from the study's design case."""
         parts = []
-        for key, unit in (("takeoff_mass_kg", "kg"), ("payload_kg", "kg"), ("fuel_kg", "kg")):
+        for key in ("takeoff_mass_kg", "payload_kg", "fuel_kg"):
             value = getattr(self, key)
             if value is not None:
-                parts.append(f"{key[:-3].replace('_', ' ')} {value:g} {unit}")
+                parts.append(f"{key[:-3].replace('_', ' ')} {value:g} kg")
+        units = {"_m_s": "m/s", "_m": "m", "_K": "K"}
         for key, value in self.conditions.items():
-            if value is not None:
-                parts.append(f"{key} = {value:g}" if isinstance(value, float)
-                             else f"{key} = {value}")
+            if value is None:
+                continue
+            unit = next((u for suffix, u in units.items() if key.endswith(suffix)), "")
+            name = key[:len(key) - len(next((s for s in units if key.endswith(s)), ""))]
+            name = name.replace("_", " ")
+            parts.append(f"{name} {value:g} {unit}" if unit else f"{name} {value}")
         return "; ".join(parts) if parts else ("the design case (maximum takeoff mass, the "
                                                "study's payload, airfields and cruise)")
 
@@ -212,3 +216,32 @@ def analyse(study, frozen: FrozenDesigns, flaps, case: OperatingCase = Operating
     columns["limiting_constraint"] = limiting
     columns["most_violated"] = np.where(feasible, "", limiting).astype(object)
     return pd.DataFrame(columns)
+
+
+MAX_TABLE_ROWS = 1_000_000
+"""Most rows ``optimiser analyse`` reads from one file (each is analysed at once)."""
+
+
+def read_table(study, path) -> pd.DataFrame:
+    """The rows of a CSV table of frozen designs or of evaluate's inputs (every cell as
+    text; UTF-8, one header). Raises :class:`StudyError` (one line naming the file)."""
+    from .designs import _csv_rows
+    rows = _csv_rows(study, path)
+    header = next(rows, None)
+    if header is None:
+        raise StudyError(f"{path}: the file is empty; expected a header and design rows")
+    header = [h.strip() for h in header]
+    body = []
+    for r in rows:
+        if len(r) != len(header):
+            raise StudyError(f"{path}: row {len(body) + 1} has {len(r)} cells; expected "
+                             f"{len(header)} like the header")
+        body.append(r)
+        if len(body) > MAX_TABLE_ROWS:
+            raise StudyError(f"{path}: more than {MAX_TABLE_ROWS} rows; expected at most "
+                             f"{MAX_TABLE_ROWS} (split the file)")
+    repeated = sorted({c for c in header if header.count(c) > 1})
+    if repeated:
+        raise StudyError(f"{path}: column {repeated[0]!r} appears {header.count(repeated[0])} "
+                         "times; expected each column once")
+    return pd.DataFrame(body, columns=header, dtype=object)

@@ -375,6 +375,8 @@ def build_parser() -> argparse.ArgumentParser:
     from .cli_campaign import add_robust_parser, add_sweep_parser
     add_sweep_parser(sub).set_defaults(func=cmd_sweep)
     add_robust_parser(sub).set_defaults(func=cmd_robust)
+    from .cli_analyse import add_analyse_parser, cmd_analyse
+    add_analyse_parser(sub).set_defaults(func=cmd_analyse)
     return p
 
 

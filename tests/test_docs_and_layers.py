@@ -138,12 +138,13 @@ LAYERS = (
     ("leaves", ("physics", "spec", "columns", "errors", "bundled")),
     ("loading and sizing", ("study", "quantities", "uncertainty", "study_table", "sizing",
                             "solvers")),
-    ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight")),
+    ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight",
+                               "analysis")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
                                         "campaign_file", "compare")),
     ("reporting", ("report",)),
-    ("command line", ("cli", "cli_decide", "cli_campaign", "__main__")),
+    ("command line", ("cli", "cli_decide", "cli_campaign", "cli_analyse", "__main__")),
 )
 """The layer order of DEVELOPERS.md, lowest first: a module imports only its own layer or
 lower ones. ``optimiser/__init__.py`` (the lazy public API) stands above them all."""

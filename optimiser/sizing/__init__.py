@@ -115,7 +115,7 @@ def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
         consumption: CruiseConsumption, closure: MassClosure, mass_kg, wing_area_m2, span_m,
         rated, fuel: MissionFuel, induced_drag_factor_cruise, components, tanks: FuelVolume,
         first_margin, constraints=None, extra_margins=None,
-        first_limits_only_when_violated=False) -> SizedBatch:
+        exempt_when_met=0) -> SizedBatch:
     """The stages after the mass: polar, engines, the :class:`Airplane` at ``mass_kg`` [kg],
     every performance stage and the margins (shared by :func:`size_batch` and the
     frozen-design analysis, :func:`optimiser.sizing.frozen.analyse_batch`).
@@ -123,8 +123,8 @@ def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
     ``first_margin`` [-] is the first constraint's margin (the mass closure when sizing, the
     fuel on board when analysing a fixed airplane); ``constraints`` and ``extra_margins``
     (name -> margin [-]) name a constraint list other than :func:`active_constraints`, and
-    ``first_limits_only_when_violated`` (:func:`constraint_margins`) keeps the first from
-    being named limiting where it is met.
+    ``exempt_when_met`` (:func:`constraint_margins`) keeps that many leading constraints
+    from being named limiting where they are met.
     """
     polar = low_speed_polar(spec, batch.aspect_ratio, span_m, drag, hl, batch.overrides)
     engines = installed_propulsion(spec, rated, batch.overrides)
@@ -151,7 +151,7 @@ def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
         fuel_volume_required_m3=tanks.required_m3, fuel_volume_available_m3=tanks.available_m3,
         span_m=ap.span_m, model_range_margin=batch.model_range_margin,
         constraints=constraints, extra_margins=extra_margins,
-        first_limits_only_when_violated=first_limits_only_when_violated)
+        exempt_when_met=exempt_when_met)
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport,
                       components, tanks)

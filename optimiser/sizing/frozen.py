@@ -269,7 +269,7 @@ def analyse_batch(spec: AircraftSpec, frozen: FrozenDesigns, masses: OperatingMa
     sized = fly(spec, batch, air, drag, hl, consumption, closure, m_to, s_ref, span,
                 frozen.rated, fuel, k_cr, components, tanks, first,
                 constraints=analysis_constraints(spec), extra_margins=extra,
-                first_limits_only_when_violated=True)
+                exempt_when_met=len(ANALYSIS_FIRST_CONSTRAINTS))
     return sized, on_board
 
 

@@ -77,7 +77,7 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        cruise_speed_m_s, service_ceiling_m, fuel_volume_required_m3,
                        fuel_volume_available_m3, span_m, model_range_margin=None,
                        constraints=None, extra_margins=None,
-                       first_limits_only_when_violated=False) -> Margins:
+                       exempt_when_met=0) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -121,10 +121,11 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     extra_margins : dict of str -> ndarray, optional
         Margins [-] of constraints the model does not compute here (a frozen design's
         ``max_takeoff_mass``).
-    first_limits_only_when_violated : bool, default False
-        The first constraint is the limiting one only where it is violated (a frozen
-        design's fuel on board, 0 by construction at its design case, would otherwise name
-        itself limiting for every design sized there).
+    exempt_when_met : int, default 0
+        How many leading constraints are named limiting only where one of them is violated
+        (then the most violated of them): a frozen design's fuel on board and maximum
+        takeoff mass, both at zero margin by construction at its design case, would
+        otherwise name themselves limiting for every design analysed there.
 
     Returns
     -------
@@ -178,9 +179,13 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     # a design whose mass does not close is reported as such: its other margins were computed
     # at the capped mass and mean little (mass_closure is always the first constraint; for a
     # frozen design the first is the fuel on board, which likewise decides the rest)
-    smallest = (1 + np.argmin(beyond[:, 1:], axis=1) if first_limits_only_when_violated
-                and len(names) > 1 else np.argmin(beyond, axis=1))
-    limiting = np.where(matrix[:, 0] < 0.0, 0, smallest)
+    if exempt_when_met and len(names) > exempt_when_met:
+        k = exempt_when_met
+        lead = beyond[:, :k]
+        limiting = np.where(np.any(lead < 0.0, axis=1), np.argmin(lead, axis=1),
+                            k + np.argmin(beyond[:, k:], axis=1))
+    else:
+        limiting = np.where(matrix[:, 0] < 0.0, 0, np.argmin(beyond, axis=1))
     if outside is not None:  # sized at the clipped values: that is what limits it
         limiting = np.where(outside, len(names) - 1, limiting)
     return Margins(names, matrix, feasible, limiting)
