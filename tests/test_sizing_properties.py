@@ -335,6 +335,57 @@ def test_default_study_median_empty_fraction_in_the_general_aviation_range(feasi
     assert 0.55 <= np.median(feasible["high_strip_utility"]["empty_mass_fraction"]) <= 0.65
 
 
+TABLE_2_15 = {  # log10 W_TO = A + B log10 W_E [lb]: (A, B), Roskam Pt I Table 2.15, as in
+    # METHODS.md (from memory; check values there: single prop 2500 lb -> W_E / W_TO 0.59604)
+    "single_engine_propeller": (-0.1440, 1.1162),
+    "twin_engine_propeller": (0.0966, 1.0298),
+    "regional_turboprop": (0.3774, 0.9647),
+    "business_jet": (0.2678, 0.9979),
+}
+LB = 0.45359237  # kg, exact (NIST SP 811, 2008, appendix B)
+
+
+def table_2_15_empty_mass_kg(takeoff_mass_kg, category):
+    """Empty mass [kg] the Roskam Pt I Table 2.15 regression gives at a takeoff mass."""
+    a, b = TABLE_2_15[category]
+    return 10.0 ** ((np.log10(np.asarray(takeoff_mass_kg) / LB) - a) / b) * LB
+
+
+def test_table_2_15_regression_reproduces_its_check_value():
+    """METHODS.md's check: single prop 2500 lb -> W_E / W_TO = 0.59604 (to 1e-4)."""
+    w_e = table_2_15_empty_mass_kg(2500 * LB, "single_engine_propeller")
+    assert w_e / (2500 * LB) == pytest.approx(0.59604, abs=1e-4)
+
+
+# (study, category, observed median of class II / regression over the feasible sample).
+# The regression's error on W_E is 5 to 10 % for a typical airplane of its class (METHODS.md);
+# a single design may differ more, so the median is held to +-20 % (two of those errors).
+# The high-strip utility single sits at the heavy end (fixed gear, strut-braced wing sized for
+# a 5.7 ultimate load factor at a low wing loading, 300 kg of fixed equipment): reported, not
+# recalibrated.
+CLASS_II_VS_TABLE_2_15 = [
+    ("high_strip_utility", "single_engine_propeller"),      # observed median 1.156
+    ("twin_turboprop_commuter", "twin_engine_propeller"),   # observed 0.920
+    ("twin_turboprop_commuter", "regional_turboprop"),      # observed 0.971
+    ("light_twin_jet", "business_jet"),                     # observed 1.009
+]
+
+
+@pytest.mark.parametrize("name, category", CLASS_II_VS_TABLE_2_15)
+def test_class_ii_empty_mass_against_the_class_i_regression_at_the_same_takeoff_mass(
+        feasible, name, category):
+    """The component (class II) empty mass of each demo's feasible designs against the
+    statistical (class I) empty mass of its class at the same takeoff mass (Roskam Pt I
+    Table 2.15, from memory): an independent, published check of the whole mass build-up.
+    Median within +-20 %, and the central 80 % within -25 % to +35 %."""
+    frame = feasible[name]
+    ratio = frame["empty_mass_kg"] / table_2_15_empty_mass_kg(frame["takeoff_mass_kg"],
+                                                              category)
+    assert 0.8 <= np.median(ratio) <= 1.2, np.median(ratio)
+    p10, p90 = np.percentile(ratio, [10, 90])
+    assert p10 >= 0.75 and p90 <= 1.35, (p10, p90)
+
+
 # --- lift-off speed -------------------------------------------------------------------------
 
 @pytest.mark.parametrize("name", NAMES)
