@@ -398,6 +398,10 @@ def main(argv=None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return EXIT_INTERRUPTED
+    except BrokenPipeError:  # the reader of standard output went away (`| head`): stop quietly
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())  # no second error when Python flushes at exit
+        return 1
 
 
 if __name__ == "__main__":  # pragma: no cover
