@@ -28,11 +28,12 @@ CASE_HELP = {
     "cruise_temperature_offset": "ISA temperature offset in cruise and for the ceiling",
     "range": "mission range, e.g. '400 nmi'",
 }
-"""The operating-case options (``--takeoff-mass`` ...) and their help."""
+"""The operating-case options (``--takeoff-mass`` ...) and their help: the keys of
+:data:`optimiser.analysis.CASE_OPTIONS` (a test checks it; not imported here, so that
+``optimiser --help`` stays fast)."""
 
 
 def add_analyse_parser(sub):
-    from .analysis import CASE_OPTIONS
     a = sub.add_parser("analyse", help="analyse fixed airplanes (wing, engines, flap and empty "
                        "mass as built) at an operating case: every performance number and "
                        "margin, no re-sizing")
@@ -45,7 +46,6 @@ def add_analyse_parser(sub):
     a.add_argument("--design", help="one design as evaluate's name=value pairs, sized first")
     a.add_argument("--out", help="CSV file to write (never replaced without --force)")
     a.add_argument("--force", action="store_true", help="replace an existing output file")
-    assert set(CASE_HELP) == set(CASE_OPTIONS)
     for option, text in CASE_HELP.items():
         a.add_argument("--" + option.replace("_", "-"), dest=f"case_{option}", help=text)
     return a

@@ -178,6 +178,12 @@ def test_case_options_take_units_and_refuse_nonsense():
         read_case({"fuel": "5 kg", "payload": "1 kg", "takeoff_mass": "900 kg"})
 
 
+def test_every_case_option_is_on_the_command_line():
+    from optimiser.analysis import CASE_OPTIONS
+    from optimiser.cli_analyse import CASE_HELP
+    assert set(CASE_HELP) == set(CASE_OPTIONS)
+
+
 def _cli(*args, cwd):
     return subprocess.run([sys.executable, "-m", "optimiser", "analyse", *args],
                           capture_output=True, text=True, cwd=cwd)
