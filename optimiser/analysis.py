@@ -28,7 +28,7 @@ from .quantities import _Reader
 from .sizing.frozen import (CONDITION_FIELDS, FrozenDesigns, analyse_designs,
                             analysis_checked_constraints, case_spec, frozen_designs,
                             frozen_from_sized, operating_masses)
-from .sizing.inputs import MODEL_RANGES
+from .sizing.inputs import MODEL_RANGES, range_text
 
 FROZEN_COLUMNS = ("flap", "wing_area_m2", "aspect_ratio", "empty_mass_kg",
                   "max_takeoff_mass_kg")
@@ -173,8 +173,8 @@ def frozen_from_table(study, table: pd.DataFrame, source: str = "designs"
     r = MODEL_RANGES["aspect_ratio"]
     for i, a in enumerate(ar):
         if not r.lower <= a <= r.upper:
-            raise StudyError(f"{source}: row {i + 1}: aspect ratio {a:g}; expected from "
-                             f"{r.lower:g} to {r.upper:g} (the model's valid range)")
+            raise StudyError(f"{source}: row {i + 1}: aspect ratio {a:g}; expected a number "
+                             + range_text("aspect_ratio"))
     rated = _number_column(table, size_col, source) * 1e3
     m_e = _number_column(table, "empty_mass_kg", source)
     m_col = "max_takeoff_mass_kg" if "max_takeoff_mass_kg" in table.columns else \

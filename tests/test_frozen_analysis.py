@@ -1,6 +1,6 @@
 """The frozen-design analysis (optimiser analyse): a fixed airplane at an operating case.
 
-Sources: the model's own sizing (a sized design analysed at its design case must give the
+Source: the model's own sizing (a sized design analysed at its design case must give the
 same numbers: the issue's check, to 1e-10 relative); the stall speed V_S = sqrt(2 W /
 (rho S CL_max)) (the lift equation: V_S grows as sqrt(m) at fixed wing and CL_max, exact);
 the mass breakdown takeoff = empty + crew + payload + fuel (J. Roskam, "Airplane Design",

@@ -231,7 +231,7 @@ def analyse_batch(spec: AircraftSpec, frozen: FrozenDesigns, masses: OperatingMa
     (or thrust-to-weight) follow the case's mass; a case that moves them outside the model's
     valid ranges is flagged ``outside_model_range`` as in sizing.
     """
-    from . import SizedBatch, fly  # noqa: F401  (the shared stages)
+    from . import fly  # the stages after the mass, shared with size_batch
     m_to = masses.takeoff_mass_kg
     w = m_to * G0
     s_ref, ar = frozen.wing_area_m2, frozen.aspect_ratio

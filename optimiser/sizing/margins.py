@@ -171,9 +171,7 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                 performance.part25_climb_gradient_min(segment, spec.propulsion.engine_count))
     matrix = np.column_stack([margins[c] for c in names])
     matrix = np.nan_to_num(matrix, nan=-1e3, posinf=1e3, neginf=-1e3)
-    required = required_margins(spec, names[:len(names) - (outside is not None)])
-    if len(required) < len(names):  # outside_model_range: no margin can be required on it
-        required = np.concatenate([required, np.zeros(len(names) - len(required))])
+    required = required_margins(spec, names)  # none can be required on outside_model_range
     beyond = matrix - required if required.any() else matrix  # no copy when none is required
     feasible = np.all(beyond >= 0.0, axis=1)
     # a design whose mass does not close is reported as such: its other margins were computed
