@@ -36,6 +36,8 @@ SVG_DASHES = {"solid": "", "dashed": "7 4", "dotted": "2 3", "dashdot": "7 3 2 3
 O = OKABE_ITO
 CONSTRAINT_STYLES = {
     "mass_closure": (O["black"], "dotted"),
+    "mission_fuel": (TOL_MUTED["olive"], "solid"),
+    "max_takeoff_mass": (TOL_MUTED["olive"], "dashed"),
     "takeoff_mass_limit": (O["black"], "dashdot"),
     "runway_acceleration": (O["black"], "dashed"),
     "stall_speed": (O["vermillion"], "solid"),
@@ -55,7 +57,8 @@ CONSTRAINT_STYLES = {
     "outside_model_range": (O["black"], "solid"),
 }
 """Constraint name -> (colour, line style name). Constraints that share a colour are of one
-kind (the climb checks with one engine out, the landing checks) and differ in dash."""
+kind (the climb checks with one engine out, the landing checks, the two mass checks of a
+frozen design) and differ in dash."""
 del O
 
 FLAP_COLOURS = {
