@@ -42,7 +42,6 @@ Resume: run the same campaign with ``--out`` set to the existing campaign folder
 
 from __future__ import annotations
 
-import os
 import re
 import time
 from dataclasses import dataclass
@@ -197,40 +196,10 @@ def prepare_campaign_dir(campaign: Campaign, out=None) -> tuple[Path, list]:
 
 
 def _dask_client(scheduler=None, workers=None, threads=False):
-    try:
-        from dask.distributed import Client, LocalCluster
-    except ImportError:
-        raise CampaignError("--scheduler/--workers: dask is not installed; expected "
-                            "pip install -e \".[cluster]\" (or run with --serial)") from None
-    if scheduler is not None:
-        try:
-            return Client(scheduler, timeout="20s"), None
-        except (OSError, TimeoutError, ValueError) as exc:
-            raise CampaignError(f"--scheduler: cannot connect to {scheduler!r} "
-                                f"({type(exc).__name__}); expected the address of a running "
-                                "Dask scheduler, e.g. tcp://10.0.0.5:8786") from None
-    n = workers or os.cpu_count() or 1
-    cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=not threads,
-                           dashboard_address=None)
-    client = Client(cluster)
-    if not threads:
-        client.register_plugin(_ignore_interrupts_plugin(), name="optimiser-ignore-sigint")
-    return client, cluster
-
-
-def _ignore_interrupts_plugin():
-    """A Dask worker plugin for a local cluster: each worker process ignores SIGINT. A Ctrl-C
-    in a terminal reaches the whole process group; this process alone stops the campaign
-    (each run checkpoints through :data:`STOP_REQUEST`) and then closes the cluster."""
-    from distributed import WorkerPlugin
-
-    class IgnoreInterrupts(WorkerPlugin):
-        def setup(self, worker):
-            import signal
-            import threading
-            if threading.current_thread() is threading.main_thread():
-                signal.signal(signal.SIGINT, signal.SIG_IGN)
-    return IgnoreInterrupts()
+    """The campaign's Dask client and local cluster (:func:`optimiser.cluster.dask_client`)."""
+    from .cluster import dask_client
+    return dask_client(scheduler, workers, threads, error=CampaignError,
+                       fallback="run with --serial")
 
 
 class _StopRequest:

@@ -244,6 +244,29 @@ def _rejoin_split_duration(args):
         args.time, args.study = f"{args.time.strip()} {args.study.strip()}", None
 
 
+def _cluster_options(p):
+    p.add_argument("--workers", type=int, help="size each generation on a local Dask cluster "
+                   "of this many worker processes (same result as without; pays off for large "
+                   "populations and sampled constraints)")
+    p.add_argument("--scheduler", help="size each generation on the workers of a running Dask "
+                   "scheduler at this address, e.g. tcp://10.0.0.5:8786")
+
+
+def _cluster_line(result) -> str:
+    """One line saying how much of the sizing went to Dask workers ('' without a cluster)."""
+    c = getattr(result, "cluster", None)
+    if not c:
+        return ""
+    rows = c["rows_on_workers"] + c["rows_here"]
+    return (f"Dask: {c['workers']} workers sized {c['rows_on_workers']} of {rows} designs; "
+            f"the rest (batches under {_min_rows()} designs) were sized here\n")
+
+
+def _min_rows():
+    from .cluster import MIN_ROWS_PER_TASK
+    return MIN_ROWS_PER_TASK
+
+
 def cmd_run(args):
     from .report.plots import write_plots
     from .runs import optimise, summary_text
@@ -254,8 +277,9 @@ def cmd_run(args):
                       generations=args.gens, population=args.pop, evaluations=args.evals,
                       time_budget_s=time_s, stall_generations=args.stall_gens,
                       checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots,
-                      stall_tolerance=args.stall_tol)
-    print(summary_text(study, result))
+                      stall_tolerance=args.stall_tol, workers=args.workers,
+                      scheduler=args.scheduler)
+    print(_cluster_line(result) + summary_text(study, result))
     return 0
 
 
@@ -263,10 +287,11 @@ def cmd_resume(args):
     from .report.plots import write_plots
     from .runs import load_checkpoint, resume, summary_text
     from .study import parse_study
-    result = resume(args.run_dir, progress=True, plots=write_plots)
+    result = resume(args.run_dir, progress=True, plots=write_plots, workers=args.workers,
+                    scheduler=args.scheduler)
     state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
     study = parse_study(state.study_text, state.study_path)
-    print(summary_text(study, result))
+    print(_cluster_line(result) + summary_text(study, result))
     return 0
 
 
@@ -359,9 +384,11 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--checkpoint-every", type=int, default=None, dest="checkpoint_every",
                    help="generations between checkpoints (default: one every 30 s of "
                         "running)")
+    _cluster_options(r)
     r.set_defaults(func=cmd_run)
     s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")
     s.add_argument("run_dir", metavar="RUN_DIR", help="the run folder")
+    _cluster_options(s)
     s.set_defaults(func=cmd_resume)
     b = sub.add_parser("studies", help="list the bundled demo studies, or copy one (with its "
                        "sample designs, or a campaign with its base study) as the start of "

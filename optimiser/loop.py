@@ -68,9 +68,16 @@ def history_row(study, state, n_feasible_gen, hv):
     row["elapsed_s"] = round(state.elapsed_s, 3)
     return row
 
-def _one_generation(study, state, pending):
+def _in_process(fn, spec, *args, **kwargs):
+    """Evaluate a batch here (the default of :func:`run_loop`)."""
+    return fn(spec, *args, **kwargs)
+
+
+def _one_generation(study, state, pending, evaluate=_in_process):
     """Ask, evaluate and tell every option once; add the archive rows and the history line
-    to ``pending`` (an :class:`~optimiser.runfolder.archive.Pending`; the caller writes it)."""
+    to ``pending`` (an :class:`~optimiser.runfolder.archive.Pending`; the caller writes it).
+    ``evaluate(fn, spec, *arrays)`` runs the model on the batch (here, or on Dask workers
+    through :class:`optimiser.cluster.RowMap`: the same numbers either way)."""
     from .search import design_arrays, hypervolume, objectives_and_constraints, total_violation
     from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
@@ -79,7 +86,7 @@ def _one_generation(study, state, pending):
     X = np.vstack([p.get("X") for p in pops])
     flap = np.repeat([algo.problem.flap_index for algo in state.algos], sizes)
     ws, load, ar = design_arrays(study, X)
-    sized = size_designs(study.spec, ws, load, ar, flap)
+    sized = evaluate(size_designs, study.spec, ws, load, ar, flap)
     F, G = objectives_and_constraints(study, sized)
     start = 0
     for algo, pop, n in zip(state.algos, pops, sizes):
@@ -172,9 +179,11 @@ class Printer:
             self.dirty = False
 
 
-def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
+def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None,
+             evaluate=None):
     """Run generations until a stop rule holds. ``progress(row, state)`` is called after each
-    generation. Ctrl-C or SIGTERM (or a KeyboardInterrupt raised by ``progress``) ends the
+    generation. ``evaluate`` sizes each generation's batch (default: in this process; an
+    :class:`optimiser.cluster.RowMap` spreads it over Dask workers, bit-identically). Ctrl-C or SIGTERM (or a KeyboardInterrupt raised by ``progress``) ends the
     generation in hand, saves a checkpoint and raises :class:`RunInterrupted`. ``saved``
     (a dict, optional) gets the generation of each checkpoint written, under "generation"."""
     stop = {"signal": None}
@@ -200,7 +209,7 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None):
                 state.termination = reason
                 break
             t0 = time.monotonic()
-            row = _one_generation(study, state, pending)
+            row = _one_generation(study, state, pending, evaluate or _in_process)
             state.elapsed_s += time.monotonic() - t0
             row["elapsed_s"] = round(state.elapsed_s, 3)
             since_ckpt += 1

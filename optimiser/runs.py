@@ -28,6 +28,8 @@ written (nothing is written through a link).
 
 from __future__ import annotations
 
+import contextlib
+import dataclasses
 import errno
 import math
 import time
@@ -227,7 +229,8 @@ def _progress_fn(progress):
 def optimise(study_or_path, *, out=None, seed=None, generations=None, population=None,
              evaluations=None, time_budget_s=None, stall_generations=None,
              checkpoint_every=None, force=False, progress=False, plots=None,
-             stall_tolerance=None) -> RunResult:
+             stall_tolerance=None, workers=None, scheduler=None,
+             min_rows_per_task=None) -> RunResult:
     """Search the study's variables for the Pareto front of its objectives.
 
     ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's
@@ -238,28 +241,57 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
     True (print a line per generation), False, or a callable ``progress(row, state)``.
     ``plots`` draws the run's figures into ``plots/``: pass
     :func:`optimiser.report.plots.write_plots` (or any callable of the same signature); None
-    draws none. Writes the run folder (``out``, default ``results/<study>-<UTC time>``) and
-    returns a :class:`RunResult`.
+    draws none. ``workers`` (a local Dask cluster of that many processes) or ``scheduler``
+    (the address of a running Dask scheduler) spreads each generation's sizing over Dask
+    workers (:class:`optimiser.cluster.RowMap`, pieces of at least ``min_rows_per_task``
+    rows, default :data:`optimiser.cluster.MIN_ROWS_PER_TASK`): the result is bit-identical
+    to the run in one process. Writes the run folder (``out``, default
+    ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
     Raises :class:`RunInterrupted` after saving a checkpoint when interrupted.
     """
     from .study import Study, load_study
+    from .cluster import check_workers
     study = study_or_path if isinstance(study_or_path, Study) else load_study(study_or_path)
-    state, run_dir, held = _start(study, out=out, force=force, seed=seed,
-                                  generations=generations, population=population,
-                                  evaluations=evaluations, time_budget_s=time_budget_s,
-                                  stall_generations=stall_generations,
-                                  checkpoint_every=checkpoint_every,
-                                  stall_tolerance=stall_tolerance)
-    with held:
-        return _drive(study, state, run_dir, _progress_fn(progress), plots)
+    check_workers(workers, scheduler, error=RunError)
+    _check_positive("min_rows_per_task", min_rows_per_task)
+    with _row_map(workers, scheduler, min_rows_per_task) as evaluate:
+        state, run_dir, held = _start(study, out=out, force=force, seed=seed,
+                                      generations=generations, population=population,
+                                      evaluations=evaluations, time_budget_s=time_budget_s,
+                                      stall_generations=stall_generations,
+                                      checkpoint_every=checkpoint_every,
+                                      stall_tolerance=stall_tolerance)
+        with held:
+            return _drive(study, state, run_dir, _progress_fn(progress), plots, evaluate)
 
 
-def _drive(study, state, run_dir, progress, plots):
+@contextlib.contextmanager
+def _row_map(workers, scheduler, min_rows_per_task):
+    """The evaluator of a run: None (in this process) or a :class:`~optimiser.cluster.RowMap`
+    on a Dask client, connected before the run folder is made and closed however the run
+    ends."""
+    if workers is None and scheduler is None:
+        yield None
+        return
+    from .cluster import MIN_ROWS_PER_TASK, RowMap, close, dask_client
+    client, cluster = dask_client(scheduler, workers, error=RunError)
+    try:
+        yield RowMap(client, min_rows_per_task or MIN_ROWS_PER_TASK)
+    finally:
+        close(client, cluster)
+
+
+def _drive(study, state, run_dir, progress, plots, evaluate=None):
     # the generation of the last checkpoint on disk, for the message if a write fails
     saved = {"generation": state.generation}
     try:
-        run_loop(study, state, run_dir, progress, saved=saved)
-        return finish(study, state, run_dir, plots=plots)
+        run_loop(study, state, run_dir, progress, saved=saved, evaluate=evaluate)
+        result = finish(study, state, run_dir, plots=plots)
+        if evaluate is not None:
+            result = dataclasses.replace(result, cluster={
+                "workers": evaluate.workers, "rows_on_workers": evaluate.rows_remote,
+                "rows_here": evaluate.rows_local})
+        return result
     except OSError as exc:  # a full disk, a folder made read-only or removed under the run
         what = exc.strerror or type(exc).__name__
         name = Path(exc.filename).name if exc.filename else "a run file"
@@ -274,22 +306,29 @@ def _drive(study, state, run_dir, progress, plots):
             progress.close()
 
 
-def resume(run_dir, *, progress=False, plots=None) -> RunResult:
+def resume(run_dir, *, progress=False, plots=None, workers=None, scheduler=None,
+           min_rows_per_task=None) -> RunResult:
     """Continue an interrupted run from its checkpoint to its original budget. With the same
     seed the result equals that of an uninterrupted run. ``plots`` as for :func:`optimise`.
 
     The checkpoint must belong to the folder (its run id, study hash and archive records,
     :func:`~optimiser.runfolder.manifest.check_checkpoint_folder`), checked by
-    :func:`load_checkpoint` before anything is truncated or appended."""
+    :func:`load_checkpoint` before anything is truncated or appended. ``workers``,
+    ``scheduler`` and ``min_rows_per_task`` as for :func:`optimise` (a run may resume on a
+    cluster it did not start on, or the other way: the numbers are the same)."""
+    from .cluster import check_workers
     run_dir = Path(run_dir)
+    check_workers(workers, scheduler, error=RunError)
+    _check_positive("min_rows_per_task", min_rows_per_task)
     if not has_checkpoint(run_dir):
         load_checkpoint(run_dir)  # no folder, or no checkpoint in it: its one-line error
-    with place.lock_run_dir(run_dir, "resume"):
-        place.check_run_files(run_dir)  # no link, pipe or folder under a run file's name
-        return _resume_locked(run_dir, progress, plots)
+    with _row_map(workers, scheduler, min_rows_per_task) as evaluate:
+        with place.lock_run_dir(run_dir, "resume"):
+            place.check_run_files(run_dir)  # no link, pipe or folder under a run file's name
+            return _resume_locked(run_dir, progress, plots, evaluate)
 
 
-def _resume_locked(run_dir: Path, progress, plots) -> RunResult:
+def _resume_locked(run_dir: Path, progress, plots, evaluate=None) -> RunResult:
     from .study import parse_study
     state = load_checkpoint(run_dir)  # read under the lock: as the last writer left it
     # A run killed after its last checkpoint but before run.json (written last) is finished
@@ -301,4 +340,4 @@ def _resume_locked(run_dir: Path, progress, plots) -> RunResult:
     place.remove_stale_temporaries(run_dir)
     study = parse_study(state.study_text, state.study_path)
     archive.truncate_to(run_dir, state.archive_bytes, state.history_bytes)
-    return _drive(study, state, run_dir, _progress_fn(progress), plots)
+    return _drive(study, state, run_dir, _progress_fn(progress), plots, evaluate)

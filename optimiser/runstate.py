@@ -26,6 +26,9 @@ class RunResult:
     termination: str
     least_violating: object = None
     best_margin: dict = field(default_factory=dict)
+    cluster: dict | None = None
+    """Set when the run's sizing went to Dask workers: ``workers``, ``rows_on_workers``,
+    ``rows_here``."""
 
     def __repr__(self):
         return (f"RunResult({len(self.front)} front designs, {self.n_evaluations} evaluations, "
