@@ -278,7 +278,7 @@ def cmd_run(args):
                       time_budget_s=time_s, stall_generations=args.stall_gens,
                       checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots,
                       stall_tolerance=args.stall_tol, workers=args.workers,
-                      scheduler=args.scheduler)
+                      scheduler=args.scheduler, reliability=args.reliability)
     print(_cluster_line(result) + summary_text(study, result))
     return 0
 
@@ -384,6 +384,9 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--checkpoint-every", type=int, default=None, dest="checkpoint_every",
                    help="generations between checkpoints (default: one every 30 s of "
                         "running)")
+    r.add_argument("--reliability", type=float, help="keep only designs that meet each "
+                   "constraint with at least this probability under the study's "
+                   "[uncertainty] (e.g. 0.95; default: the study's [search] reliability)")
     _cluster_options(r)
     r.set_defaults(func=cmd_run)
     s = sub.add_parser("resume", help="continue an interrupted run from its checkpoint")

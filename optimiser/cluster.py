@@ -117,17 +117,22 @@ class RowMap:
             return 0
         return max(len(self.client.scheduler_info().get("workers", {})), 1)
 
-    def __call__(self, fn, spec, *args, **kwargs):
+    def __call__(self, fn, spec, *args, shared=None, **kwargs):
+        """``fn(spec, *args, **kwargs, **shared)``: ``args`` and ``kwargs`` are cut into
+        rows, ``shared`` (keyword arguments, e.g. the samples of every design) goes whole to
+        every piece."""
+        shared = shared or {}
         n = _rows(args, kwargs)
         pieces = cut_points(n, self.workers, self.min_rows_per_task) \
             if self.client is not None else [(0, n)]
         if len(pieces) == 1:
             self.rows_local += n
-            return fn(spec, *args, **kwargs)
+            return fn(spec, *args, **kwargs, **shared)
         remote_spec = self._scattered(spec)
         futures = [self.client.submit(fn, remote_spec,
                                       *(_take(v, a, b, n) for v in args), pure=False,
-                                      **{k: _take(v, a, b, n) for k, v in kwargs.items()})
+                                      **{k: _take(v, a, b, n) for k, v in kwargs.items()},
+                                      **shared)
                    for a, b in pieces]
         answers = self.client.gather(futures)
         self.rows_remote += n

@@ -73,11 +73,12 @@ def _in_process(fn, spec, *args, **kwargs):
     return fn(spec, *args, **kwargs)
 
 
-def _one_generation(study, state, pending, evaluate=_in_process):
+def _one_generation(study, state, pending, evaluate=_in_process, chance=None):
     """Ask, evaluate and tell every option once; add the archive rows and the history line
     to ``pending`` (an :class:`~optimiser.runfolder.archive.Pending`; the caller writes it).
     ``evaluate(fn, spec, *arrays)`` runs the model on the batch (here, or on Dask workers
-    through :class:`optimiser.cluster.RowMap`: the same numbers either way)."""
+    through :class:`optimiser.cluster.RowMap`: the same numbers either way). ``chance``
+    (an :class:`optimiser.chance.ChanceEvaluator`) judges a chance-constrained run."""
     from .search import design_arrays, hypervolume, objectives_and_constraints, total_violation
     from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
@@ -88,6 +89,11 @@ def _one_generation(study, state, pending, evaluate=_in_process):
     ws, load, ar = design_arrays(study, X)
     sized = evaluate(size_designs, study.spec, ws, load, ar, flap)
     F, G = objectives_and_constraints(study, sized)
+    feas = np.asarray(sized["feasible"], bool)
+    if chance is not None:  # the chance constraints replace G (optimiser.chance)
+        judged = chance(sized, flap, G)
+        G, feas = judged.G, judged.meets
+        sized = {**sized, **judged.columns}
     start = 0
     for algo, pop, n in zip(state.algos, pops, sizes):
         pop.set("F", F[start:start + n], "G", G[start:start + n])
@@ -98,7 +104,6 @@ def _one_generation(study, state, pending, evaluate=_in_process):
     state.generation += 1
     n_gen = len(ws)
     state.n_evaluations += n_gen
-    feas = np.asarray(sized["feasible"], bool)
     n_feas = int(feas.sum())
     state.n_feasible += n_feas
     gen_set = DesignSet(np.column_stack([ws, load, ar]), flap,
@@ -202,14 +207,18 @@ def run_loop(study, state: RunState, run_dir: Path, progress=None, saved=None,
         since_ckpt = 0
         last_ckpt = time.monotonic()
         every = state.budget.checkpoint_every
-        pending = archive.Pending(study)
+        pending = archive.Pending(study, state.chance)
+        chance = None
+        if state.chance is not None:
+            from .chance import ChanceEvaluator
+            chance = ChanceEvaluator(study, state.chance, evaluate)
         while True:
             reason = _why_stop(state)
             if reason is not None:
                 state.termination = reason
                 break
             t0 = time.monotonic()
-            row = _one_generation(study, state, pending, evaluate or _in_process)
+            row = _one_generation(study, state, pending, evaluate or _in_process, chance)
             state.elapsed_s += time.monotonic() - t0
             row["elapsed_s"] = round(state.elapsed_s, 3)
             since_ckpt += 1

@@ -101,6 +101,10 @@ def _write_tables(study, state: RunState, run_dir: Path):
     from .evaluation import evaluate
     if state.front is not None and len(state.front) > 0:
         front = evaluate(study, _designs_table(study, state.front))
+        if state.chance is not None:  # each constraint's probability and its interval
+            from .chance import front_columns
+            extra = pd.DataFrame(front_columns(study, state.chance, front), index=front.index)
+            front = pd.concat([front, extra], axis=1).copy()  # one block per dtype
         front.insert(0, "generation", state.front.generation)
         front = front.sort_values(list(study.objective_columns()), kind="stable")\
             .reset_index(drop=True)
@@ -173,6 +177,8 @@ def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
     # what binds the folder to this run: pick, flaps, report and sweep check these records
     table = (names.FRONT, len(front)) if least is None else (names.LEAST_VIOLATING, len(least))
     info["run_id"] = state.run_id
+    if state.chance is not None:
+        info["chance_constraints"] = state.chance.record()
     info["files"] = manifest.finished_files(run_dir, state, *table)
     if plots:
         plots(study, run_dir, front, history, scales=state.scales, run_utc=state.started_utc,
@@ -181,7 +187,8 @@ def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
     write_run_info(run_dir, info)
     return RunResult(front=front, history=history, run_dir=run_dir, message=message,
                      n_evaluations=state.n_evaluations, termination=state.termination,
-                     least_violating=least, best_margin=dict(state.best_margin))
+                     least_violating=least, best_margin=dict(state.best_margin),
+                     chance=None if state.chance is None else state.chance.record())
 
 
 def summary_text(study, result: RunResult) -> str:
@@ -197,6 +204,10 @@ def summary_text(study, result: RunResult) -> str:
     if required:
         lines.append("  required design margins: " + ", ".join(
             f"{k} {v:.1%}" for k, v in required.items()))
+    if result.chance is not None:
+        from .chance import ChanceSetting
+        lines.append(ChanceSetting(result.chance["reliability"], result.chance["samples"],
+                                   0).summary_text())
     lines.append(f"run folder: {result.run_dir}")
     lines.append(CAUTION)
     return "\n".join(lines)

@@ -38,71 +38,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from .columns import CONSTRAINT_LABELS, unit_of
-from .uncertainty import (DEFAULT_SAMPLES, DISTRIBUTIONS, FACTOR_RANGE, MAX_SAMPLES,  # noqa: F401
-                          MAX_STD, UNCERTAIN_ASSUMPTIONS, read_uncertainty)
-
-EFFICIENCY_CAP = 0.95
-FACTOR_FLOOR = 0.01
-Z95 = 1.959963984540054  # standard normal quantile at 0.975
-
-
-def sample_factors(assumptions: dict, n: int, rng) -> dict:
-    """Draw ``n`` factors per assumption (in :data:`UNCERTAIN_ASSUMPTIONS` order)."""
-    out = {}
-    for key in UNCERTAIN_ASSUMPTIONS:
-        if key not in assumptions:
-            continue
-        a = assumptions[key]
-        if a["distribution"] == "normal":
-            x = rng.normal(a["mean"], a["std"], n) if a["std"] > 0 else np.full(n, a["mean"])
-        elif a["distribution"] == "uniform":
-            x = rng.uniform(a["low"], a["high"], n)
-        else:
-            x = rng.triangular(a["low"], a["mode"], a["high"], n)
-        out[key] = np.maximum(x, FACTOR_FLOOR)
-    return out
-
-
-def overrides_from_factors(spec, factors: dict) -> tuple[dict, dict]:
-    """Per-sample spec values for :func:`optimiser.sizing.size_designs` from factors.
-
-    Returns ``(overrides, capped)`` where ``capped`` gives, per override key, the share of
-    samples whose efficiency was capped at :data:`EFFICIENCY_CAP`.
-    """
-    pr, ad, wt = spec.propulsion, spec.aerodynamics, spec.weights
-    ov, capped = {}, {}
-    if "cd0_clean" in factors:  # a factor on the pinned CD0, or on the build-up's
-        if ad.cd0_method == "fixed":
-            ov["cd0_clean"] = ad.cd0_clean * factors["cd0_clean"]
-        else:
-            ov["cd0_scale"] = factors["cd0_clean"]
-    if "oswald_factor" in factors:
-        ov["oswald_factor_scale"] = factors["oswald_factor"]
-    if "propeller_efficiency" in factors:
-        for key, nominal in (("propeller_efficiency_cruise", pr.propeller_efficiency_cruise),
-                             ("propeller_efficiency_climb", pr.propeller_efficiency_climb)):
-            raw = nominal * factors["propeller_efficiency"]
-            capped[key] = float(np.mean(raw > EFFICIENCY_CAP))
-            ov[key] = np.minimum(raw, EFFICIENCY_CAP)
-    if "sfc" in factors:
-        if pr.family == "turbofan":
-            ov["tsfc_cruise"] = pr.tsfc_cruise * factors["sfc"]
-        else:
-            ov["sfc_cruise"] = pr.sfc_cruise * factors["sfc"]
-    if "empty_mass_factor" in factors:
-        ov["empty_mass_factor"] = wt.empty_mass_factor * factors["empty_mass_factor"]
-    return ov, capped
-
-
-def wilson_interval(p, n, z=Z95):
-    """Wilson score interval of a binomial proportion ``p`` from ``n`` trials (Wilson 1927)."""
-    p = np.asarray(p, dtype=float)
-    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
-    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
-    # At p = 0 and p = 1 the exact ends are 0 and 1; in floating point they come out a hair
-    # inside, on the wrong side of p. The interval always contains p, so bound it by p.
-    return np.clip(np.minimum(centre - half, p), 0.0, 1.0), np.clip(np.maximum(centre + half, p), 0.0, 1.0)
-
+from .uncertainty import (DEFAULT_SAMPLES, DISTRIBUTIONS, EFFICIENCY_CAP,  # noqa: F401
+                          FACTOR_FLOOR, FACTOR_RANGE, MAX_SAMPLES, MAX_STD,
+                          UNCERTAIN_ASSUMPTIONS, Z95, overrides_from_factors, read_uncertainty,
+                          sample_factors, wilson_interval)
 
 @dataclass(frozen=True)
 class RobustResult:

@@ -86,7 +86,7 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
         rate = per_gen / max(time.perf_counter() - t0, 1e-6)
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))
-    row_bytes = archive.archive_row_bytes(study, gens)
+    row_bytes = archive.archive_row_bytes(study, gens, state.chance)
     from .columns import COLUMN_DOCS
     from .sizing import active_constraints
     full_row_bytes = 25 * (len(COLUMN_DOCS) + len(active_constraints(study.spec)))
@@ -170,7 +170,7 @@ def start(study, **options):
 
 def _start(study, *, out=None, force=False, seed=None, generations=None, population=None,
            evaluations=None, time_budget_s=None, stall_generations=None,
-           checkpoint_every=None, stall_tolerance=None):
+           checkpoint_every=None, stall_tolerance=None, reliability=None):
     """:func:`start`, returning the folder's lock too (held: the caller releases it)."""
     from .search import make_algorithms, plan_budget, reference_scales
     _check_positive("--gens", generations)
@@ -198,11 +198,13 @@ def _start(study, *, out=None, force=False, seed=None, generations=None, populat
                     stall_tolerance=STALL_TOLERANCE if stall_tolerance is None
                     else float(stall_tolerance))
     check_memory(study, budget)
+    from .chance import chance_setting
+    chance = chance_setting(study, seed, reliability)
     state = RunState(study_text=study.text, study_path=str(study.path), seed=seed,
                      budget=budget, algos=make_algorithms(study, seed, per, run_gens),
                      scales=reference_scales(study), started_utc=files.utc_now(),
-                     run_id=new_run_id())
-    cols = archive.archive_columns(study)
+                     run_id=new_run_id(), chance=chance)
+    cols = archive.archive_columns(study, chance)
     hist_cols = list(history_row(study, state, 0, 0.0))
     need, need_text = estimate_output_bytes(study, state)
     run_dir, held = place.claim_run_dir(out, study, force, need_bytes=need,
@@ -230,7 +232,7 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
              evaluations=None, time_budget_s=None, stall_generations=None,
              checkpoint_every=None, force=False, progress=False, plots=None,
              stall_tolerance=None, workers=None, scheduler=None,
-             min_rows_per_task=None) -> RunResult:
+             min_rows_per_task=None, reliability=None) -> RunResult:
     """Search the study's variables for the Pareto front of its objectives.
 
     ``study_or_path`` is a :class:`~optimiser.study.Study` or a study file. Budget: the study's
@@ -245,7 +247,9 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
     (the address of a running Dask scheduler) spreads each generation's sizing over Dask
     workers (:class:`optimiser.cluster.RowMap`, pieces of at least ``min_rows_per_task``
     rows, default :data:`optimiser.cluster.MIN_ROWS_PER_TASK`): the result is bit-identical
-    to the run in one process. Writes the run folder (``out``, default
+    to the run in one process. ``reliability`` (default the study's ``[search]
+    reliability``) keeps only designs that meet each constraint with at least that
+    probability under the study's ``[uncertainty]`` (:mod:`optimiser.chance`). Writes the run folder (``out``, default
     ``results/<study>-<UTC time>``) and returns a :class:`RunResult`.
     Raises :class:`RunInterrupted` after saving a checkpoint when interrupted.
     """
@@ -260,7 +264,8 @@ def optimise(study_or_path, *, out=None, seed=None, generations=None, population
                                       evaluations=evaluations, time_budget_s=time_budget_s,
                                       stall_generations=stall_generations,
                                       checkpoint_every=checkpoint_every,
-                                      stall_tolerance=stall_tolerance)
+                                      stall_tolerance=stall_tolerance,
+                                      reliability=reliability)
         with held:
             return _drive(study, state, run_dir, _progress_fn(progress), plots, evaluate)
 

@@ -29,6 +29,7 @@ class RunResult:
     cluster: dict | None = None
     """Set when the run's sizing went to Dask workers: ``workers``, ``rows_on_workers``,
     ``rows_here``."""
+    chance: dict | None = None  # reliability and samples of a chance-constrained run
 
     def __repr__(self):
         return (f"RunResult({len(self.front)} front designs, {self.n_evaluations} evaluations, "
@@ -112,3 +113,4 @@ class RunState:
     termination: str | None = None
     run_id: str = ""
     format: int = CHECKPOINT_FORMAT
+    chance: object = None            # optimiser.chance.ChanceSetting of a chance-constrained run

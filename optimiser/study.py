@@ -43,7 +43,10 @@ VARIABLE_UNITS = {
                               ("aspect_ratio", "aspect_ratio", None))
 }
 SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
-               "seed": (int, 0, 2**32 - 1)}
+               "seed": (int, 0, 2**32 - 1), "reliability": (float, None, None),
+               "reliability_samples": (int, 10, 100000)}
+"""[search] keys: (type, lowest, highest); ``reliability`` is checked by
+:func:`optimiser.uncertainty.check_reliability` (strictly between 0 and 1)."""
 
 _UNIT_SUFFIXES = ("_kg_m2", "_kg_m3", "_m_s", "_kg", "_rad", "_m2", "_m3", "_K", "_m", "_s")
 _SECTIONS = {
@@ -463,6 +466,10 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     if "uncertainty" in raw:
         from .uncertainty import read_uncertainty
         uncertainty = read_uncertainty(rd.fail, raw["uncertainty"], family)
+    if "reliability" in search and not (uncertainty or {}).get("assumptions"):
+        rd.fail("[search] reliability", f"got {search['reliability']:g} but the study has no "
+                "uncertain assumption; expected an [uncertainty] table (e.g. cd0_clean = { "
+                "distribution = \"normal\", std = 0.05 }) or no reliability")
     return Study(name=name, description=description, path=path, text=text, spec=spec,
                  variables=variables, flaps=flaps, objectives=objectives, search=search,
                  sha256=hashlib.sha256(text.encode("utf-8")).hexdigest(),
@@ -540,8 +547,12 @@ def _read_search(rd, raw):
         if k not in SEARCH_KEYS:
             rd.fail("[search]", f"unknown key {k!r}{_suggest(k, SEARCH_KEYS)}; expected one of: "
                     + ", ".join(SEARCH_KEYS))
-        _, lo, hi = SEARCH_KEYS[k]
-        out[k] = rd.number(f"[search] {k}", v, lo, hi, integer=True)
+        kind, lo, hi = SEARCH_KEYS[k]
+        if k == "reliability":
+            from .uncertainty import check_reliability
+            out[k] = check_reliability(v, lambda m: rd.fail("[search] reliability", m))
+            continue
+        out[k] = rd.number(f"[search] {k}", v, lo, hi, integer=kind is int)
     return out
 
 

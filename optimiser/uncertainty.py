@@ -1,6 +1,7 @@
 """The ``[uncertainty]`` table of a study: which assumptions may be uncertain, their
-distributions, and the reader that validates the table (used by the study loader; the
-sampling itself is :mod:`optimiser.robust`'s).
+distributions, the reader that validates the table (used by the study loader), the
+sampling of factors and their per-sample spec values, and the Wilson interval (used by
+:mod:`optimiser.robust` and by the chance-constrained search, :mod:`optimiser.chance`).
 
 The factors multiply the study's own values (1 = unchanged); their limits are common practice
 for conceptual-design uncertainty (a standard deviation of up to 20 % of a value, factors
@@ -10,6 +11,8 @@ between one half and two).
 from __future__ import annotations
 
 import math
+
+import numpy as np
 
 UNCERTAIN_ASSUMPTIONS = {
     "cd0_clean": "clean zero-lift drag coefficient",
@@ -26,6 +29,11 @@ DISTRIBUTIONS = {
     "triangular": ("low", "mode", "high"),
 }
 """Distribution of the factor on the study's value, with its parameters (factors, not values)."""
+
+RELIABILITY_SAMPLES = 200
+"""Default samples per design of a chance-constrained search (``[search]
+reliability_samples``): the Wilson interval at p = 0.95 is then about +-0.03 (ours, from
+:func:`wilson_interval`)."""
 
 MAX_STD = 0.2
 FACTOR_RANGE = (0.5, 2.0)
@@ -98,3 +106,76 @@ def read_uncertainty(fail, raw, family):
                      + ", ".join(f"{p} = {entry[p]:g}" for p in params))
         out["assumptions"][key] = entry
     return out
+
+
+EFFICIENCY_CAP = 0.95
+FACTOR_FLOOR = 0.01
+Z95 = 1.959963984540054  # standard normal quantile at 0.975
+
+
+def sample_factors(assumptions: dict, n: int, rng) -> dict:
+    """Draw ``n`` factors per assumption (in :data:`UNCERTAIN_ASSUMPTIONS` order)."""
+    out = {}
+    for key in UNCERTAIN_ASSUMPTIONS:
+        if key not in assumptions:
+            continue
+        a = assumptions[key]
+        if a["distribution"] == "normal":
+            x = rng.normal(a["mean"], a["std"], n) if a["std"] > 0 else np.full(n, a["mean"])
+        elif a["distribution"] == "uniform":
+            x = rng.uniform(a["low"], a["high"], n)
+        else:
+            x = rng.triangular(a["low"], a["mode"], a["high"], n)
+        out[key] = np.maximum(x, FACTOR_FLOOR)
+    return out
+
+
+def overrides_from_factors(spec, factors: dict) -> tuple[dict, dict]:
+    """Per-sample spec values for :func:`optimiser.sizing.size_designs` from factors.
+
+    Returns ``(overrides, capped)`` where ``capped`` gives, per override key, the share of
+    samples whose efficiency was capped at :data:`EFFICIENCY_CAP`.
+    """
+    pr, ad, wt = spec.propulsion, spec.aerodynamics, spec.weights
+    ov, capped = {}, {}
+    if "cd0_clean" in factors:  # a factor on the pinned CD0, or on the build-up's
+        if ad.cd0_method == "fixed":
+            ov["cd0_clean"] = ad.cd0_clean * factors["cd0_clean"]
+        else:
+            ov["cd0_scale"] = factors["cd0_clean"]
+    if "oswald_factor" in factors:
+        ov["oswald_factor_scale"] = factors["oswald_factor"]
+    if "propeller_efficiency" in factors:
+        for key, nominal in (("propeller_efficiency_cruise", pr.propeller_efficiency_cruise),
+                             ("propeller_efficiency_climb", pr.propeller_efficiency_climb)):
+            raw = nominal * factors["propeller_efficiency"]
+            capped[key] = float(np.mean(raw > EFFICIENCY_CAP))
+            ov[key] = np.minimum(raw, EFFICIENCY_CAP)
+    if "sfc" in factors:
+        if pr.family == "turbofan":
+            ov["tsfc_cruise"] = pr.tsfc_cruise * factors["sfc"]
+        else:
+            ov["sfc_cruise"] = pr.sfc_cruise * factors["sfc"]
+    if "empty_mass_factor" in factors:
+        ov["empty_mass_factor"] = wt.empty_mass_factor * factors["empty_mass_factor"]
+    return ov, capped
+
+
+def wilson_interval(p, n, z=Z95):
+    """Wilson score interval of a binomial proportion ``p`` from ``n`` trials (Wilson 1927)."""
+    p = np.asarray(p, dtype=float)
+    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
+    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
+    # At p = 0 and p = 1 the exact ends are 0 and 1; in floating point they come out a hair
+    # inside, on the wrong side of p. The interval always contains p, so bound it by p.
+    return np.clip(np.minimum(centre - half, p), 0.0, 1.0), np.clip(np.maximum(centre + half, p), 0.0, 1.0)
+
+
+def check_reliability(value, fail) -> float:
+    """A required probability of meeting each constraint, strictly between 0 and 1;
+    ``fail(message)`` raises the caller's one-line error otherwise."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)) \
+            or not math.isfinite(value) or not 0.0 < value < 1.0:
+        fail(f"got {value!r}; expected a probability greater than 0 and less than 1, "
+             "e.g. 0.95")
+    return float(value)

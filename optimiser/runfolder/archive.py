@@ -26,14 +26,16 @@ READ_CHUNK_ROWS = 200_000
 the text being parsed; ours)."""
 
 
-def archive_columns(study) -> list[str]:
+def archive_columns(study, chance=None) -> list[str]:
     """Columns of ``evaluations.csv`` for a study.
 
     generation, the inputs, flap, the objectives, a summary of the sized design, one margin
     per active constraint, feasible and the limiting constraint, every number exact (it reads
     back to the same float). Every other column of the evaluate table follows from the
     inputs: ``optimiser evaluate STUDY --designs evaluations.csv`` sizes them again (the model
-    is deterministic)."""
+    is deterministic). A chance-constrained run (``chance``, an
+    :class:`~optimiser.chance.ChanceSetting`) adds :func:`~optimiser.chance.probability_columns`
+    at the end."""
     from ..evaluation import design_columns
     from ..sizing import active_constraints
     inputs = list(design_columns(study)[:3])
@@ -41,11 +43,15 @@ def archive_columns(study) -> list[str]:
     other = set(ENGINE_SIZE_COLUMNS.values()) - {study.engine_size_column}  # not this family's
     summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c not in objectives and c not in other]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]
-    return ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
+    cols = ["generation", *inputs, "flap", *objectives, *summary, *margins, "feasible",
             "limiting_constraint"]
+    if chance is not None:
+        from ..chance import probability_columns
+        cols += probability_columns(study.spec)
+    return cols
 
 
-def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
+def archive_rows(study, generation, ws, load, ar, flap, sized, chance=None) -> bytes:
     """Rows of ``evaluations.csv`` (no header, UTF-8) for sized designs (``sized``: the dict
     of :func:`~optimiser.sizing.size_designs`, or the columns of the archive it gives);
     ``generation`` is one number or one per design.
@@ -58,7 +64,7 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     import pyarrow as pa
     import pyarrow.csv as pa_csv
     from ..sizing import checked_constraints
-    cols = archive_columns(study)
+    cols = archive_columns(study, chance)
     flap_names = np.asarray(study.spec.high_lift_names, dtype=object)
     # a batch from outside a search may hold a design outside the model's ranges
     limiting = np.asarray(checked_constraints(study.spec, sized), dtype=object)
@@ -72,6 +78,8 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
         "limiting_constraint": pa.array(limiting[np.asarray(sized["limiting_index"], int)]
                                         .tolist(), type=pa.string()),
     }
+    if chance is not None:
+        source["meets_reliability"] = np.asarray(sized["meets_reliability"], bool)
     table = pa.table({c: source[c] if c in source else np.asarray(sized[c], float)
                       for c in cols})
     buf = io.BytesIO()
@@ -80,15 +88,15 @@ def archive_rows(study, generation, ws, load, ar, flap, sized) -> bytes:
     return buf.getvalue()
 
 
-def archive_row_bytes(study, gens) -> int:
+def archive_row_bytes(study, gens, chance=None) -> int:
     """An upper bound of the bytes of one evaluations.csv row: 24 per float (the longest
     shortest-exact form of a double), the longest text of each text column."""
     from ..sizing import active_constraints
     longest = {"generation": len(str(gens)),
                "flap": max(map(len, study.spec.high_lift_names)),
-               "feasible": len("false"),
+               "feasible": len("false"), "meets_reliability": len("false"),
                "limiting_constraint": max(map(len, active_constraints(study.spec)))}
-    cols = archive_columns(study)
+    cols = archive_columns(study, chance)
     return sum(longest.get(c, 24) for c in cols) + len(cols)
 
 
@@ -133,13 +141,16 @@ class Pending:
     Arrow call formats many generations at once (about 40 % less time per row than one call
     per generation, measured)."""
 
-    def __init__(self, study):
-        self.columns = archive_columns(study)
+    def __init__(self, study, chance=None):
+        self.chance = chance
+        self.columns = archive_columns(study, chance)
         self.parts, self.history, self.rows = [], [], 0
 
     def add(self, generation, ws, load, ar, flap, sized, history_line):
         keep = {c: np.asarray(sized[c]) for c in self.columns if c in sized}
         keep["feasible"] = np.asarray(sized["feasible"], bool)
+        if "meets_reliability" in sized:
+            keep["meets_reliability"] = np.asarray(sized["meets_reliability"], bool)
         keep["limiting_index"] = np.asarray(sized["limiting_index"])
         self.parts.append((np.full(len(ws), generation), ws, load, ar, flap, keep))
         self.history.append(history_line)
@@ -156,14 +167,17 @@ class Pending:
         # emptied first: a failed write ends the run, and resume starts from the checkpoint
         self.parts, self.history, self.rows = [], [], 0
         state.archive_bytes = files.append(run_dir / names.ARCHIVE,
-                                           archive_rows(study, gen, ws, load, ar, flap, sized))
+                                           archive_rows(study, gen, ws, load, ar, flap, sized,
+                                                        self.chance))
         state.history_bytes = files.append(run_dir / names.HISTORY, history)
 
 
 ARCHIVE_EXPECTED = "the archive of evaluated designs as 'optimiser run' wrote it (UTF-8 CSV)"
 HISTORY_EXPECTED = "the per-generation history as 'optimiser run' wrote it (UTF-8 CSV)"
 TEXT_COLUMNS = ("flap", "limiting_constraint")
-"""The text columns of evaluations.csv (every other column but ``feasible`` is a number)."""
+"""The text columns of evaluations.csv (every other column but the booleans is a number)."""
+BOOLEAN_COLUMNS = ("feasible", "meets_reliability")
+"""The true/false columns of evaluations.csv (``meets_reliability``: chance-constrained runs)."""
 HISTORY_FINITE = ("generation", "evaluations", "hypervolume")
 """Columns of history.csv that are finite numbers in every row (the others may be empty)."""
 
@@ -180,7 +194,7 @@ def read_archive(run_dir, columns, *, feasible_only=False, flaps=None):
     use = columns if not feasible_only or "feasible" in columns else [*columns, "feasible"]
     checked.header_columns(path, checked.first_line(path, ARCHIVE_EXPECTED), use,
                            ARCHIVE_EXPECTED)
-    numbers = [c for c in use if c not in TEXT_COLUMNS and c != "feasible"]
+    numbers = [c for c in use if c not in TEXT_COLUMNS and c not in BOOLEAN_COLUMNS]
     chunks = checked.parse_csv(path, path, ARCHIVE_EXPECTED, usecols=use,
                                chunksize=READ_CHUNK_ROWS)
     parts, rows = [], 0
@@ -190,7 +204,7 @@ def read_archive(run_dir, columns, *, feasible_only=False, flaps=None):
         if part is None:
             break
         checked.check_columns(path, part, finite=numbers,
-                              boolean=["feasible"] if "feasible" in use else (),
+                              boolean=[c for c in BOOLEAN_COLUMNS if c in use],
                               choices={"flap": flaps} if flaps and "flap" in use else None,
                               row_offset=rows)
         rows += len(part)

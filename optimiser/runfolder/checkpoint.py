@@ -180,6 +180,8 @@ def checkpoint_bytes(state, folder_files=None) -> bytes:
                "algorithms": [_algorithm_record(a, k, arrays)
                               for k, a in enumerate(state.algos)],
                "files": folder_files or {}}
+    if state.chance is not None:  # a chance-constrained run (optimiser.chance)
+        content["chance"] = state.chance.record()
     manifest_bytes = json.dumps(content, sort_keys=True).encode("utf-8")
     checksum = _content_sha256(manifest_bytes, arrays)
     buf = io.BytesIO()
@@ -294,8 +296,13 @@ def _state_from(record: dict, arrays: dict):
         _restore_algorithm(algo, k, rec, arrays)
     kept = {s: DesignSet(*(arrays[f"{s}.{f}"] for f in DESIGN_SET_FIELDS))
             if record[s] else None for s in ("front", "least")}
+    chance = None
+    if record.get("chance") is not None:
+        from ..chance import ChanceSetting
+        chance = ChanceSetting(float(record["chance"]["reliability"]),
+                               int(record["chance"]["samples"]), int(scalars["seed"]))
     return RunState(budget=budget, algos=algos, front=kept["front"], least=kept["least"],
-                    **{f: scalars[f] for f in STATE_FIELDS})
+                    chance=chance, **{f: scalars[f] for f in STATE_FIELDS})
 
 
 def load_checkpoint(run_dir: Path):
