@@ -143,3 +143,24 @@ def test_study_reliability_must_be_a_probability(tmp_path, capsys):
     code = main(["check", str(path)])
     err = capsys.readouterr().err
     assert code == 2 and "[search] reliability" in err and "'high'" in err
+
+
+def test_an_interrupted_chance_run_resumes_to_the_same_files(tmp_path):
+    """Stopped after its third generation (a KeyboardInterrupt from the progress callback, as
+    Ctrl-C) and resumed, a chance-constrained run ends with the same archive and front as
+    the run left alone: the samples come from the run's seed, not from the process."""
+    from optimiser.errors import RunInterrupted
+    study = load_study(bundled_study_path())
+    whole = tmp_path / "whole"
+    optimiser.optimise(study, out=whole, reliability=R, **BUDGET)
+
+    def stop(row, state):
+        if row["generation"] == 3:
+            raise KeyboardInterrupt
+
+    cut = tmp_path / "cut"
+    with pytest.raises(RunInterrupted):
+        optimiser.optimise(study, out=cut, reliability=R, progress=stop, **BUDGET)
+    optimiser.resume(cut)
+    for name in ("evaluations.csv", "front.csv"):
+        assert (whole / name).read_bytes() == (cut / name).read_bytes(), name
