@@ -376,7 +376,22 @@ def markdown() -> str:
     lines += ["", "A study may require a design margin on any active constraint "
               "(`[requirements] margins`): the margin columns stay the raw margins, and a "
               "design meets a constraint when `margin_<constraint>` >= its required margin."]
+    lines += ["", "A chance-constrained run (`[search] reliability`) adds, in "
+              "`evaluations.csv` and `front.csv`:", "", "| column | meaning [unit] |",
+              "|---|---|"]
+    lines += [f"| `{name}` | {doc} |" for name, doc in CHANCE_COLUMN_DOCS.items()]
     return "\n".join(lines) + "\n"
+
+
+CHANCE_COLUMN_DOCS = {
+    "probability_<constraint>": "share of the run's samples in which the frozen design meets "
+                                "the constraint (at its required margin) [-]",
+    "probability_<constraint>_low": "lower end of its Wilson 95 % interval (front only) [-]",
+    "probability_<constraint>_high": "upper end of its Wilson 95 % interval (front only) [-]",
+    "meets_reliability": "nominally feasible and every constrained probability at least the "
+                         "reliability (true/false)",
+}
+"""Columns of a chance-constrained run (:mod:`optimiser.chance`), by pattern."""
 
 
 if __name__ == "__main__":  # python -m optimiser.columns --markdown
