@@ -407,6 +407,8 @@ def build_parser() -> argparse.ArgumentParser:
     add_robust_parser(sub).set_defaults(func=cmd_robust)
     from .cli_analyse import add_analyse_parser, cmd_analyse
     add_analyse_parser(sub).set_defaults(func=cmd_analyse)
+    from .cli_sensitivity import add_sensitivity_parser, cmd_sensitivity
+    add_sensitivity_parser(sub).set_defaults(func=cmd_sensitivity)
     return p
 
 

@@ -45,6 +45,11 @@ PICK_CHOICE = "choice.json"
 PICK_DESIGN_INPUT = "design_input.csv"
 """The chosen design in the input format of ``optimiser evaluate --designs`` (and of
 ``optimiser robust --front``): the four input columns, one row, every number exact."""
+SENSITIVITY_DIR_PREFIX = "sensitivity-"
+SENSITIVITY_TABLE = "sensitivities.csv"
+TORNADO_STEM = "tornado"
+"""A design's sensitivities: ``sensitivity-<knee|row-N>/`` holding the table and the
+tornado chart (``optimiser sensitivity``)."""
 REPORT = "report.html"
 LOCK = ".lock"
 

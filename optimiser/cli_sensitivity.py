@@ -1,0 +1,66 @@
+"""Command line of a design's sensitivities: ``optimiser sensitivity RUN_DIR``.
+
+Only argument handling, the output folder and printing; the numbers are
+:mod:`optimiser.sensitivity`'s, the figure :mod:`optimiser.report.tornado`'s.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+
+def add_sensitivity_parser(sub):
+    s = sub.add_parser("sensitivity", help="how a front design's objectives and margins move "
+                       "per unit change of each requirement and uncertain assumption (table "
+                       "and tornado chart)")
+    s.add_argument("run_dir", metavar="RUN_DIR", help="a finished run folder")
+    s.add_argument("--row", type=int, help="row of front.csv (1 = first design; default: "
+                   "the knee pick of 'optimiser pick')")
+    s.add_argument("--step", type=float, default=None, help="relative step of the central "
+                   "differences (default 0.01 = 1 %%)")
+    s.add_argument("--out", help="folder to write (default: RUN_DIR/sensitivity-knee or "
+                   "sensitivity-row-N); an existing one needs --force")
+    s.add_argument("--force", action="store_true", help="replace an existing output folder")
+    return s
+
+
+def cmd_sensitivity(args) -> int:
+    from .decide import DecideError, choose
+    from .evaluation import CAUTION
+    from .report.picks import refuse_existing
+    from .report.tornado import plot_tornado
+    from .runfolder import files, load_run, names
+    from .sensitivity import RELATIVE_STEP, ranked, sensitivities
+    run = load_run(args.run_dir)
+    study, front = run.study, run.front
+    if len(front) == 0:
+        raise DecideError(f"{args.run_dir}: the run found no feasible design; expected a run "
+                          "with a front")
+    if args.row is not None:
+        if not 1 <= args.row <= len(front):
+            raise DecideError(f"--row: got {args.row}; expected 1 to {len(front)} (rows of "
+                              f"{names.FRONT})")
+        design, which = front.iloc[args.row - 1], f"row-{args.row}"
+    else:
+        design, which = choose(study, front, "knee").design, "knee"
+    step = RELATIVE_STEP if args.step is None else args.step
+    table = sensitivities(study, design, step)
+    out = Path(args.out) if args.out else Path(args.run_dir) / (names.SENSITIVITY_DIR_PREFIX
+                                                                + which)
+    refuse_existing(out, args.force, "sensitivities")
+    title = (f"{study.name}: sensitivities of the {which.replace('-', ' ')} design "
+             f"({design['flap']}, W/S {float(design['wing_loading_N_m2']):.0f} N/m²), "
+             f"central differences, steps ±{step:.0%}")
+    objectives = list(study.objective_columns())
+    with files.new_folder(out, "the sensitivities") as tmp:
+        files.write_atomic(tmp / names.SENSITIVITY_TABLE, files.csv_bytes(table))
+        plot_tornado(study, table, objectives[:2], tmp / names.TORNADO_STEM, title)
+    lines = [f"sensitivities of the {which} design, steps ±{step:g} (relative; elevation "
+             "50 m, temperature 1 K):"]
+    for column in objectives[:2]:
+        lines.append(f"  {column}, largest effects (change at -step / +step):")
+        for r in ranked(table, column).head(5).itertuples():
+            lines.append(f"    {r.input:30} {r.change_minus:+.4g} / {r.change_plus:+.4g}")
+    lines += [f"written: {out}", CAUTION]
+    print("\n".join(lines))
+    return 0

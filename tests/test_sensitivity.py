@@ -1,0 +1,116 @@
+"""Sensitivities of a design (``optimiser sensitivity``).
+
+Sources: central differences (Press et al., "Numerical Recipes", 3rd ed., 2007, sec. 5.7,
+from memory); the stall margin of this model is 1 - V_s / V_s,max with V_s = sqrt(2 W /
+(rho S CL_max)) (Anderson, "Introduction to Flight", from memory), so at fixed wing loading
+its central difference in the limit V is V_s / (V^2 - h^2) exactly.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import optimiser
+from optimiser.cli import main
+from optimiser.sensitivity import (REQUIREMENTS, _design_arrays, _with, assumption_inputs,
+                                   sensitivities)
+from optimiser.sizing import size_designs
+from optimiser.study import bundled_study_path, load_study
+
+NAMES = ("high_strip_utility", "twin_turboprop_commuter", "light_twin_jet")
+
+
+def _design(study):
+    return {"wing_loading_N_m2": 0.6 * study.variables[0].lower + 0.4 * study.variables[0].upper,
+            study.loading_column: 0.5 * (study.variables[1].lower + study.variables[1].upper),
+            "aspect_ratio": 0.5 * (study.variables[2].lower + study.variables[2].upper),
+            "flap": study.flaps[-1]}
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_batched_differences_equal_one_call_per_input(name):
+    """The one batched call gives, for every assumption, the same numbers as sizing the two
+    perturbed copies on their own (a slow loop, one call per input and sign)."""
+    study = load_study(bundled_study_path(name))
+    design = _design(study)
+    table = sensitivities(study, design, 0.01)
+    for label, key, value, _ in assumption_inputs(study.spec):
+        got = []
+        for sign in (-1.0, 1.0):
+            out = size_designs(study.spec, *_design_arrays(study, design, 1),
+                               overrides={key: np.array([value * (1 + sign * 0.01)])})
+            got.append(float(out["trip_fuel_kg"][0]))
+        row = table[(table["input"] == label) & (table["output"] == "trip_fuel_kg")].iloc[0]
+        assert row["derivative"] == pytest.approx((got[1] - got[0]) / (0.02 * value),
+                                                  rel=1e-9, abs=1e-12)
+    for label, section, field, _, absolute in REQUIREMENTS[:3]:
+        v = float(getattr(getattr(study.spec, section), field))
+        h = absolute if absolute is not None else 0.01 * v
+        ends = [float(size_designs(_with(study.spec, section, field, v + s * h),
+                                   *_design_arrays(study, design, 1))["margin_takeoff_field"][0])
+                for s in (-1.0, 1.0)]
+        row = table[(table["input"] == label)
+                    & (table["output"] == "margin_takeoff_field")].iloc[0]
+        assert row["derivative"] == pytest.approx((ends[1] - ends[0]) / (2 * h), rel=1e-9)
+
+
+def test_stall_margin_derivative_matches_its_closed_form():
+    study = load_study(bundled_study_path())
+    design = _design(study)
+    table = sensitivities(study, design, 0.01)
+    out = size_designs(study.spec, *_design_arrays(study, design, 1))
+    vs = float(out["stall_speed_m_s"][0])
+    v = study.spec.requirements.stall_speed_m_s
+    h = 0.01 * v
+    row = table[(table["input"] == "stall speed limit")
+                & (table["output"] == "margin_stall_speed")].iloc[0]
+    assert row["derivative"] == pytest.approx(vs / (v * v - h * h), rel=1e-9)
+    # the stall speed at fixed wing loading does not follow the design range
+    row = table[(table["input"] == "design range")
+                & (table["output"] == "margin_stall_speed")].iloc[0]
+    assert row["derivative"] == 0.0
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_more_drag_and_a_heavier_structure_cost_fuel(name):
+    study = load_study(bundled_study_path(name))
+    table = sensitivities(study, _design(study), 0.01)
+    trip = table[table["output"] == "trip_fuel_kg"].set_index("input")
+    cd0 = "clean CD0" if "clean CD0" in trip.index else "CD0 build-up factor"
+    assert trip.loc[cd0, "change_plus"] > 0 > trip.loc[cd0, "change_minus"]
+    assert trip.loc["empty-mass factor", "derivative"] > 0
+    assert trip.loc["design range", "derivative"] > 0
+
+
+@pytest.fixture(scope="module")
+def run_dir(tmp_path_factory):
+    out = tmp_path_factory.mktemp("sens") / "run"
+    optimiser.optimise(load_study(bundled_study_path()), out=out, seed=2, population=48,
+                       generations=6)
+    return out
+
+
+def test_command_writes_the_table_and_the_chart(run_dir, capsys):
+    assert main(["sensitivity", str(run_dir), "--row", "1"]) == 0
+    folder = run_dir / "sensitivity-row-1"
+    table = pd.read_csv(folder / "sensitivities.csv")
+    assert {"input", "output", "derivative", "change_minus", "change_plus"} <= set(table)
+    assert (folder / "tornado.png").stat().st_size > 10_000
+    assert "<svg" in (folder / "tornado.svg").read_text()
+    text = capsys.readouterr().out
+    assert "Conceptual-design estimates only" in text
+    # a second time without --force is refused, the first result kept
+    before = (folder / "sensitivities.csv").read_bytes()
+    assert main(["sensitivity", str(run_dir), "--row", "1"]) == 2
+    assert (folder / "sensitivities.csv").read_bytes() == before
+
+
+@pytest.mark.parametrize("words, needle", [(["--row", "0"], "--row: got 0"),
+                                           (["--step", "0.5"], "--step: got 0.5")])
+def test_bad_options_are_one_line_errors(run_dir, capsys, words, needle):
+    assert main(["sensitivity", str(run_dir), "--out", str(run_dir / "x"), *words]) == 2
+    err = capsys.readouterr().err
+    assert needle in err and len(err.strip().splitlines()) == 1
+    assert not (run_dir / "x").exists()
