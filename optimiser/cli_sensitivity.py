@@ -21,6 +21,9 @@ def add_sensitivity_parser(sub):
     s.add_argument("--out", help="folder to write (default: RUN_DIR/sensitivity-knee or "
                    "sensitivity-row-N); an existing one needs --force")
     s.add_argument("--force", action="store_true", help="replace an existing output folder")
+    s.add_argument("--front", action="store_true", help="instead: the price of each "
+                   "requirement on the run's designs (the best objectives among every "
+                   "evaluated design, re-sized at the requirement -/+ step; default step 5 %%)")
     return s
 
 
@@ -33,6 +36,8 @@ def cmd_sensitivity(args) -> int:
     from .sensitivity import RELATIVE_STEP, ranked, sensitivities
     run = load_run(args.run_dir)
     study, front = run.study, run.front
+    if args.front:
+        return _prices(run, args)
     if len(front) == 0:
         raise DecideError(f"{args.run_dir}: the run found no feasible design; expected a run "
                           "with a front")
@@ -61,6 +66,33 @@ def cmd_sensitivity(args) -> int:
         lines.append(f"  {column}, largest effects (change at -step / +step):")
         for r in ranked(table, column).head(5).itertuples():
             lines.append(f"    {r.input:30} {r.change_minus:+.4g} / {r.change_plus:+.4g}")
+    lines += [f"written: {out}", CAUTION]
+    print("\n".join(lines))
+    return 0
+
+
+def _prices(run, args) -> int:
+    """``--front``: the price of each requirement on the run's evaluated designs."""
+    from .decide import DecideError
+    from .evaluation import CAUTION
+    from .report.picks import refuse_existing
+    from .runfolder import files, names
+    from .sensitivity import requirement_prices
+    if args.row is not None:
+        raise DecideError("--row: not with --front (the prices are over all the run's designs)")
+    step = 0.05 if args.step is None else args.step
+    table = requirement_prices(run.study, run.run_dir, step)
+    out = Path(args.out) if args.out else Path(args.run_dir) / (names.SENSITIVITY_DIR_PREFIX
+                                                                + "front")
+    refuse_existing(out, args.force, "requirement prices")
+    with files.new_folder(out, "the requirement prices") as tmp:
+        files.write_atomic(tmp / names.PRICE_TABLE, files.csv_bytes(table))
+    objectives = list(run.study.objective_columns())
+    lines = [f"price of each requirement on the run's evaluated designs (steps ±{step:g}; "
+             "best objectives re-sized, not re-optimised):"]
+    for r in table.to_dict("records"):
+        lines.append(f"  {r['requirement']:30} " + "  ".join(
+            f"{r['price_' + c]:+.4g} {c}/{r['unit']}" for c in objectives[:2]))
     lines += [f"written: {out}", CAUTION]
     print("\n".join(lines))
     return 0

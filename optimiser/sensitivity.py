@@ -146,3 +146,64 @@ def ranked(table, output: str):
     size = np.maximum(part["change_minus"].abs(), part["change_plus"].abs())
     return part.assign(_size=size).sort_values("_size", ascending=False, kind="stable")\
         .drop(columns="_size").reset_index(drop=True)
+
+
+ARCHIVE_ROWS_MAX = 200_000
+"""Evaluated designs re-sized per requirement step at most (the latest ones kept; ours:
+about a second of sizing each)."""
+
+
+def requirement_prices(study, run_dir, rel_step: float = 0.05):
+    """The price of each requirement on the run's own designs, without a new search.
+
+    Every design the search evaluated (``evaluations.csv``, the latest
+    :data:`ARCHIVE_ROWS_MAX`) is sized again with the requirement moved by ``-step`` and
+    ``+step``; for each objective, the best value among the designs feasible there is taken.
+    The price is ``(best(+step) - best(-step)) / (2 step)``, per unit of the requirement.
+
+    This reads the search's archive as a dense sample of the design space: it does not
+    re-optimise, so it is a first-order estimate whose resolution is the archive's spacing
+    near the front (a campaign, ``optimiser sweep``, re-optimises at each value). A
+    requirement that no front design binds prices at 0 within that resolution.
+
+    Returns a DataFrame: ``requirement``, ``unit``, ``value``, ``step``, and per objective
+    ``best_<objective>_minus``, ``_nominal``, ``_plus`` and ``price_<objective>`` (objective
+    units per requirement unit)."""
+    import pandas as pd
+
+    from .evaluation import design_columns
+    from .runfolder.archive import read_archive
+    from .search import objectives_and_constraints
+    from .sizing import size_designs
+    if not 0.0 < rel_step <= 0.2:
+        raise DecideError(f"--step: got {rel_step:g}; expected a relative step above 0 and at "
+                          "most 0.2 (e.g. 0.05 for 5 %)")
+    spec = study.spec
+    cols = list(design_columns(study))
+    archive = read_archive(run_dir, cols, flaps=spec.high_lift_names)
+    archive = archive.drop_duplicates().tail(ARCHIVE_ROWS_MAX)
+    flap = np.array([spec.high_lift_names.index(f) for f in archive["flap"]], dtype=int)
+    x = [archive[c].to_numpy(float) for c in cols[:3]]
+    objectives = list(study.objective_columns())
+
+    def best(s):
+        sized = size_designs(s, *x, flap)
+        F, G = objectives_and_constraints(study, sized)
+        ok = np.all(G <= 0.0, axis=1) & np.asarray(sized["feasible"], bool)
+        return [float(F[ok, j].min()) if ok.any() else float("nan")
+                for j in range(len(objectives))]
+
+    nominal = best(spec)
+    rows = []
+    for name, section, field, unit, absolute in REQUIREMENTS:
+        value = float(getattr(getattr(spec, section), field))
+        h = absolute if absolute is not None else value * rel_step
+        lo, hi = (best(_with(spec, section, field, value + sign * h)) for sign in (-1.0, 1.0))
+        row = {"requirement": name, "unit": unit, "value": value, "step": h}
+        for j, c in enumerate(objectives):
+            row[f"best_{c}_minus"] = lo[j]
+            row[f"best_{c}_nominal"] = nominal[j]
+            row[f"best_{c}_plus"] = hi[j]
+            row[f"price_{c}"] = (hi[j] - lo[j]) / (2.0 * h)
+        rows.append(row)
+    return pd.DataFrame(rows)

@@ -114,3 +114,24 @@ def test_bad_options_are_one_line_errors(run_dir, capsys, words, needle):
     err = capsys.readouterr().err
     assert needle in err and len(err.strip().splitlines()) == 1
     assert not (run_dir / "x").exists()
+
+
+def test_requirement_prices_on_the_runs_designs(run_dir, capsys):
+    """The nominal best of each objective over the archive is the front's own best (the
+    front is the archive's feasible non-dominated set, re-sized bit for bit); a longer
+    takeoff field never needs a bigger engine (the feasible set only grows), and a hotter
+    airfield never allows a smaller one."""
+    from optimiser.runfolder import load_run
+    from optimiser.sensitivity import requirement_prices
+    run = load_run(run_dir)
+    table = requirement_prices(run.study, run_dir, 0.05).set_index("requirement")
+    front = run.front
+    assert (table["best_trip_fuel_kg_nominal"] == front["trip_fuel_kg"].min()).all()
+    assert (table["best_engine_power_kW_nominal"] == front["engine_power_kW"].min()).all()
+    assert table.loc["takeoff field length", "price_engine_power_kW"] <= 0.0
+    assert table.loc["departure temperature offset", "price_engine_power_kW"] >= 0.0
+    assert table.loc["takeoff field length", "step"] == pytest.approx(
+        0.05 * run.study.spec.departure.field_length_m, rel=1e-12)
+    assert main(["sensitivity", str(run_dir), "--front"]) == 0
+    assert (run_dir / "sensitivity-front" / "requirement_prices.csv").is_file()
+    assert main(["sensitivity", str(run_dir), "--front", "--row", "2"]) == 2

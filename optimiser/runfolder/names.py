@@ -48,6 +48,7 @@ PICK_DESIGN_INPUT = "design_input.csv"
 SENSITIVITY_DIR_PREFIX = "sensitivity-"
 SENSITIVITY_TABLE = "sensitivities.csv"
 TORNADO_STEM = "tornado"
+PRICE_TABLE = "requirement_prices.csv"
 """A design's sensitivities: ``sensitivity-<knee|row-N>/`` holding the table and the
 tornado chart (``optimiser sensitivity``)."""
 REPORT = "report.html"
