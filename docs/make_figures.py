@@ -2,9 +2,9 @@
 
 Runs the default study at its own budget and seed, and a two-axis sweep of the bundled
 campaign on a small budget, with the tool's own command line, and copies three of their
-figures here: the constraint diagram at a representative front design, the front view and
-the campaign's carpet plot. SOURCE_DATE_EPOCH fixes the time in the figures' footers, so the
-images change only when the model or the figures do.
+figures here: the constraint diagram at a representative front design, the front view, the
+knee design's tornado chart and the campaign's carpet plot. SOURCE_DATE_EPOCH fixes the
+time in the figures' footers, so the images change only when the model or the figures do.
 
     python docs/make_figures.py
 """
@@ -39,6 +39,8 @@ def main():
         _cli("run", REPO / "problems" / "high_strip_utility.toml", "--out", run, cwd=root)
         shutil.copyfile(run / "plots" / "constraint_diagram.png", IMAGES / "constraint_diagram.png")
         shutil.copyfile(run / "plots" / "front_view.png", IMAGES / "front_view.png")
+        _cli("sensitivity", run, cwd=root)
+        shutil.copyfile(run / "sensitivity-knee" / "tornado.png", IMAGES / "tornado.png")
         shutil.copyfile(REPO / "problems" / "high_strip_utility.toml", root / "high_strip_utility.toml")
         text = (REPO / "problems" / "strip_requirements.campaign.toml").read_text("utf-8")
         text = text.replace("population = 60", "population = 40").replace("generations = 30",
