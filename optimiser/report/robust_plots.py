@@ -16,29 +16,19 @@ from .figures import pyplot, save
 
 
 def plot_robustness(study, result, folder):
-    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``."""
+    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``;
+    in the frozen mode also ``fuel_on_board_spread``, and the titles name the mode (a
+    re-sizing run's figures are drawn as before)."""
     plt = pyplot()
     folder = Path(folder)
-    trip = result.samples["trip_fuel_kg"].to_numpy(float)
-    t = result.trip_fuel.iloc[0]
-    fig, ax = plt.subplots(figsize=(7, 4.4))
-    ax.hist(trip, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
-            label=f"{result.n_samples} samples")
-    ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
-               label=f"study's values {t['nominal_kg']:.1f} kg")
-    ax.axvline(t["mean_kg"], color=palette.ROBUST_MEAN, lw=1.2, ls="--",
-               label=f"mean {t['mean_kg']:.1f} kg")
-    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
-        ax.axvline(t[q], color=palette.ROBUST_QUANTILES, lw=1.0, ls=ls)
-    ax.plot([], [], color=palette.ROBUST_QUANTILES, ls=":",
-            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} kg")
-    ax.set_xlabel(plot_label("trip_fuel_kg"))
-    ax.set_ylabel("number of samples")
-    ax.set_title(f"{study.name}: trip fuel spread\n{design_label(study, result.design.iloc[0])}",
-                 fontsize=10)
-    ax.legend(fontsize=8)
-    fig.tight_layout()
-    save(fig, folder / "trip_fuel_spread")
+    frozen = result.mode == "frozen"
+    tag = " (frozen airplane)" if frozen else ""
+    _spread(plt, study, result, "trip_fuel_kg", result.trip_fuel.iloc[0],
+            f"{study.name}: trip fuel spread{tag}", folder / "trip_fuel_spread")
+    if frozen:
+        _spread(plt, study, result, "fuel_on_board_kg", result.fuel_on_board.iloc[0],
+                f"{study.name}: fuel on board at maximum takeoff mass{tag}",
+                folder / "fuel_on_board_spread")
 
     c = result.constraints
     fig, ax = plt.subplots(figsize=(7, 0.45 * len(c) + 1.4))
@@ -51,8 +41,30 @@ def plot_robustness(study, result, folder):
     ax.set_yticks(y, c["constraint"])
     ax.set_xlim(0, 1.05)
     ax.set_xlabel("probability the constraint is met [-] (whiskers: Wilson 95 % interval)")
-    ax.set_title(f"{study.name}: probability each constraint is met", fontsize=10)
+    ax.set_title(f"{study.name}: probability each constraint is met{tag}", fontsize=10)
     for yi, v in zip(y, p):
         ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
     fig.tight_layout()
     save(fig, folder / "constraint_probability")
+
+
+def _spread(plt, study, result, column, t, title, path):
+    """Histogram of one mass column of the samples with its nominal, mean, 5 % and 95 %."""
+    values = result.samples[column].to_numpy(float)
+    fig, ax = plt.subplots(figsize=(7, 4.4))
+    ax.hist(values, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
+            label=f"{result.n_samples} samples")
+    ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
+               label=f"study's values {t['nominal_kg']:.1f} kg")
+    ax.axvline(t["mean_kg"], color=palette.ROBUST_MEAN, lw=1.2, ls="--",
+               label=f"mean {t['mean_kg']:.1f} kg")
+    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
+        ax.axvline(t[q], color=palette.ROBUST_QUANTILES, lw=1.0, ls=ls)
+    ax.plot([], [], color=palette.ROBUST_QUANTILES, ls=":",
+            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} kg")
+    ax.set_xlabel(plot_label(column))
+    ax.set_ylabel("number of samples")
+    ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0])}", fontsize=10)
+    ax.legend(fontsize=8)
+    fig.tight_layout()
+    save(fig, path)
