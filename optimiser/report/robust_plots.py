@@ -12,13 +12,14 @@ import numpy as np
 from ..columns import plot_label
 from ..robust import design_label
 from . import palette
-from .figures import pyplot, save
+from .figures import finish_layout, pyplot, save
 
 
 def plot_robustness(study, result, folder):
     """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``;
-    in the frozen mode also ``fuel_on_board_spread``, and the titles name the mode (a
-    re-sizing run's figures are drawn as before)."""
+    in the frozen mode also ``fuel_on_board_spread``, the titles name the mode, the legends
+    sit below the axes and a footer carries the caution (a re-sizing run's figures are drawn
+    exactly as before, so their files compare with earlier ones)."""
     plt = pyplot()
     folder = Path(folder)
     frozen = result.mode == "frozen"
@@ -31,7 +32,7 @@ def plot_robustness(study, result, folder):
                 folder / "fuel_on_board_spread")
 
     c = result.constraints
-    fig, ax = plt.subplots(figsize=(7, 0.45 * len(c) + 1.4))
+    fig, ax = plt.subplots(figsize=(7.8 if frozen else 7, 0.45 * len(c) + 1.4))
     y = np.arange(len(c))[::-1]
     p = c["probability_met"].to_numpy(float)
     err = np.vstack([p - c["probability_low_95"].to_numpy(float),
@@ -44,14 +45,15 @@ def plot_robustness(study, result, folder):
     ax.set_title(f"{study.name}: probability each constraint is met{tag}", fontsize=10)
     for yi, v in zip(y, p):
         ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
-    fig.tight_layout()
+    _layout(fig, study, frozen)
     save(fig, folder / "constraint_probability")
 
 
 def _spread(plt, study, result, column, t, title, path):
     """Histogram of one mass column of the samples with its nominal, mean, 5 % and 95 %."""
     values = result.samples[column].to_numpy(float)
-    fig, ax = plt.subplots(figsize=(7, 4.4))
+    frozen = result.mode == "frozen"
+    fig, ax = plt.subplots(figsize=(7.8, 5.2) if frozen else (7, 4.4))  # room for the footer
     ax.hist(values, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
             label=f"{result.n_samples} samples")
     ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
@@ -65,6 +67,17 @@ def _spread(plt, study, result, column, t, title, path):
     ax.set_xlabel(plot_label(column))
     ax.set_ylabel("number of samples")
     ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0])}", fontsize=10)
-    ax.legend(fontsize=8)
-    fig.tight_layout()
+    if frozen:
+        ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0.0, -0.14), ncol=2,
+                  frameon=False)
+    else:
+        ax.legend(fontsize=8)
+    _layout(fig, study, frozen)
     save(fig, path)
+
+
+def _layout(fig, study, frozen: bool):
+    if frozen:
+        finish_layout(fig, study.name)
+    else:
+        fig.tight_layout()
