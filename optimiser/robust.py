@@ -19,12 +19,12 @@ studies), ``sfc`` (cruise power-specific or thrust-specific fuel consumption, wh
 study uses) and ``empty_mass_factor``. Draws are independent. Efficiencies are capped at 0.95
 (the spec's upper limit; the cap and the share of capped draws are reported).
 
-The design keeps its wing loading, power loading (or thrust-to-weight), aspect ratio and flap;
-every sample is sized completely, so takeoff mass, wing area and engine size follow the
+In the ``resize`` mode (:func:`monte_carlo`) the design keeps its wing loading, power loading
+(or thrust-to-weight), aspect ratio and flap; every sample is sized completely, so takeoff mass, wing area and engine size follow the
 perturbed assumptions. All samples go through ONE call of
 :func:`optimiser.sizing.size_designs` with per-design ``overrides`` (no loop over samples).
 
-That is the ``resize`` mode. The ``frozen`` mode (the default of ``optimiser robust``,
+The ``frozen`` mode (the default of ``optimiser robust``,
 :func:`frozen_monte_carlo`) asks instead what the uncertainty does to the airplane once it is
 built: the design is sized once at the study's values and frozen
 (:func:`optimiser.sizing.frozen.frozen_from_sized`): wing area, aspect ratio, installed rating,
@@ -36,7 +36,10 @@ design's maximum takeoff mass (the sized takeoff mass) with the study's payload,
 mass comes out of the fuel on board, and the ``mission_fuel`` margin says whether the mission
 still closes. Stall and landing depend on mass and CLmax only, so in this mode they do not
 vary; the frozen constraints (:func:`optimiser.sizing.frozen.analysis_constraints`) replace
-``mass_closure`` with ``mission_fuel`` and ``max_takeoff_mass``.
+``mass_closure`` with ``mission_fuel`` and ``max_takeoff_mass``. A design sized at the study's
+values carries exactly its mission fuel (``mission_fuel`` nominal margin 0), so with
+assumptions spread both ways that margin is met in about half the samples: the frozen mode
+tells how much fuel or payload margin the airplane needs, not only whether it is feasible.
 
 The probability that a constraint is met is the share of samples with a margin >= 0, with its
 binomial standard error sqrt(p (1 - p) / N) and the Wilson score interval at 95 %
