@@ -92,8 +92,9 @@ def produce(root: Path) -> dict[str, str]:
         _cli("report", run, cwd=root)
         _cli("evaluate", study, "--out", root / f"{name}-evaluate.csv", cwd=root)
         if "[uncertainty]" in study.read_text():
+            # the re-sizing Monte Carlo the baseline was saved with (frozen is the default now)
             _cli("robust", study, "--front", run / "front.csv", "--row", 1, "--samples", 200,
-                 "--out", root / f"{name}-robust", cwd=root)
+                 "--mode", "resize", "--out", root / f"{name}-robust", cwd=root)
     campaign = root / "campaign.toml"
     text = (REPO / "problems" / "strip_requirements.campaign.toml").read_text()
     # the base study beside the campaign, named relatively: the sweep's study texts (and

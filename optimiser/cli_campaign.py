@@ -45,6 +45,9 @@ def add_robust_parser(sub):
                    "[uncertainty] samples, else 10000)")
     r.add_argument("--seed", type=int, help="random seed (default: the study's "
                    "[uncertainty] seed, else 1)")
+    r.add_argument("--mode", default="frozen", help="frozen (default): the design sized once "
+                   "at the study's values, then every sample flies that airplane at its maximum "
+                   "takeoff mass; resize: every sample sized anew (wing and power loading held)")
     r.add_argument("--out", help="output folder (default: results/<study>-robust-<UTC time>)")
     r.add_argument("--force", action="store_true", help="replace the files in --out")
     return r
@@ -144,7 +147,7 @@ def _design_table(study, args):
 def cmd_robust(args):
     from .evaluation import CAUTION
     from .report.robust_plots import plot_robustness
-    from .robust import MAX_SAMPLES, monte_carlo, summary_text
+    from .robust import MAX_SAMPLES, MODES, mode_text, robustness, summary_text
     from .runfolder.files import utc_now, write_atomic
     from .runfolder.runinfo import json_bytes
     from .study import load_study
@@ -153,6 +156,8 @@ def cmd_robust(args):
         raise UsageError(f"{args.study}: no [uncertainty] table with an uncertain assumption; "
                          "expected e.g. [uncertainty] cd0_clean = { distribution = \"normal\", "
                          "std = 0.05 }")
+    if args.mode not in MODES:
+        raise UsageError(f"--mode: got {args.mode!r}; expected frozen or resize")
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
         raise UsageError(f"--samples: got {args.samples}; expected 1 to {MAX_SAMPLES}")
     if args.seed is not None and not 0 <= args.seed < 2**32:
@@ -165,7 +170,7 @@ def cmd_robust(args):
     if out.is_dir() and any(out.iterdir()) and not args.force:
         raise UsageError(f"--out {out}: folder exists and is not empty; expected a new or empty "
                          "folder (use --force to replace the robustness files in it)")
-    result = monte_carlo(study, table, samples=args.samples, seed=args.seed)
+    result = robustness(study, table, args.mode, samples=args.samples, seed=args.seed)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -173,6 +178,9 @@ def cmd_robust(args):
     text = summary_text(study, result)
     write_atomic(out / "constraints.csv", result.constraints.to_csv(index=False).encode())
     write_atomic(out / "trip_fuel.csv", result.trip_fuel.to_csv(index=False).encode())
+    if result.fuel_on_board is not None:
+        write_atomic(out / "fuel_on_board.csv",
+                     result.fuel_on_board.to_csv(index=False).encode())
     write_atomic(out / "samples.csv", result.samples.to_csv(index=False).encode())
     write_atomic(out / "design.csv", result.design.to_csv(index=False).encode())
     write_atomic(out / "summary.txt", (text + "\n").encode())
@@ -181,10 +189,19 @@ def cmd_robust(args):
             "assumptions": result.assumptions, "efficiency_capped_share": result.capped,
             "method": "vectorised Monte Carlo, one sizing call over all samples "
                       "(optimiser.robust)", "caution": CAUTION}
+    if result.mode == "frozen":  # a re-sizing run's file stays as it was (no mode field)
+        info["mode"] = result.mode
+        info["method"] = ("vectorised Monte Carlo of the design sized once and frozen, one "
+                          "analysis call over all samples at its maximum takeoff mass "
+                          "(optimiser.robust)")
     write_atomic(out / "robust.json", json_bytes(info))
     plot_robustness(study, result, out)
+    if result.mode == "resize":  # its files are as before the frozen mode; say it here
+        print(mode_text(result.mode))
     print(text)
-    print(f"wrote {out}/constraints.csv, trip_fuel.csv, samples.csv, summary.txt and the plots")
+    extra = "fuel_on_board.csv, " if result.fuel_on_board is not None else ""
+    print(f"wrote {out}/constraints.csv, trip_fuel.csv, {extra}samples.csv, summary.txt and "
+          "the plots")
     return 0
 
 

@@ -19,10 +19,27 @@ studies), ``sfc`` (cruise power-specific or thrust-specific fuel consumption, wh
 study uses) and ``empty_mass_factor``. Draws are independent. Efficiencies are capped at 0.95
 (the spec's upper limit; the cap and the share of capped draws are reported).
 
-The design keeps its wing loading, power loading (or thrust-to-weight), aspect ratio and flap;
-every sample is sized completely, so takeoff mass, wing area and engine size follow the
+In the ``resize`` mode (:func:`monte_carlo`) the design keeps its wing loading, power loading
+(or thrust-to-weight), aspect ratio and flap; every sample is sized completely, so takeoff mass, wing area and engine size follow the
 perturbed assumptions. All samples go through ONE call of
 :func:`optimiser.sizing.size_designs` with per-design ``overrides`` (no loop over samples).
+
+The ``frozen`` mode (the default of ``optimiser robust``,
+:func:`frozen_monte_carlo`) asks instead what the uncertainty does to the airplane once it is
+built: the design is sized once at the study's values and frozen
+(:func:`optimiser.sizing.frozen.frozen_from_sized`): wing area, aspect ratio, installed rating,
+flap and empty mass as sized. The samples are applied to that airplane repeated ``n`` times in
+ONE call of :func:`optimiser.sizing.frozen.analyse_designs`: drag, Oswald factor, propeller
+efficiency and fuel consumption change its performance and the fuel its mission needs; the
+empty-mass factor makes the structure as built heavier or lighter. Every sample flies at the
+design's maximum takeoff mass (the sized takeoff mass) with the study's payload, so extra empty
+mass comes out of the fuel on board, and the ``mission_fuel`` margin says whether the mission
+still closes. Stall and landing depend on mass and CLmax only, so in this mode they do not
+vary; the frozen constraints (:func:`optimiser.sizing.frozen.analysis_constraints`) replace
+``mass_closure`` with ``mission_fuel`` and ``max_takeoff_mass``. A design sized at the study's
+values carries exactly its mission fuel (``mission_fuel`` nominal margin 0), so with
+assumptions spread both ways that margin is met in about half the samples: the frozen mode
+tells how much fuel or payload margin the airplane needs, not only whether it is feasible.
 
 The probability that a constraint is met is the share of samples with a margin >= 0, with its
 binomial standard error sqrt(p (1 - p) / N) and the Wilson score interval at 95 %
@@ -43,6 +60,11 @@ from .uncertainty import (DEFAULT_SAMPLES, DISTRIBUTIONS, EFFICIENCY_CAP,  # noq
                           UNCERTAIN_ASSUMPTIONS, Z95, overrides_from_factors, read_uncertainty,
                           sample_factors, wilson_interval)
 
+MODES = ("frozen", "resize")
+"""The ways of ``optimiser robust``: the airplane sized once and frozen (default), or
+re-sized for every sample."""
+
+
 @dataclass(frozen=True)
 class RobustResult:
     """Outcome of :func:`monte_carlo`.
@@ -52,7 +74,8 @@ class RobustResult:
     standard error, Wilson 95 % interval and margin percentiles; ``trip_fuel``: one-row frame
     of nominal, mean, std and 5/50/95 percentiles [kg]; ``samples``: per sample the factors,
     trip fuel, takeoff mass, engine size, margins and ``feasible``; ``capped``: share of
-    capped efficiency draws.
+    capped efficiency draws; ``mode``: ``"resize"`` or ``"frozen"``; ``fuel_on_board``
+    (frozen mode only, else ``None``): one-row frame like ``trip_fuel`` of the fuel on board.
     """
 
     design: object
@@ -63,6 +86,8 @@ class RobustResult:
     seed: int
     assumptions: dict
     capped: dict
+    mode: str = "resize"
+    fuel_on_board: object = None
 
 
 def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> RobustResult:
@@ -80,24 +105,10 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
         study's. A study with no uncertain assumption is refused (ValueError).
     """
     import pandas as pd
-    from .evaluation import evaluate
     from .sizing import active_constraints, size_designs
-    unc = uncertainty if uncertainty is not None else (study.uncertainty or {})
-    assumptions = unc.get("assumptions", {})
-    if not assumptions:
-        raise ValueError(f"{study.path}: no uncertain assumptions; expected an [uncertainty] "
-                         "table with at least one of: " + ", ".join(UNCERTAIN_ASSUMPTIONS))
-    n = int(samples if samples is not None else unc.get("samples", DEFAULT_SAMPLES))
-    seed = int(seed if seed is not None else (unc.get("seed") if unc.get("seed") is not None
-                                              else 1))
-    table = pd.DataFrame(design)
-    if len(table) != 1:
-        raise ValueError(f"design: got {len(table)} rows; expected exactly one design")
-    nominal = evaluate(study, table)
+    nominal, assumptions, n, seed, factors = _draw(study, design, samples, seed, uncertainty)
     spec = study.spec
     flap_index = spec.high_lift_names.index(nominal["flap"].iloc[0])
-    rng = np.random.default_rng(seed)
-    factors = sample_factors(assumptions, n, rng)
     overrides, capped = overrides_from_factors(spec, factors)
     row = nominal.iloc[0]
     out = size_designs(spec, np.full(n, row["wing_loading_N_m2"]),
@@ -113,8 +124,103 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
     frame["feasible"] = out["feasible"]
     frame["limiting_constraint"] = np.asarray(names, dtype=object)[out["limiting_index"]]
 
+    nominal_margins = {c: float(row[f"margin_{c}"]) for c in names}
+    table = constraint_table(frame, names, nominal_margins, bool(row["feasible"]),
+                             dict(spec.requirements.margins), n)
+    trip_stats = spread_table(frame["trip_fuel_kg"].to_numpy(float), float(row["trip_fuel_kg"]),
+                              n, seed)
+    return RobustResult(design=nominal, constraints=table, trip_fuel=trip_stats,
+                        samples=frame, n_samples=n, seed=seed, assumptions=dict(assumptions),
+                        capped=capped)
+
+
+def _draw(study, design, samples, seed, uncertainty):
+    """The sized nominal design (evaluate's frame), the assumptions, ``n``, the seed and the
+    drawn factors, shared by both modes (same draws for the same seed)."""
+    import pandas as pd
+    from .evaluation import evaluate
+    unc = uncertainty if uncertainty is not None else (study.uncertainty or {})
+    assumptions = unc.get("assumptions", {})
+    if not assumptions:
+        raise ValueError(f"{study.path}: no uncertain assumptions; expected an [uncertainty] "
+                         "table with at least one of: " + ", ".join(UNCERTAIN_ASSUMPTIONS))
+    n = int(samples if samples is not None else unc.get("samples", DEFAULT_SAMPLES))
+    seed = int(seed if seed is not None else (unc.get("seed") if unc.get("seed") is not None
+                                              else 1))
+    table = pd.DataFrame(design)
+    if len(table) != 1:
+        raise ValueError(f"design: got {len(table)} rows; expected exactly one design")
+    nominal = evaluate(study, table)
+    factors = sample_factors(assumptions, n, np.random.default_rng(seed))
+    return nominal, dict(assumptions), n, seed, factors
+
+
+def frozen_monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> RobustResult:
+    """Monte Carlo of one design *as built* (the ``frozen`` mode, see the module notes).
+
+    The design is sized once at the study's values and frozen; the samples are applied to
+    that airplane repeated ``n`` times in one :func:`~optimiser.sizing.frozen.analyse_designs`
+    call, each at the design's maximum takeoff mass with the study's payload (so the fuel on
+    board is what an empty-mass factor leaves). Parameters as :func:`monte_carlo`; the
+    constraints are those of :func:`~optimiser.sizing.frozen.analysis_checked_constraints`,
+    their nominal margins those of the frozen design at its design case (equal to the
+    sizing's, ``mission_fuel`` and ``max_takeoff_mass`` 0). ``fuel_on_board`` holds the
+    spread of the fuel on board; ``samples`` adds ``fuel_mass_kg`` (the fuel the mission
+    needs, with reserves) and ``fuel_on_board_kg``.
+    """
+    import pandas as pd
+    from .sizing.frozen import (analyse_designs, analysis_checked_constraints, frozen_from_sized,
+                                operating_masses)
+    nominal, assumptions, n, seed, factors = _draw(study, design, samples, seed, uncertainty)
+    spec = study.spec
+    flap_index = spec.high_lift_names.index(nominal["flap"].iloc[0])
+    overrides, capped = overrides_from_factors(spec, factors)
+    one = frozen_from_sized(nominal, [flap_index], spec.uses_power_loading)
+    base = analyse_designs(spec, one, operating_masses(spec, one))
+    repeated = {k: np.repeat(nominal[k].to_numpy(float), n)
+                for k in ("wing_area_m2", "span_m", study.engine_size_column, "empty_mass_kg",
+                          "takeoff_mass_kg")}
+    frozen = frozen_from_sized(repeated, np.full(n, flap_index), spec.uses_power_loading)
+    out = analyse_designs(spec, frozen, operating_masses(spec, frozen), overrides=overrides)
+    names = analysis_checked_constraints(spec, out)
+    frame = pd.DataFrame({f"factor_{k}": v for k, v in factors.items()})
+    for col in ("trip_fuel_kg", "fuel_mass_kg", "fuel_on_board_kg", "takeoff_mass_kg",
+                study.engine_size_column):
+        frame[col] = out[col]
+    for c in names:
+        frame[f"margin_{c}"] = out[f"margin_{c}"]
+    frame["feasible"] = out["feasible"]
+    frame["limiting_constraint"] = np.asarray(names, dtype=object)[out["limiting_index"]]
+    nominal_margins = {c: float(base[f"margin_{c}"][0]) if f"margin_{c}" in base else 0.0
+                       for c in names}
+    table = constraint_table(frame, names, nominal_margins, bool(base["feasible"][0]),
+                             dict(spec.requirements.margins), n)
+    trip = spread_table(frame["trip_fuel_kg"].to_numpy(float), float(base["trip_fuel_kg"][0]),
+                        n, seed)
+    on_board = spread_table(frame["fuel_on_board_kg"].to_numpy(float),
+                            float(base["fuel_on_board_kg"][0]), n, seed)
+    return RobustResult(design=nominal, constraints=table, trip_fuel=trip, samples=frame,
+                        n_samples=n, seed=seed, assumptions=assumptions, capped=capped,
+                        mode="frozen", fuel_on_board=on_board)
+
+
+def robustness(study, design, mode: str = "frozen", **options) -> RobustResult:
+    """:func:`frozen_monte_carlo` (``mode="frozen"``) or :func:`monte_carlo` (``"resize"``);
+    ``options`` as theirs. An unknown mode raises ValueError."""
+    if mode == "frozen":
+        return frozen_monte_carlo(study, design, **options)
+    if mode == "resize":
+        return monte_carlo(study, design, **options)
+    raise ValueError(f"mode: got {mode!r}; expected frozen or resize")
+
+
+def constraint_table(frame, names, nominal_margins: dict, nominal_feasible: bool,
+                     required: dict, n: int):
+    """Per constraint of ``names`` (and ``all``): nominal margin, probability met (margin >=
+    the study's required margin, ``all`` from ``frame["feasible"]``), its standard error and
+    Wilson 95 % interval, margin percentiles and the share of samples it limits."""
+    import pandas as pd
     rows = []
-    required = dict(study.spec.requirements.margins)
     for c in (*names, "all"):
         met = frame["feasible"].to_numpy(bool) if c == "all" else \
             frame[f"margin_{c}"].to_numpy(float) >= required.get(c, 0.0)
@@ -124,9 +230,9 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
         rows.append({
             "constraint": c,
             "description": "every constraint at once" if c == "all" else CONSTRAINT_LABELS[c],
-            "nominal_margin": float("nan") if c == "all" else float(row[f"margin_{c}"]),
-            "nominal_met": bool(row["feasible"]) if c == "all" else bool(
-                row[f"margin_{c}"] >= required.get(c, 0.0)),
+            "nominal_margin": float("nan") if c == "all" else nominal_margins[c],
+            "nominal_met": nominal_feasible if c == "all" else bool(
+                nominal_margins[c] >= required.get(c, 0.0)),
             "probability_met": p,
             "standard_error": math.sqrt(p * (1.0 - p) / n),
             "probability_low_95": float(lo), "probability_high_95": float(hi),
@@ -136,16 +242,18 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
             "limiting_share": float(np.mean(frame["limiting_constraint"].to_numpy(object) == c))
             if c != "all" else float("nan"),
         })
-    trip = frame["trip_fuel_kg"].to_numpy(float)
-    p5, p50, p95 = np.percentile(trip, [5, 50, 95])
-    trip_stats = pd.DataFrame([{
-        "nominal_kg": float(row["trip_fuel_kg"]), "mean_kg": float(trip.mean()),
-        "std_kg": float(trip.std(ddof=1)) if n > 1 else 0.0,
+    return pd.DataFrame(rows)
+
+
+def spread_table(values_kg, nominal_kg: float, n: int, seed: int):
+    """One-row frame of a mass over the samples: nominal, mean, std and 5/50/95 % [kg]."""
+    import pandas as pd
+    p5, p50, p95 = np.percentile(values_kg, [5, 50, 95])
+    return pd.DataFrame([{
+        "nominal_kg": nominal_kg, "mean_kg": float(values_kg.mean()),
+        "std_kg": float(values_kg.std(ddof=1)) if n > 1 else 0.0,
         "p5_kg": float(p5), "p50_kg": float(p50), "p95_kg": float(p95),
         "samples": n, "seed": seed}])
-    return RobustResult(design=nominal, constraints=pd.DataFrame(rows), trip_fuel=trip_stats,
-                        samples=frame, n_samples=n, seed=seed, assumptions=dict(assumptions),
-                        capped=capped)
 
 
 def design_label(study, design_row) -> str:
@@ -161,9 +269,11 @@ def summary_text(study, result: RobustResult) -> str:
     """The printed report, ending with the caution text."""
     from .evaluation import CAUTION
     d = result.design.iloc[0]
-    lines = [f"study {study.name}: robustness of {design_label(study, d)}",
-             f"  {result.n_samples} samples, seed {result.seed}; uncertain: "
-             + ", ".join(f"{k} ({_dist_text(v)})" for k, v in result.assumptions.items())]
+    lines = [f"study {study.name}: robustness of {design_label(study, d)}"]
+    if result.mode == "frozen":  # a re-sizing summary keeps its earlier text
+        lines.append("  " + mode_text(result.mode))
+    lines.append(f"  {result.n_samples} samples, seed {result.seed}; uncertain: "
+                 + ", ".join(f"{k} ({_dist_text(v)})" for k, v in result.assumptions.items()))
     for k, share in result.capped.items():
         if share > 0:
             lines.append(f"  note: {share:.1%} of the {k} draws were capped at "
@@ -179,8 +289,22 @@ def summary_text(study, result: RobustResult) -> str:
     lines.append(f"  trip fuel [kg]: nominal {t['nominal_kg']:.1f}, mean {t['mean_kg']:.1f}, "
                  f"std {t['std_kg']:.1f}, 5/50/95 % {t['p5_kg']:.1f} / {t['p50_kg']:.1f} / "
                  f"{t['p95_kg']:.1f}")
+    if result.fuel_on_board is not None:
+        t = result.fuel_on_board.iloc[0]
+        lines.append(f"  fuel on board [kg]: nominal {t['nominal_kg']:.1f}, mean "
+                     f"{t['mean_kg']:.1f}, std {t['std_kg']:.1f}, 5/50/95 % {t['p5_kg']:.1f} / "
+                     f"{t['p50_kg']:.1f} / {t['p95_kg']:.1f}")
     lines.append(CAUTION)
     return "\n".join(lines)
+
+
+def mode_text(mode: str) -> str:
+    """One line saying how the samples were treated (``frozen`` or ``resize``)."""
+    if mode == "frozen":
+        return ("mode: frozen (sized once at the study's values; every sample flies that "
+                "airplane at its maximum takeoff mass with the study's payload)")
+    return ("mode: resize (every sample sized anew; wing loading, power loading or "
+            "thrust-to-weight, and aspect ratio held)")
 
 
 def _dist_text(a):

@@ -12,36 +12,27 @@ import numpy as np
 from ..columns import plot_label
 from ..robust import design_label
 from . import palette
-from .figures import pyplot, save
+from .figures import finish_layout, pyplot, save
 
 
 def plot_robustness(study, result, folder):
-    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``."""
+    """Write ``trip_fuel_spread`` and ``constraint_probability`` (PNG and SVG) in ``folder``;
+    in the frozen mode also ``fuel_on_board_spread``, the titles name the mode, the legends
+    sit below the axes and a footer carries the caution (a re-sizing run's figures are drawn
+    exactly as before, so their files compare with earlier ones)."""
     plt = pyplot()
     folder = Path(folder)
-    trip = result.samples["trip_fuel_kg"].to_numpy(float)
-    t = result.trip_fuel.iloc[0]
-    fig, ax = plt.subplots(figsize=(7, 4.4))
-    ax.hist(trip, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
-            label=f"{result.n_samples} samples")
-    ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
-               label=f"study's values {t['nominal_kg']:.1f} kg")
-    ax.axvline(t["mean_kg"], color=palette.ROBUST_MEAN, lw=1.2, ls="--",
-               label=f"mean {t['mean_kg']:.1f} kg")
-    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
-        ax.axvline(t[q], color=palette.ROBUST_QUANTILES, lw=1.0, ls=ls)
-    ax.plot([], [], color=palette.ROBUST_QUANTILES, ls=":",
-            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} kg")
-    ax.set_xlabel(plot_label("trip_fuel_kg"))
-    ax.set_ylabel("number of samples")
-    ax.set_title(f"{study.name}: trip fuel spread\n{design_label(study, result.design.iloc[0])}",
-                 fontsize=10)
-    ax.legend(fontsize=8)
-    fig.tight_layout()
-    save(fig, folder / "trip_fuel_spread")
+    frozen = result.mode == "frozen"
+    tag = " (frozen airplane)" if frozen else ""
+    _spread(plt, study, result, "trip_fuel_kg", result.trip_fuel.iloc[0],
+            f"{study.name}: trip fuel spread{tag}", folder / "trip_fuel_spread")
+    if frozen:
+        _spread(plt, study, result, "fuel_on_board_kg", result.fuel_on_board.iloc[0],
+                f"{study.name}: fuel on board at maximum takeoff mass{tag}",
+                folder / "fuel_on_board_spread")
 
     c = result.constraints
-    fig, ax = plt.subplots(figsize=(7, 0.45 * len(c) + 1.4))
+    fig, ax = plt.subplots(figsize=(7.8 if frozen else 7, 0.45 * len(c) + 1.4))
     y = np.arange(len(c))[::-1]
     p = c["probability_met"].to_numpy(float)
     err = np.vstack([p - c["probability_low_95"].to_numpy(float),
@@ -51,8 +42,42 @@ def plot_robustness(study, result, folder):
     ax.set_yticks(y, c["constraint"])
     ax.set_xlim(0, 1.05)
     ax.set_xlabel("probability the constraint is met [-] (whiskers: Wilson 95 % interval)")
-    ax.set_title(f"{study.name}: probability each constraint is met", fontsize=10)
+    ax.set_title(f"{study.name}: probability each constraint is met{tag}", fontsize=10)
     for yi, v in zip(y, p):
         ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
-    fig.tight_layout()
+    _layout(fig, study, frozen)
     save(fig, folder / "constraint_probability")
+
+
+def _spread(plt, study, result, column, t, title, path):
+    """Histogram of one mass column of the samples with its nominal, mean, 5 % and 95 %."""
+    values = result.samples[column].to_numpy(float)
+    frozen = result.mode == "frozen"
+    fig, ax = plt.subplots(figsize=(7.8, 5.2) if frozen else (7, 4.4))  # room for the footer
+    ax.hist(values, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
+            label=f"{result.n_samples} samples")
+    ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
+               label=f"study's values {t['nominal_kg']:.1f} kg")
+    ax.axvline(t["mean_kg"], color=palette.ROBUST_MEAN, lw=1.2, ls="--",
+               label=f"mean {t['mean_kg']:.1f} kg")
+    for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
+        ax.axvline(t[q], color=palette.ROBUST_QUANTILES, lw=1.0, ls=ls)
+    ax.plot([], [], color=palette.ROBUST_QUANTILES, ls=":",
+            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} kg")
+    ax.set_xlabel(plot_label(column))
+    ax.set_ylabel("number of samples")
+    ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0])}", fontsize=10)
+    if frozen:
+        ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0.0, -0.14), ncol=2,
+                  frameon=False)
+    else:
+        ax.legend(fontsize=8)
+    _layout(fig, study, frozen)
+    save(fig, path)
+
+
+def _layout(fig, study, frozen: bool):
+    if frozen:
+        finish_layout(fig, study.name)
+    else:
+        fig.tight_layout()
