@@ -139,7 +139,7 @@ LAYERS = (
     ("loading and sizing", ("study", "quantities", "uncertainty", "study_table", "sizing",
                             "solvers")),
     ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight",
-                               "analysis", "cluster")),
+                               "analysis", "cluster", "payload_range")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
                                         "campaign_file", "compare")),
