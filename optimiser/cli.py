@@ -404,6 +404,8 @@ def build_parser() -> argparse.ArgumentParser:
     add_robust_parser(sub).set_defaults(func=cmd_robust)
     from .cli_analyse import add_analyse_parser, cmd_analyse
     add_analyse_parser(sub).set_defaults(func=cmd_analyse)
+    from .cli_payload_range import add_payload_range_parser, cmd_payload_range
+    add_payload_range_parser(sub).set_defaults(func=cmd_payload_range)
     return p
 
 

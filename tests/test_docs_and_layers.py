@@ -144,7 +144,8 @@ LAYERS = (
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
                                         "campaign_file", "compare")),
     ("reporting", ("report",)),
-    ("command line", ("cli", "cli_decide", "cli_campaign", "cli_analyse", "__main__")),
+    ("command line", ("cli", "cli_decide", "cli_campaign", "cli_analyse", "cli_payload_range",
+                      "__main__")),
 )
 """The layer order of DEVELOPERS.md, lowest first: a module imports only its own layer or
 lower ones. ``optimiser/__init__.py`` (the lazy public API) stands above them all."""

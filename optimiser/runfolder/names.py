@@ -46,6 +46,11 @@ PICK_DESIGN_INPUT = "design_input.csv"
 """The chosen design in the input format of ``optimiser evaluate --designs`` (and of
 ``optimiser robust --front``): the four input columns, one row, every number exact."""
 REPORT = "report.html"
+PAYLOAD_RANGE_TABLE = "payload_range.csv"
+"""The corners A-D of the payload-range chart of frozen designs (``optimiser payload-range``,
+and a pick's folder)."""
+PAYLOAD_RANGE_FIGURE = "payload_range"
+"""Stem of the payload-range chart (``.png`` and ``.svg``, :data:`PLOT_SUFFIXES`)."""
 LOCK = ".lock"
 
 RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT,
