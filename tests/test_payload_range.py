@@ -213,3 +213,18 @@ def test_cli_missing_file_is_one_line_exit_2(tmp_path):
     done = _cli("payload-range", str(tmp_path / "nope.csv"), cwd=tmp_path)
     assert done.returncode == 2
     assert len(done.stderr.strip().splitlines()) == 1
+
+
+def test_a_picked_front_row_flies_the_design_range_at_max_payload():
+    # a pick's front row is sized on the design range with the design payload (model's own)
+    import pandas as pd
+
+    from optimiser.evaluation import evaluate
+    from optimiser.report.picks import pick_payload_range
+    study = load_study(PROBLEMS / "high_strip_utility.toml")
+    frame = evaluate(study, pd.read_csv(PROBLEMS / "high_strip_utility_designs.csv"))
+    row = frame[frame["margin_mass_closure"] >= 0].iloc[0]
+    corners = pick_payload_range(study, row)
+    assert list(corners["corner"]) == list(CORNERS)
+    assert math.isclose(corners["range_km"][1] * 1e3, study.spec.mission.range_m, rel_tol=1e-6)
+    assert corners["payload_kg"][1] == study.spec.weights.payload_kg

@@ -21,9 +21,10 @@ MOST_LINES = 9
 
 
 def payload_range_figure(table, study_name: str, design_range_km: float,
-                         design_payload_kg: float):
+                         design_payload_kg: float, run_utc: str | None = None):
     """The chart of ``table`` (columns ``design``, ``flap``, ``corner``, ``range_km``,
-    ``payload_kg``), the first :data:`MOST_LINES` designs; returns the figure."""
+    ``payload_kg``), the first :data:`MOST_LINES` designs, the footer naming the study (and
+    the run's start, UTC); returns the figure."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(8.2, 4.6))
     designs = list(dict.fromkeys(table["design"].tolist()))
@@ -55,7 +56,7 @@ def payload_range_figure(table, study_name: str, design_range_km: float,
     if len(designs) > MOST_LINES:
         ax.text(1.02, 0.0, f"first {MOST_LINES} of {len(designs)} designs drawn; all in the "
                 "table", transform=ax.transAxes, fontsize=6.5, color=NOTE_TEXT, va="bottom")
-    finish_layout(fig, study_name)
+    finish_layout(fig, study_name, run_utc)
     return fig
 
 
