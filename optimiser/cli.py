@@ -409,6 +409,8 @@ def build_parser() -> argparse.ArgumentParser:
     add_analyse_parser(sub).set_defaults(func=cmd_analyse)
     from .cli_sensitivity import add_sensitivity_parser, cmd_sensitivity
     add_sensitivity_parser(sub).set_defaults(func=cmd_sensitivity)
+    from .cli_payload_range import add_payload_range_parser, cmd_payload_range
+    add_payload_range_parser(sub).set_defaults(func=cmd_payload_range)
     return p
 
 

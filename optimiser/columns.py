@@ -255,6 +255,18 @@ COLUMNS = (
         "all inputs inside the study's variable bounds and allowed flaps"),
     _c("outside_bounds", "verdict", "",
         "which inputs lie outside the study's bounds (';'-separated)"),
+    _c("design", "payload-range", "", "row of the designs table, from 1",
+        note=" (optimiser payload-range only)"),
+    _c("corner", "payload-range", "",
+        "corner of the payload-range chart: A max payload at zero range, B max payload at "
+        "the maximum takeoff mass, C full tanks at the maximum takeoff mass, D ferry",
+        note=" (optimiser payload-range only)"),
+    _c("range_km", "payload-range", "km",
+        "range the fuel above reserves and trapped fuel flies", note=" (optimiser "
+        "payload-range only)"),
+    _c("tank_capacity_kg", "payload-range", "kg",
+        "usable fuel the tanks hold: fuel volume x fuel density",
+        note=" (optimiser payload-range only)"),
 )
 """Every output column of ``evaluate`` except the margins, in the order of the reference."""
 

@@ -200,7 +200,8 @@ def test_pick_command_writes_files_and_refuses_overwrite(run_dir, capsys):
     assert rc == 0
     (out,) = run_dir.glob("pick-knee-limited-*")      # a limited pick has its own folder
     for name in ("design.csv", "design.md", "constraint_diagram.png", "constraint_diagram.svg",
-                 "runners_up.csv", "choice.json", "design_input.csv"):
+                 "runners_up.csv", "choice.json", "design_input.csv", "payload_range.csv",
+                 "payload_range.png", "payload_range.svg"):
         assert (out / name).is_file(), name
     d = pd.read_csv(out / "design.csv")
     mi = float(d.loc[d["quantity"] == "maintenance_index", "value"].iloc[0])

@@ -139,13 +139,13 @@ LAYERS = (
     ("loading and sizing", ("study", "quantities", "uncertainty", "study_table", "sizing",
                             "solvers")),
     ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight",
-                               "analysis", "cluster", "chance")),
+                               "analysis", "cluster", "chance", "payload_range")),
     ("runs", ("runstate", "runfolder", "loop", "outputs", "runs")),
     ("decision support and campaigns", ("decide", "flaps", "robust", "campaign",
                                         "campaign_file", "compare", "sensitivity")),
     ("reporting", ("report",)),
     ("command line", ("cli", "cli_decide", "cli_campaign", "cli_analyse", "cli_sensitivity",
-                      "__main__")),
+                      "cli_payload_range", "__main__")),
 )
 """The layer order of DEVELOPERS.md, lowest first: a module imports only its own layer or
 lower ones. ``optimiser/__init__.py`` (the lazy public API) stands above them all."""

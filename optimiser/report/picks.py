@@ -57,12 +57,15 @@ def refuse_existing(out: Path, force: bool, what: str):
 
 def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> Path:
     """Write ``RUN_DIR/pick-<method>/`` (see :func:`pick_folder`): design.csv, design.md,
-    design_input.csv, constraint_diagram.png/.svg, runners_up.csv, choice.json. An existing
-    folder is refused unless ``force``.
+    design_input.csv, constraint_diagram.png/.svg, runners_up.csv, choice.json,
+    payload_range.csv and payload_range.png/.svg. An existing folder is refused unless
+    ``force``.
 
     Every table and the figure are made before anything is written; the folder is built in
     a temporary sibling and renamed into place (:func:`~optimiser.runfolder.files.new_folder`),
     so a failure leaves no partial folder and an old one untouched."""
+    from ..evaluation import evaluated_csv_text
+    from .payload_range_plot import payload_range_figure
     from .plots import design_constraint_diagram
     out = pick_folder(run.run_dir, choice.method, choice.limits)
     refuse_existing(out, force, "pick files")
@@ -77,16 +80,33 @@ def write_pick(run: Run, choice: Choice, force=False, n_runners=RUNNERS_UP) -> P
              names.PICK_DESIGN_INPUT: design_input_bytes(study, choice.design),
              "runners_up.csv": runners.to_csv(index=False).encode(),
              "design.md": md.encode(), names.PICK_CHOICE: json_bytes(info, allow_nan=False)}
+    corners = pick_payload_range(study, choice.design)
+    texts[names.PAYLOAD_RANGE_TABLE] = evaluated_csv_text(corners).encode("utf-8")
     fig = design_constraint_diagram(study, choice.design, label="chosen design", front=run.front,
                                     run_utc=run.info.get("started_utc"))
+    pr_fig = payload_range_figure(corners, study.name, study.spec.mission.range_m / 1e3,
+                                  study.spec.weights.payload_kg, run.info.get("started_utc"))
     try:
         with new_folder(out, "the pick folder") as tmp:
             for name, data in texts.items():
                 write_atomic(tmp / name, data)
             save(fig, tmp / "constraint_diagram")
-    finally:  # the figure is made before the folder: closed whatever happens
+            save(pr_fig, tmp / names.PAYLOAD_RANGE_FIGURE)
+    finally:  # the figures are made before the folder: closed whatever happens
         pyplot().close(fig)
+        pyplot().close(pr_fig)
     return out
+
+
+def pick_payload_range(study, design):
+    """The payload-range corners of a chosen design (a front row), frozen as sized
+    (:func:`optimiser.payload_range.payload_range`)."""
+    import pandas as pd
+
+    from ..analysis import frozen_from_table
+    from ..payload_range import payload_range
+    frozen, flaps = frozen_from_table(study, pd.DataFrame([dict(design)]), "chosen design")
+    return payload_range(study.spec, frozen, flaps)
 
 
 def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str:
@@ -109,7 +129,8 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str
     if out is not None:
         from ..errors import shell_command
         lines.append(f"wrote {out}/ (design.csv, design.md, {names.PICK_DESIGN_INPUT}, "
-                     "constraint_diagram.png/.svg, runners_up.csv, choice.json)")
+                     "constraint_diagram.png/.svg, runners_up.csv, choice.json, "
+                     f"{names.PAYLOAD_RANGE_TABLE}, {names.PAYLOAD_RANGE_FIGURE}.png/.svg)")
         lines.append("  size it again or test its robustness: " + shell_command(
             "optimiser", "evaluate", Path(out).parent / names.STUDY, "--designs",
             Path(out) / names.PICK_DESIGN_INPUT))

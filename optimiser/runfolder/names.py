@@ -52,6 +52,11 @@ PRICE_TABLE = "requirement_prices.csv"
 """A design's sensitivities: ``sensitivity-<knee|row-N>/`` holding the table and the
 tornado chart (``optimiser sensitivity``)."""
 REPORT = "report.html"
+PAYLOAD_RANGE_TABLE = "payload_range.csv"
+"""The corners A-D of the payload-range chart of frozen designs (``optimiser payload-range``,
+and a pick's folder)."""
+PAYLOAD_RANGE_FIGURE = "payload_range"
+"""Stem of the payload-range chart (``.png`` and ``.svg``, :data:`PLOT_SUFFIXES`)."""
 LOCK = ".lock"
 
 RUN_FILES = (STUDY, RUN_INFO, FRONT, ARCHIVE, HISTORY, LEAST_VIOLATING, CHECKPOINT,

@@ -31,7 +31,8 @@ class MissionFuel:
 
 
 def mission_fuel(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, induced_drag_factor,
-                 cd0_cruise, consumption: CruiseConsumption, air: AirStates) -> MissionFuel:
+                 cd0_cruise, consumption: CruiseConsumption, air: AirStates,
+                 range_m=None) -> MissionFuel:
     """Trip and reserve fuel of the design mission by segment fractions and Breguet.
 
     Parameters
@@ -47,6 +48,8 @@ def mission_fuel(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, induced_drag
         Cruise efficiency [-] and SFC [kg J^-1] or TSFC [kg N^-1 s^-1] (this subset of designs).
     air : AirStates
         Cruise true airspeed [m s^-1] and dynamic pressure [Pa].
+    range_m : ndarray or float, optional
+        Range flown [m], one per design or one for all (default the study's range).
 
     Returns
     -------
@@ -65,12 +68,13 @@ def mission_fuel(spec: AircraftSpec, takeoff_mass_kg, wing_area_m2, induced_drag
     f_pre = ms.fraction_startup * ms.fraction_taxi * ms.fraction_takeoff * ms.fraction_climb
     w = takeoff_mass_kg * G0
     s_ref, k_cr = wing_area_m2, induced_drag_factor
+    distance = ms.range_m if range_m is None else range_m
     w_i = w * f_pre
     ld_i = aero.lift_to_drag(w_i / (q_cr * s_ref), cd0_cruise, k_cr)
-    ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_i, eta, sfc_p, sfc_t, is_jet)
+    ratio = mission.cruise_weight_ratio(distance, v_cr, ld_i, eta, sfc_p, sfc_t, is_jet)
     w_mid = w_i / np.sqrt(ratio)
     ld_mid = aero.lift_to_drag(w_mid / (q_cr * s_ref), cd0_cruise, k_cr)
-    ratio = mission.cruise_weight_ratio(ms.range_m, v_cr, ld_mid, eta, sfc_p, sfc_t, is_jet)
+    ratio = mission.cruise_weight_ratio(distance, v_cr, ld_mid, eta, sfc_p, sfc_t, is_jet)
     w_end_cruise = w_i / ratio
     w_end = w_end_cruise * ms.fraction_descent * ms.fraction_landing
     trip = (w - w_end) / G0

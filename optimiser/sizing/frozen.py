@@ -201,6 +201,47 @@ def fuel_margin(fuel_on_board_kg, fuel_needed_kg, takeoff_mass_kg) -> np.ndarray
     return np.where(balanced, 0.0, raw)
 
 
+@dataclass(frozen=True, slots=True)
+class CruiseSetup:
+    """The stages of a frozen design before its mission fuel, at one takeoff mass (SI)."""
+
+    batch: object  # DesignBatch
+    air: object  # AirStates
+    drag: object  # CleanDrag (before the build-up is folded in)
+    high_lift: object  # HighLift
+    consumption: object  # CruiseConsumption
+    e_cr: np.ndarray  # cruise Oswald factor [-]
+    k_cr: np.ndarray  # cruise induced-drag factor [-]
+    components: object  # ComponentDrag or None (pinned CD0)
+    cd0_cruise: np.ndarray  # cruise CD0 with wave drag [-]
+
+
+def cruise_setup(spec: AircraftSpec, frozen: FrozenDesigns, takeoff_mass_kg,
+                 overrides=None) -> CruiseSetup:
+    """Design batch, air, clean drag, high lift, consumption and the cruise polar of fixed
+    airplanes at a takeoff mass [kg]: what :func:`mission_fuel` needs besides the range."""
+    w = takeoff_mass_kg * G0
+    s_ref = frozen.wing_area_m2
+    loading = frozen.rated / w if spec.propulsion.family == "turbofan" else w / (frozen.rated / 1e3)
+    batch = design_batch(spec, w / s_ref, loading, frozen.aspect_ratio, frozen.high_lift_index,
+                         overrides)
+    air = air_states(spec)
+    drag = clean_drag(spec, batch.aspect_ratio, air, batch.overrides)
+    hl = high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
+    consumption = cruise_consumption(spec, batch.overrides)
+    e_cr, k_cr = cruise_induced_drag(spec, drag.oswald_wing_cruise, batch.aspect_ratio,
+                                     frozen.span_m)
+    components = None
+    if drag.build_up is not None:
+        components = component_drag(spec, drag.build_up, s_ref, batch.aspect_ratio,
+                                    frozen.rated)
+    if drag.pinned:
+        cd0_cruise = drag.cd0_cruise
+    else:
+        cd0_cruise = components.cd0_cruise_friction * drag.cd0_scale + drag.wave_cd0
+    return CruiseSetup(batch, air, drag, hl, consumption, e_cr, k_cr, components, cd0_cruise)
+
+
 def analyse_batch(spec: AircraftSpec, frozen: FrozenDesigns, masses: OperatingMasses,
                   overrides=None):
     """Every stage of a fixed airplane at one operating case.
@@ -233,25 +274,10 @@ def analyse_batch(spec: AircraftSpec, frozen: FrozenDesigns, masses: OperatingMa
     """
     from . import fly  # the stages after the mass, shared with size_batch
     m_to = masses.takeoff_mass_kg
-    w = m_to * G0
-    s_ref, ar = frozen.wing_area_m2, frozen.aspect_ratio
-    loading = frozen.rated / w if spec.propulsion.family == "turbofan" else w / (frozen.rated / 1e3)
-    batch = design_batch(spec, w / s_ref, loading, ar, frozen.high_lift_index, overrides)
-    ov = batch.overrides
-    air = air_states(spec)
-    drag = clean_drag(spec, batch.aspect_ratio, air, ov)
-    hl = high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
-    consumption = cruise_consumption(spec, ov)
-    span = frozen.span_m
-    e_cr, k_cr = cruise_induced_drag(spec, drag.oswald_wing_cruise, batch.aspect_ratio, span)
-    components = None
-    if drag.build_up is not None:
-        components = component_drag(spec, drag.build_up, s_ref, batch.aspect_ratio,
-                                    frozen.rated)
-    if drag.pinned:
-        cd0_cruise = drag.cd0_cruise
-    else:
-        cd0_cruise = components.cd0_cruise_friction * drag.cd0_scale + drag.wave_cd0
+    c = cruise_setup(spec, frozen, m_to, overrides)
+    batch, air, hl, consumption = c.batch, c.air, c.high_lift, c.consumption
+    drag, components, k_cr, cd0_cruise = c.drag, c.components, c.k_cr, c.cd0_cruise
+    ov, s_ref, span, e_cr = batch.overrides, frozen.wing_area_m2, frozen.span_m, c.e_cr
     fuel = mission_fuel(spec, m_to, s_ref, k_cr, cd0_cruise, consumption, air)
     drag = built_up_drag(drag, components)
     scale = ov.get("empty_mass_factor", spec.weights.empty_mass_factor) \
