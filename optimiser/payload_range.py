@@ -49,9 +49,13 @@ CORNER_NAMES = {"A": "maximum payload, zero range",
 RANGE_LIMIT_M = 2e7
 """Longest range the root solve brackets [m] (the analysis's own upper range limit)."""
 
-RANGE_RTOL = 1e-12
-"""The range solve stops when the fuel imbalance (as a share of the takeoff mass, times
-1e6) is below this share of the range in metres: about 1e-6 kg per tonne at 1000 km."""
+RANGE_RTOL = 1e-10
+"""The range solve stops when the fuel imbalance (in millionths of the takeoff mass) is
+below this share of the range in metres: 1e-10 of the mass at 1000 km (ours)."""
+
+RANGE_ACCEPT = 1e-8
+"""A range the solve leaves unconverged is still kept when its fuel imbalance is below this
+share of the takeoff mass (1 % of the analysis's balance tolerance; ours)."""
 
 
 def tank_capacity_kg(spec, frozen: FrozenDesigns) -> np.ndarray:
@@ -106,6 +110,9 @@ def range_for_fuel(spec, frozen: FrozenDesigns, takeoff_mass_kg, fuel_on_board_k
     r, converged = secant_in_bracket(f, guess, f_guess, active, low=0.0, high=RANGE_LIMIT_M,
                                      f_low=f_zero, f_high=f_limit, x_prev=0.0, f_prev=f_zero,
                                      rtol=RANGE_RTOL, nan_low=-1.0, max_iterations=100)
+    late = np.flatnonzero(active & ~converged)
+    if late.size:  # kept where the imbalance is already far inside the tolerance
+        converged[late] = np.abs(f(r[late], late)) <= RANGE_ACCEPT * 1e6
     return np.where(at_zero, 0.0, np.where(active & converged, r, np.nan))
 
 
