@@ -1,10 +1,11 @@
 """Regenerate the README's figures (docs/images/*.png) from the bundled demo studies.
 
 Runs the default study at its own budget and seed, and a two-axis sweep of the bundled
-campaign on a small budget, with the tool's own command line, and copies three of their
-figures here: the constraint diagram at a representative front design, the front view, the
-knee design's tornado chart and the campaign's carpet plot. SOURCE_DATE_EPOCH fixes the
-time in the figures' footers, so the images change only when the model or the figures do.
+campaign on a small budget, with the tool's own command line, and copies their figures here:
+the constraint diagram at a representative front design, the front view, the knee design's
+tornado chart, payload-range chart and frozen-design robustness, and the campaign's carpet
+plot. SOURCE_DATE_EPOCH fixes the time in the figures' footers, so the images change only
+when the model or the figures do.
 
     python docs/make_figures.py
 """
@@ -41,6 +42,13 @@ def main():
         shutil.copyfile(run / "plots" / "front_view.png", IMAGES / "front_view.png")
         _cli("sensitivity", run, cwd=root)
         shutil.copyfile(run / "sensitivity-knee" / "tornado.png", IMAGES / "tornado.png")
+        _cli("pick", run, cwd=root)
+        pick = run / "pick-knee"
+        shutil.copyfile(pick / "payload_range.png", IMAGES / "payload_range.png")
+        _cli("robust", REPO / "problems" / "high_strip_utility.toml", "--front",
+             pick / "design_input.csv", "--out", root / "robust", cwd=root)
+        shutil.copyfile(root / "robust" / "constraint_probability.png",
+                        IMAGES / "robust_frozen.png")
         shutil.copyfile(REPO / "problems" / "high_strip_utility.toml", root / "high_strip_utility.toml")
         text = (REPO / "problems" / "strip_requirements.campaign.toml").read_text("utf-8")
         text = text.replace("population = 60", "population = 40").replace("generations = 30",

@@ -46,8 +46,12 @@ def footer(fig, study_name: str, run_utc: str | None = None):
     from ..evaluation import CAUTION_SHORT
     from .palette import NOTE_TEXT
     parts = [f"study {study_name}"] + ([f"run started {run_utc}"] if run_utc else [])
-    fig.text(0.006, 0.008, "  ·  ".join([*parts, CAUTION_SHORT]), fontsize=FOOTER_FONT_SIZE,
-             color=NOTE_TEXT, ha="left", va="bottom")
+    text = fig.text(0.006, 0.008, "  ·  ".join([*parts, CAUTION_SHORT]),
+                    fontsize=FOOTER_FONT_SIZE, color=NOTE_TEXT, ha="left", va="bottom")
+    # a figure too narrow for the line gets the caution on a line of its own (never cut off)
+    width = text.get_window_extent(fig.canvas.get_renderer()).width
+    if width > 0.985 * fig.bbox.width:
+        text.set_text("  ·  ".join(parts) + "\n" + CAUTION_SHORT)
 
 
 def finish_layout(fig, study_name: str, run_utc: str | None = None):
