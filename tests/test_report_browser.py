@@ -149,3 +149,23 @@ def test_report_filters_hovers_and_clicks(driver, report, tmp_path):
     assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     logs = [e for e in driver.get_log("browser") if e.get("level") == "SEVERE"]
     assert not logs, logs
+
+
+def test_a_flap_row_shows_only_that_option_on_the_front(driver, report):
+    """Clicking an option's row of the flap comparison leaves only its front designs drawn
+    (checked against front.csv), its checkbox alone ticked; 'show all' brings back all."""
+    from selenium.webdriver.common.by import By
+    run, _, path = report
+    front = run.front
+    driver.get(path.resolve().as_uri())
+    flap = front["flap"].value_counts().index[0]   # an option with designs on the front
+    row = driver.find_element(By.CSS_SELECTOR, f"table.flaps tbody tr[data-flap='{flap}']")
+    driver.execute_script("arguments[0].dispatchEvent(new MouseEvent('click', {bubbles: true}))",
+                          row)
+    shown = _shown(driver)
+    assert {int(c.get_attribute("data-id")) for c in shown} == \
+        set(front.index[front["flap"] == flap])
+    boxes = driver.find_elements(By.CSS_SELECTOR, "#controls input[type=checkbox]")
+    assert [b.get_attribute("value") for b in boxes if b.is_selected()] == [flap]
+    driver.execute_script("document.getElementById('reset').click()")
+    assert len(_shown(driver)) == len(front)

@@ -151,10 +151,13 @@ def page_data(run, choice):
     }
 
 
-def _table(header, rows, cls=""):
+def _table(header, rows, cls="", row_keys=None):
+    """An HTML table; ``row_keys`` (one per row) become each row's ``data-flap``."""
     h = "".join(f"<th>{html.escape(str(x))}</th>" for x in header)
-    body = "".join("<tr>" + "".join(f"<td>{html.escape(str(x))}</td>" for x in r) + "</tr>"
-                   for r in rows)
+    keys = row_keys or [None] * len(rows)
+    body = "".join(("<tr>" if k is None else f'<tr data-flap="{html.escape(str(k))}">')
+                   + "".join(f"<td>{html.escape(str(x))}</td>" for x in r) + "</tr>"
+                   for r, k in zip(rows, keys))
     return f'<table class="{cls}"><thead><tr>{h}</tr></thead><tbody>{body}</tbody></table>'
 
 
@@ -329,8 +332,11 @@ def _flaps_section(run) -> str:
             "best trip fuel vs engine size front (the reference), along those fronts: "
             "the mean, over the engine sizes from where both options have a design, of the "
             "smallest trip fuel each reaches with an engine no larger than that (and the same "
-            "with the roles swapped); positive = worse than the reference.</p>"
-            + _table(head, rows, "flaps") + "<figure><img alt='flap fronts' src='"
+            "with the roles swapped); positive = worse than the reference. Click an option's "
+            "row to show only its designs in the front explorer above (\u2018show all\u2019 "
+            "there brings the others back).</p>"
+            + _table(head, rows, "flaps", row_keys=list(table["flap"]))
+            + "<figure><img alt='flap fronts' src='"
             + svg_data_uri(plots.flap_fronts(study, fronts, table, run.info.get("started_utc")))
             + "'></figure></section>")
 

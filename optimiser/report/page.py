@@ -226,7 +226,14 @@ function drawSheet(d){
 function select(id){ state.selected = id; const d = D.designs[id];
   drawSheet(d); drawDiagram(d); drawFront(); }
 
-buildControls(); drawFront(); if (D.designs.length) select(state.selected);
+function showOnlyFlap(f){ state.flaps = new Set([f]);
+  document.querySelectorAll('#controls input[type=checkbox]').forEach(i => { i.checked = i.value === f; });
+  drawFront(); const ex = document.getElementById('explore'); if (ex) ex.scrollIntoView(); }
+function linkFlapTable(){ document.querySelectorAll('table.flaps tbody tr').forEach(tr => {
+  const f = tr.getAttribute('data-flap'); if (!f || !D.flaps.includes(f)) return;
+  tr.style.cursor = 'pointer'; tr.title = 'show only this option on the front explorer';
+  tr.addEventListener('click', () => showOnlyFlap(f)); }); }
+buildControls(); linkFlapTable(); drawFront(); if (D.designs.length) select(state.selected);
 })();
 """
 
