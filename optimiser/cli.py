@@ -349,6 +349,9 @@ def build_parser() -> argparse.ArgumentParser:
         "aspect ratio and flap type, and search for the best trade-offs."))
     p.add_argument("--version", action="version", version=f"optimiser {__version__}")
     p.add_argument("--debug", action="store_true", help="show a traceback on errors")
+    p.add_argument("--units", metavar="{si,us}", help="units of what you read (summaries, "
+                   "sheets, figures): si (default) or us customary; CSV files stay SI; "
+                   "default: the OPTIMISER_UNITS environment variable, else si")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
     e = sub.add_parser("evaluate", help="size given designs and write every number and margin")
     e.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
@@ -413,7 +416,10 @@ def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
-        return args.func(args)
+        from .display_units import system_from, using
+        args.units = system_from(args.units)   # --units beats OPTIMISER_UNITS; default si
+        with using(args.units):   # for the sheets and figures deep in the report layer
+            return args.func(args)
     except OptimiserError as exc:
         if args.debug:
             raise

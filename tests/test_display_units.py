@@ -1,0 +1,121 @@
+"""Units of the reader's choice (optimiser.display_units, ``--units si|us``).
+
+Sources of the exact factors: NIST Special Publication 811 (2008), "Guide for the Use of the
+International System of Units", Appendix B, and the international yard and pound agreement of
+1959 (1 ft = 0.3048 m, 1 lb = 0.45359237 kg, standard gravity 9.80665 m/s^2, 1 nmi = 1852 m,
+1 hp = 550 ft lbf/s, 1 US gal = 231 in^3); from memory."""
+
+from __future__ import annotations
+
+import math
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+from optimiser import display_units as du
+from optimiser.columns import COLUMNS
+from optimiser.study import bundled_study_path
+
+FT = 0.3048                  # m, 1959 agreement
+LB = 0.45359237              # kg, 1959 agreement
+LBF = 0.45359237 * 9.80665   # N, NIST SP 811 Appendix B
+LBF_FT2 = 4.4482216152605 / 0.09290304   # N/m^2 in one lbf/ft^2 = 47.88025898033584
+
+
+@pytest.mark.parametrize("unit,us_unit,factor", [
+    ("m", "ft", FT),
+    ("kg", "lb", LB),
+    ("N", "lbf", LBF),
+    ("kN", "lbf", LBF / 1000),
+    ("m/s", "kn", 1852 / 3600),
+    ("m/s^2", "ft/s^2", FT),
+    ("m^2", "ft^2", FT * FT),
+    ("m^3", "US gal", 231 * 0.0254 ** 3),
+    ("kg/m^3", "lb/ft^3", LB / FT ** 3),
+    ("kW", "hp", 550 * FT * LBF / 1000),
+    ("N/m^2", "lbf/ft^2", LBF / FT ** 2),
+    ("N/kW", "lbf/hp", LBF / (550 * FT * LBF / 1000)),
+])
+def test_every_factor_against_its_exact_definition(unit, us_unit, factor):
+    shown, shown_unit = du.to_display(1.0, unit, "us")
+    assert shown_unit == us_unit
+    assert shown == pytest.approx(1.0 / factor, rel=1e-15)
+
+
+def test_named_constants():
+    # NIST SP 811 Appendix B: 1 hp = 745.69987158227022 W; 1 lbf = 4.4482216152605 N
+    assert du.HORSEPOWER_W == pytest.approx(745.69987158227022, rel=1e-15)
+    assert du.POUND_FORCE_N == pytest.approx(4.4482216152605, rel=1e-15)
+    assert du.US_GALLON_M3 == pytest.approx(3.785411784e-3, rel=1e-15)
+    assert du.NAUTICAL_MILE_M == 1852.0
+    assert du.POUND_FORCE_N / du.FOOT_M ** 2 == pytest.approx(47.88025898033584, rel=1e-15)
+
+
+def test_climb_rate_in_feet_per_minute_and_range_in_nautical_miles():
+    # 1 ft/min = 0.3048 / 60 m/s; 1 nmi = 1852 m (exact definitions)
+    rate, unit = du.to_display(5.08, "m/s", "us", column="climb_rate_m_s")
+    assert unit == "ft/min" and rate == pytest.approx(1000.0, rel=1e-14)
+    dist, unit = du.to_display(1852e3, "m", "us", quantity="range")
+    assert unit == "nmi" and dist == pytest.approx(1000.0, rel=1e-15)
+    assert du.display_label("climb_rate_m_s", "us") == "climb rate [ft/min]"
+
+
+def test_absolute_temperature_with_offset_and_differences_unchanged():
+    # degF = K x 9/5 - 459.67: the ice point 273.15 K is 32 degF
+    t, unit = du.to_display(273.15, "K abs", "us")
+    assert unit == "degF" and t == pytest.approx(32.0, abs=1e-12)
+    assert du.from_display(212.0, "K abs", "us") == pytest.approx(373.15, abs=1e-12)
+    assert du.to_display(15.0, "K", "us") == (15.0, "K")
+
+
+def test_every_column_unit_has_a_display_and_round_trips():
+    values = np.array([0.5, 1234.5678, 9.87e6])
+    for c in COLUMNS:
+        shown, unit = du.to_display(values, c.unit, "us", c.name)
+        back = du.from_display(shown, c.unit, "us", c.name)
+        np.testing.assert_allclose(back, values, rtol=1e-14)
+        if c.unit not in du.UNCHANGED:
+            assert unit != c.unit
+
+
+def test_si_passes_values_through_untouched():
+    values = np.array([1100.0, 2.5])
+    shown, unit = du.to_display(values, "N/m^2", "si")
+    assert shown is values and unit == "N/m^2"
+    assert du.display_label("wing_loading_N_m2", "si") == "wing loading [N/m²]"
+    assert du.display_label("wing_loading_N_m2", "us") == "wing loading [lbf/ft²]"
+    assert du.display_label("engine_power_kW", "us") == "installed engine power, all engines [hp]"
+    assert du.display_label("aspect_ratio", "us") == "aspect ratio [-]"
+    assert du.display_label("not_a_column", "us") == "not_a_column"
+
+
+def test_system_choice_option_beats_environment():
+    assert du.system_from(None, {}) == "si"
+    assert du.system_from(None, {"OPTIMISER_UNITS": "US"}) == "us"
+    assert du.system_from("si", {"OPTIMISER_UNITS": "us"}) == "si"
+    with pytest.raises(du.UsageError, match=r"^OPTIMISER_UNITS: got 'metric'; expected si or us$"):
+        du.system_from(None, {"OPTIMISER_UNITS": "metric"})
+    with du.using("us"):
+        assert du.current_system() == "us"
+    assert du.current_system() == "si"
+
+
+def _cli(*args, env_units=None, cwd):
+    import os
+    env = {k: v for k, v in os.environ.items() if k != "OPTIMISER_UNITS"}
+    env["MPLBACKEND"] = "Agg"
+    if env_units is not None:
+        env["OPTIMISER_UNITS"] = env_units
+    return subprocess.run([sys.executable, "-m", "optimiser", *map(str, args)], cwd=cwd,
+                          env=env, capture_output=True, text=True)
+
+
+@pytest.mark.parametrize("args,env_units,message", [
+    (["--units", "metric"], None, "error: --units: got 'metric'; expected si or us\n"),
+    ([], "imperial", "error: OPTIMISER_UNITS: got 'imperial'; expected si or us\n"),
+])
+def test_a_bad_unit_system_is_one_line_exit_2(tmp_path, args, env_units, message):
+    done = _cli(*args, "check", bundled_study_path(), env_units=env_units, cwd=tmp_path)
+    assert done.returncode == 2 and done.stderr == message
