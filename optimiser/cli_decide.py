@@ -91,7 +91,8 @@ def run_pick(args) -> int:
     method = _method(args, "knee")
     choice = _choice(run, args, method)
     out = write_pick(run, choice, force=args.force, n_runners=args.runners_up)
-    print(pick_summary(run.study, choice, runners_up(run.study, choice, args.runners_up), out))
+    print(pick_summary(run.study, choice, runners_up(run.study, choice, args.runners_up), out,
+                       units=getattr(args, "units", None)))
     return 0
 
 

@@ -119,3 +119,79 @@ def _cli(*args, env_units=None, cwd):
 def test_a_bad_unit_system_is_one_line_exit_2(tmp_path, args, env_units, message):
     done = _cli(*args, "check", bundled_study_path(), env_units=env_units, cwd=tmp_path)
     assert done.returncode == 2 and done.stderr == message
+
+
+DESIGN = "wing_loading_N_m2=1100 power_loading_N_kW=75 aspect_ratio=8 flap=plain"
+
+
+def test_evaluate_csv_bytes_identical_with_and_without_us_units(tmp_path):
+    si = _cli("evaluate", bundled_study_path(), "--design", DESIGN, "--out", "si.csv",
+              cwd=tmp_path)
+    us = _cli("--units", "us", "evaluate", bundled_study_path(), "--design", DESIGN, "--out",
+              "us.csv", cwd=tmp_path)
+    assert si.returncode == 0 and us.returncode == 0, si.stderr + us.stderr
+    assert (tmp_path / "si.csv").read_bytes() == (tmp_path / "us.csv").read_bytes()
+    assert "wing_loading_N_m2" in si.stdout and "wing loading [lbf/ft²]" not in si.stdout
+    assert "wing loading [lbf/ft²]" in us.stdout and "takeoff mass [lb]" in us.stdout
+    # 1100 N/m^2 / 47.88025898033584 = 22.974 lbf/ft^2 (NIST SP 811 factors)
+    assert f"{1100 / LBF_FT2:.2f}" == "22.97" and " 22.97 " in us.stdout
+
+
+def test_option_beats_environment_on_the_command_line(tmp_path):
+    by_env = _cli("evaluate", bundled_study_path(), "--design", DESIGN, env_units="us",
+                  cwd=tmp_path)
+    by_option = _cli("--units", "si", "evaluate", bundled_study_path(), "--design", DESIGN,
+                     env_units="us", cwd=tmp_path)
+    assert by_env.returncode == 0 and by_option.returncode == 0
+    assert "wing loading [lbf/ft²]" in by_env.stdout
+    assert "wing_loading_N_m2" in by_option.stdout and "lbf" not in by_option.stdout
+
+
+@pytest.fixture(scope="module")
+def tiny_run(tmp_path_factory):
+    import optimiser
+    from optimiser.study import load_study
+    study = load_study(bundled_study_path())
+    out = tmp_path_factory.mktemp("units") / "run"
+    result = optimiser.optimise(study, out=out, population=24, generations=4, plots=False)
+    return study, result
+
+
+def test_pick_summary_in_us_units(tiny_run, capsys, monkeypatch):
+    import re
+    from optimiser.cli import main
+    from optimiser.runfolder import load_run
+    study, result = tiny_run
+    monkeypatch.delenv("OPTIMISER_UNITS", raising=False)
+    assert main(["--units", "us", "pick", str(result.run_dir), "--force"]) == 0
+    text = capsys.readouterr().out
+    picked = json_choice(result.run_dir)
+    design = load_run(result.run_dir).front.iloc[picked]
+    si_value = float(design["wing_loading_N_m2"])
+    shown = float(re.search(r"wing loading ([0-9.]+) lbf/ft²", text).group(1))
+    # the value behind the text: SI / 47.88025898033584 (lbf/ft^2 in N/m^2) within 1e-9
+    value, unit = du.column_display("wing_loading_N_m2", si_value, "us")
+    assert unit == "lbf/ft²" and math.isclose(value, si_value / 47.88025898033584, rel_tol=1e-9)
+    assert shown == pytest.approx(si_value / 47.88025898033584, abs=0.005)   # printed .2f
+    mass = float(re.search(r"takeoff mass ([0-9]+) lb", text).group(1))
+    assert mass == pytest.approx(float(design["takeoff_mass_kg"]) / LB, abs=0.5)
+    assert "N/m2" not in text and " kg" not in text
+    # the pick's CSV files stay SI
+    assert "wing_loading_N_m2" in (result.run_dir / "pick-knee" / "design_input.csv").read_text()
+
+
+def json_choice(run_dir):
+    import json
+    return json.loads((run_dir / "pick-knee" / "choice.json").read_text())["front_row"]
+
+
+def test_run_summary_in_us_units(tiny_run):
+    from optimiser.runs import summary_text
+    study, result = tiny_run
+    si_text = summary_text(study, result, units="si")
+    us_text = summary_text(study, result, units="us")
+    best_fuel = float(result.front["trip_fuel_kg"].min())
+    assert f"best trip_fuel_kg: {best_fuel:.6g}" in si_text
+    # 1 lb = 0.45359237 kg (1959 agreement)
+    assert f"best trip fuel: {best_fuel / LB:.6g} lb" in us_text
+    assert us_text.splitlines()[-1] == si_text.splitlines()[-1]   # the caution, unchanged
