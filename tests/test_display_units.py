@@ -195,3 +195,20 @@ def test_run_summary_in_us_units(tiny_run):
     # 1 lb = 0.45359237 kg (1959 agreement)
     assert f"best trip fuel: {best_fuel / LB:.6g} lb" in us_text
     assert us_text.splitlines()[-1] == si_text.splitlines()[-1]   # the caution, unchanged
+
+
+def test_design_sheet_markdown_in_us_units_and_csv_in_si(tiny_run):
+    import re
+    from optimiser.report import sheet
+    from optimiser.runfolder import load_run
+    study, result = tiny_run
+    design = load_run(result.run_dir).front.iloc[0]
+    si_md = sheet.sheet_markdown(study, design, title="t", units="si")
+    us_md = sheet.sheet_markdown(study, design, title="t", units="us")
+    assert "lbf/ft²" not in si_md and "| wing loading |" in si_md
+    shown = float(re.search(r"\| wing loading \| ([0-9.,]+) \| lbf/ft² \|", us_md).group(1))
+    # 1 lbf/ft^2 = 47.88025898033584 N/m^2; the sheet shows one decimal from 10 up (_fmt)
+    assert shown == pytest.approx(float(design["wing_loading_N_m2"]) / LBF_FT2, abs=0.05)
+    span = float(re.search(r"\| `span_m` \| ([0-9.,]+) \| ft \|", us_md).group(1))
+    assert span == pytest.approx(float(design["span_m"]) / FT, abs=0.05)   # 1 ft = 0.3048 m
+    assert sheet.design_sheet(study, design)["unit"].tolist().count("lbf/ft²") == 0

@@ -102,19 +102,6 @@ def _us_design_line(study, d, system) -> str:
             f"{d['aspect_ratio']:.2f}, takeoff mass {mass:.0f} {mass_unit}")
 
 
-def _us_trade(study, design, runner, system) -> str:
-    """A runner-up's ``trade`` sentence (:func:`optimiser.decide.runners_up`, SI) with the
-    changes shown in ``system``'s units (no objective has an offset unit)."""
-    words = []
-    for c in study.objective_columns():
-        change = float(runner[f"change_{c}"])
-        if abs(change) > 1e-9 * max(abs(float(design[c])), 1.0):
-            shown, unit = column_display(c, change, system)
-            words.append(f"{short_and_unit(c)[0]} {shown:+.4g}{(' ' + unit) if unit else ''}")
-    return ("; ".join(words) + " against the choice") if words else \
-        "same objectives as the choice"
-
-
 def pick_summary(study, choice: Choice, runners, out: Path | None = None,
                  units: str | None = None) -> str:
     """The terminal summary of a pick: the design, its objectives, binding constraints,
@@ -138,7 +125,7 @@ def pick_summary(study, choice: Choice, runners, out: Path | None = None,
     if len(runners):
         lines.append("  runners-up:")
         for _, r in runners.iterrows():
-            trade = r["trade"] if system == SI else _us_trade(study, d, r, system)
+            trade = r["trade"] if system == SI else sheet.us_trade(study, d, r, system)
             lines.append(f"    {r['rank']}. {r['flap']}: {trade}")
     if out is not None:
         from ..errors import shell_command
