@@ -212,3 +212,34 @@ def test_design_sheet_markdown_in_us_units_and_csv_in_si(tiny_run):
     span = float(re.search(r"\| `span_m` \| ([0-9.,]+) \| ft \|", us_md).group(1))
     assert span == pytest.approx(float(design["span_m"]) / FT, abs=0.05)   # 1 ft = 0.3048 m
     assert sheet.design_sheet(study, design)["unit"].tolist().count("lbf/ft²") == 0
+
+
+def test_constraint_diagram_axes_in_us_units(tiny_run):
+    from optimiser.report.figures import pyplot
+    from optimiser.report.plots import constraint_grid, design_constraint_diagram
+    from optimiser.runfolder import load_run
+    study, result = tiny_run
+    design = load_run(result.run_dir).front.iloc[0]
+    ws, ld, _ = constraint_grid(study, design, 12)
+    plt = pyplot()
+    fig_us = design_constraint_diagram(study, design, n=12, units="us")
+    fig_si = design_constraint_diagram(study, design, n=12, units="si")
+    try:
+        ax_us, ax_si = fig_us.axes[0], fig_si.axes[0]
+        assert ax_us.get_xlabel() == "wing loading [lbf/ft²]"
+        assert ax_si.get_xlabel() == "wing loading [N/m²]"
+        # power loading N/kW -> lbf/hp: 1 lbf/hp = 4.4482216152605 N / 0.74569987158227022 kW
+        assert ax_us.get_ylabel() == "power loading [lbf/hp]"
+        lbf_hp = LBF / (550 * FT * LBF / 1000)
+        np.testing.assert_allclose(ax_us.get_xlim(), (ws[0] / LBF_FT2, ws[-1] / LBF_FT2),
+                                   rtol=1e-12)
+        np.testing.assert_allclose(ax_us.get_ylim(), (ld[0] / lbf_hp, ld[-1] / lbf_hp),
+                                   rtol=1e-12)
+        np.testing.assert_allclose(ax_si.get_xlim(), (ws[0], ws[-1]), rtol=1e-15)
+        # the star marks the design at its converted point
+        star = [l for l in ax_us.lines if l.get_marker() == "*"][0]
+        assert star.get_xdata()[0] == pytest.approx(design["wing_loading_N_m2"] / LBF_FT2,
+                                                    rel=1e-12)
+    finally:
+        plt.close(fig_us)
+        plt.close(fig_si)
