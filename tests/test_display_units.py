@@ -243,3 +243,30 @@ def test_constraint_diagram_axes_in_us_units(tiny_run):
     finally:
         plt.close(fig_us)
         plt.close(fig_si)
+
+
+def test_front_view_and_objective_scatter_in_us_units(tiny_run):
+    from optimiser.report.figures import pyplot
+    from optimiser.report.plots import _front_limits, front_view, objective_scatter
+    study, result = tiny_run
+    front = result.front
+    plt = pyplot()
+    fig = front_view(study, front, units="us")
+    scatter = objective_scatter(study, front, np.empty((0, 3)), units="us")
+    try:
+        ax = fig.axes[0]
+        assert ax.get_xlabel() == "installed engine power, all engines [hp]"
+        assert ax.get_ylabel() == "trip fuel [lb]"
+        # 1 hp = 0.74569987158227022 kW, 1 lb = 0.45359237 kg (NIST SP 811 Appendix B)
+        hp_kw = 550 * FT * LBF / 1000
+        np.testing.assert_allclose(ax.get_xlim(), _front_limits(front["engine_power_kW"] / hp_kw,
+                                                                above=0.05), rtol=1e-12)
+        np.testing.assert_allclose(ax.get_ylim(), _front_limits(front["trip_fuel_kg"] / LB,
+                                                                above=0.05), rtol=1e-12)
+        first = scatter.axes[0]
+        assert first.get_xlabel() == "trip fuel [lb]"
+        assert first.get_ylabel() == "installed engine power, all engines [hp]"
+        assert front["trip_fuel_kg"].min() / LB >= first.get_xlim()[0]
+    finally:
+        plt.close(fig)
+        plt.close(scatter)

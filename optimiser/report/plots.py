@@ -49,16 +49,29 @@ def _flap_scatter(ax, x, y, flap, **kw):
                       edgecolor=palette.DESIGN_MARKER, linewidth=0.3, **kw)
 
 
-def objective_scatter(study, front, feasible_F, run_utc=None):
+def _shown(column, values, system):
+    """``values`` of ``column`` as plotted in ``system`` (SI: the very same object)."""
+    return column_display(column, values, system)[0]
+
+
+def objective_scatter(study, front, feasible_F, run_utc=None, units=None):
     """Pairwise objective scatter: every feasible evaluated design in grey, the front
-    coloured by flap type; axes fitted to the front."""
+    coloured by flap type; axes fitted to the front. ``units``: ``"si"`` or ``"us"`` for the
+    plotted data and labels (default :func:`~optimiser.display_units.current_system`)."""
     plt = pyplot()
+    system = resolve(units)
     cols = list(study.objective_columns())
     pairs = list(itertools.combinations(range(len(cols)), 2))
     fig, axes = plt.subplots(1, len(pairs), figsize=(4.6 * len(pairs) + 2.2, 4.6),
                              squeeze=False)
     axes = axes[0]
     F = np.asarray(feasible_F, float).reshape(-1, len(cols))
+    if system != SI:
+        F = np.column_stack([_shown(c, F[:, k], system) for k, c in enumerate(cols)]) \
+            if len(F) else F
+        front = front.copy()
+        for c in cols:
+            front[c] = _shown(c, front[c].to_numpy(float), system)
     for a, (i, j) in zip(axes, pairs):
         if len(F):
             a.scatter(F[:, i], F[:, j], s=4, c=palette.FEASIBLE_DESIGNS,
@@ -68,8 +81,8 @@ def objective_scatter(study, front, feasible_F, run_utc=None):
             if len(sel):
                 _flap_scatter(a, sel[cols[i]], sel[cols[j]], flap, s=20,
                               label=f"front: {palette.flap_label(flap)}")
-        a.set_xlabel(plot_label(cols[i]))
-        a.set_ylabel(plot_label(cols[j]))
+        a.set_xlabel(display_label(cols[i], system))
+        a.set_ylabel(display_label(cols[j], system))
         a.grid(alpha=0.3)
         if len(front):
             a.set_xlim(*_front_limits(front[cols[i]], F[:, i] if len(F) else None))
@@ -99,14 +112,20 @@ def _staircase(x, y):
     return P[np.argsort(P[:, 0], kind="stable")], keep
 
 
-def front_view(study, front, run_utc=None):
+def front_view(study, front, run_utc=None, units=None):
     """The front as a reader can read it: the first objective (trip fuel) against the second
     (engine size), each flap option's designs with its staircase (the designs of that option
     that no other of the same option beats in both), filled where a design is on its
     option's staircase, hollow where the front keeps it for an objective not plotted; the
-    legend gives each option's range of the other objectives."""
+    legend gives each option's range of the other objectives. ``units``: ``"si"`` or
+    ``"us"`` for the plotted data and labels (default: the current system)."""
     plt = pyplot()
+    system = resolve(units)
     cols = list(study.objective_columns())
+    if system != SI:
+        front = front.copy()
+        for c in cols:
+            front[c] = _shown(c, front[c].to_numpy(float), system)
     ycol, xcol = cols[0], cols[1]
     rest = cols[2:]
     fig, ax = plt.subplots(figsize=(9.6, 5.4))
@@ -125,8 +144,8 @@ def front_view(study, front, run_utc=None):
             ax.scatter(sel[xcol][~on], sel[ycol][~on], facecolor="none",
                        edgecolor=st["color"], marker=st["marker"], s=26, linewidth=1.0,
                        zorder=3)
-    ax.set_xlabel(plot_label(xcol))
-    ax.set_ylabel(plot_label(ycol))
+    ax.set_xlabel(display_label(xcol, system))
+    ax.set_ylabel(display_label(ycol, system))
     ax.grid(alpha=0.3)
     if len(front):
         ax.set_xlim(*_front_limits(front[xcol], above=0.05))
