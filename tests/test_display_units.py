@@ -293,3 +293,23 @@ def test_html_report_stays_si_under_us_units(tiny_run, capsys, monkeypatch):
     assert seen == ["si"]
     page = (result.run_dir / "report.html").read_text(encoding="utf-8")
     assert "lbf/ft" not in page and "wing_loading_N_m2" in page
+
+
+def test_run_and_pick_csv_files_identical_with_and_without_us_units(tmp_path, monkeypatch,
+                                                                    capsys):
+    # machines read the CSV files unchanged: same seed, same bytes in either unit system
+    from optimiser.cli import main
+    monkeypatch.delenv("OPTIMISER_UNITS", raising=False)
+    for system in ("si", "us"):
+        out = tmp_path / system
+        assert main(["--units", system, "run", str(bundled_study_path()), "--pop", "12",
+                     "--gens", "2", "--seed", "7", "--out", str(out)]) == 0
+        assert main(["--units", system, "pick", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "lbf/ft²" in text and "N/m2" in text   # both summaries were printed
+    files = ["front.csv", "evaluations.csv", "pick-knee/design.csv",
+             "pick-knee/runners_up.csv", "pick-knee/design_input.csv"]
+    for name in files:
+        assert (tmp_path / "si" / name).read_bytes() == (tmp_path / "us" / name).read_bytes()
+    assert "lbf/ft²" in (tmp_path / "us" / "pick-knee" / "design.md").read_text()
+    assert "lbf/ft²" not in (tmp_path / "si" / "pick-knee" / "design.md").read_text()
