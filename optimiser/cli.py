@@ -80,15 +80,25 @@ SUMMARY_ROWS = 40
 """Designs listed in the printed summary of ``optimiser evaluate``."""
 
 
-def _summary(study, seen: _SummaryCounts) -> str:
-    """The terminal table of ``evaluate``: columns named as in the output file."""
+def _summary(study, seen: _SummaryCounts, units: str | None = None) -> str:
+    """The terminal table of ``evaluate``: columns named as in the output file (SI), or by
+    their plain names with the US customary unit (``units="us"``; the file stays SI)."""
+    from .display_units import SI, column_display, heading, resolve
+    system = resolve(units)
     size_col = study.engine_size_column
     cols = [("wing_loading_N_m2", ".0f"), (study.loading_column, ".4g"), ("aspect_ratio", ".2f"),
             ("takeoff_mass_kg", ".0f"), ("trip_fuel_kg", ".1f"), (size_col, ".1f"),
             ("maintenance_index", ".2f")]
+    head = seen.head
+    if system != SI:   # shown columns: the plain name and unit, the numbers converted
+        head = head.copy()
+        for c, _ in cols:
+            head[heading(c, system)] = column_display(c, head[c].to_numpy(float), system)[0]
+        cols = [(heading(c, system), ".2f" if c == "wing_loading_N_m2" else fmt)
+                for c, fmt in cols]
     lines = [f"study {study.name}: {seen.n_designs} design(s), {seen.n_feasible} feasible",
              f"{'flap':<22}" + "".join(f"{c:>{len(c) + 2}}" for c, _ in cols) + "  verdict"]
-    for _, r in seen.head.iterrows():
+    for _, r in head.iterrows():
         verdict = "feasible (closest: " + r["limiting_constraint"] + ")" if r["feasible"] else \
             "fails " + r["most_violated"] + f" ({r['margin_' + r['most_violated']]:+.1%})"
         if not r["within_bounds"]:
@@ -152,17 +162,17 @@ def cmd_evaluate(args):
             sys.stdout.writelines(evaluated_csv_pieces(frame, header=seen.n_designs == 0))
             seen.add(frame)
         sys.stdout.flush()
-        print(_summary(study, seen), file=sys.stderr)
+        print(_summary(study, seen, getattr(args, "units", None)), file=sys.stderr)
         print(CAUTION, file=sys.stderr)
         return 0
     if out is None:
         seen = _SummaryCounts()
         for frame in evaluate_chunks(study, tables()):
             seen.add(frame)
-        print(_summary(study, seen))
+        print(_summary(study, seen, getattr(args, "units", None)))
     else:
         seen = _write_csv_stream(evaluate_chunks(study, tables()), out)
-        print(_summary(study, seen))
+        print(_summary(study, seen, getattr(args, "units", None)))
         print(f"wrote {out}")
     print(CAUTION)
     return 0
@@ -279,7 +289,7 @@ def cmd_run(args):
                       checkpoint_every=args.checkpoint_every, progress=True, plots=write_plots,
                       stall_tolerance=args.stall_tol, workers=args.workers,
                       scheduler=args.scheduler, reliability=args.reliability)
-    print(_cluster_line(result) + summary_text(study, result))
+    print(_cluster_line(result) + summary_text(study, result, units=getattr(args, "units", None)))
     return 0
 
 
@@ -291,7 +301,7 @@ def cmd_resume(args):
                     scheduler=args.scheduler)
     state = load_checkpoint(args.run_dir)  # the study as run, whatever study.toml holds now
     study = parse_study(state.study_text, state.study_path)
-    print(_cluster_line(result) + summary_text(study, result))
+    print(_cluster_line(result) + summary_text(study, result, units=getattr(args, "units", None)))
     return 0
 
 
@@ -349,6 +359,9 @@ def build_parser() -> argparse.ArgumentParser:
         "aspect ratio and flap type, and search for the best trade-offs."))
     p.add_argument("--version", action="version", version=f"optimiser {__version__}")
     p.add_argument("--debug", action="store_true", help="show a traceback on errors")
+    p.add_argument("--units", metavar="{si,us}", help="units of what you read (summaries, "
+                   "sheets, figures): si (default) or us customary; CSV files stay SI; "
+                   "default: the OPTIMISER_UNITS environment variable, else si")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
     e = sub.add_parser("evaluate", help="size given designs and write every number and margin")
     e.add_argument("study", nargs="?", help="study file (default: the bundled default study)")
@@ -420,7 +433,10 @@ def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
-        return args.func(args)
+        from .display_units import system_from, using
+        args.units = system_from(args.units)   # --units beats OPTIMISER_UNITS; default si
+        with using(args.units):   # for the sheets and figures deep in the report layer
+            return args.func(args)
     except OptimiserError as exc:
         if args.debug:
             raise

@@ -91,7 +91,8 @@ def run_pick(args) -> int:
     method = _method(args, "knee")
     choice = _choice(run, args, method)
     out = write_pick(run, choice, force=args.force, n_runners=args.runners_up)
-    print(pick_summary(run.study, choice, runners_up(run.study, choice, args.runners_up), out))
+    print(pick_summary(run.study, choice, runners_up(run.study, choice, args.runners_up), out,
+                       units=getattr(args, "units", None)))
     return 0
 
 
@@ -139,8 +140,13 @@ def run_report(args) -> int:
         choice = _choice(run, args, _method(args, "knee")) if len(run.front) else None
     else:
         choice = latest_pick_settings(run)
-    path = write_report(run, choice=choice)
+    from .display_units import SI, using
+    with using(SI):   # the page's tables and explorer are SI: its figures are drawn in SI too
+        path = write_report(run, choice=choice)
     print(f"wrote {path} (self-contained; open it in a browser, no network needed)")
+    if getattr(args, "units", None) not in (None, SI):
+        print("note: the HTML report shows SI units (--units us applies to the summaries, "
+              "design.md and the run's and pick's figures)")
     print(CAUTION)
     return 0
 

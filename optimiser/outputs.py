@@ -7,6 +7,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .columns import short_and_unit
+from .display_units import SI, column_display, resolve
 from .evaluation import CAUTION
 from .runfolder import files, manifest, names
 from .runfolder.archive import read_history
@@ -21,11 +23,16 @@ TERMINATION_TEXT = {
 }
 
 
-def _best_lines(study, front):
+def _best_lines(study, front, system=SI):
     out = []
     for c in list(study.objective_columns()):
         i = int(front[c].to_numpy(float).argmin())
-        out.append(f"  best {c}: {front[c].iloc[i]:.6g} ({front['flap'].iloc[i]})")
+        if system == SI:
+            out.append(f"  best {c}: {front[c].iloc[i]:.6g} ({front['flap'].iloc[i]})")
+        else:  # the plain name and the displayed unit (the column's name carries SI)
+            value, unit = column_display(c, float(front[c].iloc[i]), system)
+            shown = f"{value:.6g} {unit}".rstrip()
+            out.append(f"  best {short_and_unit(c)[0]}: {shown} ({front['flap'].iloc[i]})")
     return out
 
 
@@ -191,10 +198,12 @@ def finish(study, state: RunState, run_dir: Path, plots=None) -> RunResult:
                      chance=None if state.chance is None else state.chance.record())
 
 
-def summary_text(study, result: RunResult) -> str:
+def summary_text(study, result: RunResult, units: str | None = None) -> str:
+    """The terminal summary of a run; ``units`` ``"si"`` or ``"us"`` for the best objective
+    values (default :func:`~optimiser.display_units.current_system`)."""
     lines = [f"study {study.name}: {result.message}"]
     if len(result.front):
-        lines += _best_lines(study, result.front)
+        lines += _best_lines(study, result.front, resolve(units))
     else:
         lines.append("  best margin reached per constraint (negative = not met"
                      + ("; beyond the required margins" if study.spec.requirements.margins

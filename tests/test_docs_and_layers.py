@@ -135,7 +135,7 @@ def test_schema_units_follow_the_column_names():
 
 
 LAYERS = (
-    ("leaves", ("physics", "spec", "columns", "errors", "bundled")),
+    ("leaves", ("physics", "spec", "columns", "errors", "bundled", "display_units")),
     ("loading and sizing", ("study", "quantities", "uncertainty", "study_table", "sizing",
                             "solvers")),
     ("evaluation and search", ("evaluation", "designs", "search", "problem", "preflight",

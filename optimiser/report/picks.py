@@ -11,6 +11,7 @@ from pathlib import Path
 
 from ..columns import short_and_unit
 from ..decide import RUNNERS_UP, Choice, runners_up
+from ..display_units import SI, column_display, resolve
 from ..errors import DecideError
 from ..evaluation import CAUTION
 from ..runfolder import names
@@ -109,23 +110,43 @@ def pick_payload_range(study, design):
     return payload_range(study.spec, frozen, flaps)
 
 
-def pick_summary(study, choice: Choice, runners, out: Path | None = None) -> str:
+def _us_design_line(study, d, system) -> str:
+    """The design line of a pick summary in US customary units (:mod:`..display_units`)."""
+    wing, wing_unit = column_display("wing_loading_N_m2", d["wing_loading_N_m2"], system)
+    loading, loading_unit = column_display(study.loading_column, d[study.loading_column],
+                                           system)
+    mass, mass_unit = column_display("takeoff_mass_kg", d["takeoff_mass_kg"], system)
+    return (f"  flap {d['flap']}, wing loading {wing:.2f} {wing_unit}, "
+            f"{short_and_unit(study.loading_column)[0]} "
+            f"{f'{loading:.4g} {loading_unit}'.rstrip()}, aspect ratio "
+            f"{d['aspect_ratio']:.2f}, takeoff mass {mass:.0f} {mass_unit}")
+
+
+def pick_summary(study, choice: Choice, runners, out: Path | None = None,
+                 units: str | None = None) -> str:
     """The terminal summary of a pick: the design, its objectives, binding constraints,
-    runners-up and the caution."""
+    runners-up and the caution. ``units``: ``"si"`` or ``"us"`` for the numbers shown
+    (default :func:`~optimiser.display_units.current_system`)."""
+    system = resolve(units)
     d = choice.design
     lines = [f"study {study.name}: picked by {choice.describe()}",
              f"  flap {d['flap']}, wing loading {d['wing_loading_N_m2']:.0f} N/m2, "
              f"{study.loading_column} {d[study.loading_column]:.4g}, aspect ratio "
-             f"{d['aspect_ratio']:.2f}, takeoff mass {d['takeoff_mass_kg']:.0f} kg"]
+             f"{d['aspect_ratio']:.2f}, takeoff mass {d['takeoff_mass_kg']:.0f} kg"
+             if system == SI else _us_design_line(study, d, system)]
     for c in study.objective_columns():
         name, unit = short_and_unit(c)
-        lines.append(f"  {name}: {d[c]:.4g} {unit}".rstrip())
+        value = d[c]
+        if system != SI:
+            value, unit = column_display(c, value, system)
+        lines.append(f"  {name}: {value:.4g} {unit}".rstrip())
     bind = sheet.binding_constraints(study, d)
     lines.append("  binding constraints: " + (", ".join(bind) if bind else "none within 1 %"))
     if len(runners):
         lines.append("  runners-up:")
         for _, r in runners.iterrows():
-            lines.append(f"    {r['rank']}. {r['flap']}: {r['trade']}")
+            trade = r["trade"] if system == SI else sheet.us_trade(study, d, r, system)
+            lines.append(f"    {r['rank']}. {r['flap']}: {trade}")
     if out is not None:
         from ..errors import shell_command
         lines.append(f"wrote {out}/ (design.csv, design.md, {names.PICK_DESIGN_INPUT}, "

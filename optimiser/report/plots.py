@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from ..columns import CONSTRAINT_LABELS, plot_label
+from ..display_units import SI, column_display, display_label, resolve
 from ..runfolder import names
 from ..runfolder.archive import read_archive
 from ..runfolder.files import make_folder
@@ -48,16 +49,29 @@ def _flap_scatter(ax, x, y, flap, **kw):
                       edgecolor=palette.DESIGN_MARKER, linewidth=0.3, **kw)
 
 
-def objective_scatter(study, front, feasible_F, run_utc=None):
+def _shown(column, values, system):
+    """``values`` of ``column`` as plotted in ``system`` (SI: the very same object)."""
+    return column_display(column, values, system)[0]
+
+
+def objective_scatter(study, front, feasible_F, run_utc=None, units=None):
     """Pairwise objective scatter: every feasible evaluated design in grey, the front
-    coloured by flap type; axes fitted to the front."""
+    coloured by flap type; axes fitted to the front. ``units``: ``"si"`` or ``"us"`` for the
+    plotted data and labels (default :func:`~optimiser.display_units.current_system`)."""
     plt = pyplot()
+    system = resolve(units)
     cols = list(study.objective_columns())
     pairs = list(itertools.combinations(range(len(cols)), 2))
     fig, axes = plt.subplots(1, len(pairs), figsize=(4.6 * len(pairs) + 2.2, 4.6),
                              squeeze=False)
     axes = axes[0]
     F = np.asarray(feasible_F, float).reshape(-1, len(cols))
+    if system != SI:
+        F = np.column_stack([_shown(c, F[:, k], system) for k, c in enumerate(cols)]) \
+            if len(F) else F
+        front = front.copy()
+        for c in cols:
+            front[c] = _shown(c, front[c].to_numpy(float), system)
     for a, (i, j) in zip(axes, pairs):
         if len(F):
             a.scatter(F[:, i], F[:, j], s=4, c=palette.FEASIBLE_DESIGNS,
@@ -67,8 +81,8 @@ def objective_scatter(study, front, feasible_F, run_utc=None):
             if len(sel):
                 _flap_scatter(a, sel[cols[i]], sel[cols[j]], flap, s=20,
                               label=f"front: {palette.flap_label(flap)}")
-        a.set_xlabel(plot_label(cols[i]))
-        a.set_ylabel(plot_label(cols[j]))
+        a.set_xlabel(display_label(cols[i], system))
+        a.set_ylabel(display_label(cols[j], system))
         a.grid(alpha=0.3)
         if len(front):
             a.set_xlim(*_front_limits(front[cols[i]], F[:, i] if len(F) else None))
@@ -98,14 +112,20 @@ def _staircase(x, y):
     return P[np.argsort(P[:, 0], kind="stable")], keep
 
 
-def front_view(study, front, run_utc=None):
+def front_view(study, front, run_utc=None, units=None):
     """The front as a reader can read it: the first objective (trip fuel) against the second
     (engine size), each flap option's designs with its staircase (the designs of that option
     that no other of the same option beats in both), filled where a design is on its
     option's staircase, hollow where the front keeps it for an objective not plotted; the
-    legend gives each option's range of the other objectives."""
+    legend gives each option's range of the other objectives. ``units``: ``"si"`` or
+    ``"us"`` for the plotted data and labels (default: the current system)."""
     plt = pyplot()
+    system = resolve(units)
     cols = list(study.objective_columns())
+    if system != SI:
+        front = front.copy()
+        for c in cols:
+            front[c] = _shown(c, front[c].to_numpy(float), system)
     ycol, xcol = cols[0], cols[1]
     rest = cols[2:]
     fig, ax = plt.subplots(figsize=(9.6, 5.4))
@@ -124,8 +144,8 @@ def front_view(study, front, run_utc=None):
             ax.scatter(sel[xcol][~on], sel[ycol][~on], facecolor="none",
                        edgecolor=st["color"], marker=st["marker"], s=26, linewidth=1.0,
                        zorder=3)
-    ax.set_xlabel(plot_label(xcol))
-    ax.set_ylabel(plot_label(ycol))
+    ax.set_xlabel(display_label(xcol, system))
+    ax.set_ylabel(display_label(ycol, system))
     ax.grid(alpha=0.3)
     if len(front):
         ax.set_xlim(*_front_limits(front[xcol], above=0.05))
@@ -287,14 +307,17 @@ TICKS = dict(angle=135, spacing=9, length=0.55)
 
 
 def design_constraint_diagram(study, design, label="chosen design", n=60, ax=None,
-                              front=None, run_utc=None, note=None):
+                              front=None, run_utc=None, note=None, units=None):
     """Constraint diagram for one sized design, as engineers draw it: at its aspect ratio
     and flap type, over wing loading and power loading (or thrust-to-weight), the line where
     each constraint's margin is zero, traced by :func:`optimiser.report.diagram.trace`
     (every point an airplane sized there), ticked on its infeasible side; the region meeting
     all of them shaded; binding constraints (margin below 1 % at the design) drawn thicker;
     the design marked where it was sized, with its takeoff mass, and, with ``front``, the
-    other front designs of the same flap type at their own sized points."""
+    other front designs of the same flap type at their own sized points.
+
+    ``units``: ``"si"`` or ``"us"`` (default :func:`~optimiser.display_units.current_system`):
+    the grid is sized in SI and the plotted data and axis labels are converted together."""
     from matplotlib import patheffects
     from ..sizing import active_constraints
     from .diagram import smallest_excess, trace
@@ -306,12 +329,20 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     fig = ax.figure
     ws, ld, frame = constraint_grid(study, design, n)
     W, L = np.meshgrid(ws, ld)
+    system = resolve(units)
+
+    def x_shown(v):   # SI: the very same values
+        return column_display("wing_loading_N_m2", v, system)[0]
+
+    def y_shown(v):
+        return column_display(study.loading_column, v, system)[0]
+
     constraints = active_constraints(study.spec)
     required = dict(study.spec.requirements.margins)
     handles = []
     mins = smallest_excess(frame, constraints, required)
     if mins.max() >= 0:
-        ax.contourf(W, L, mins.reshape(W.shape), levels=[0.0, np.inf],
+        ax.contourf(x_shown(W), y_shown(L), mins.reshape(W.shape), levels=[0.0, np.inf],
                     colors=[palette.FEASIBLE_REGION], alpha=palette.FEASIBLE_REGION_ALPHA)
     for line in trace(study, design, ws, ld, frame, constraints, required):
         c = line.name
@@ -319,7 +350,8 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
         binding = float(design[f"margin_{c}"]) - required.get(c, 0.0) < BINDING_MARGIN
         lw = 2.8 if binding else 1.4
         for pts in line.polylines:
-            ax.plot(pts[:, 0], pts[:, 1], color=colour, ls=palette.DASHES[dash], lw=lw,
+            ax.plot(x_shown(pts[:, 0]), y_shown(pts[:, 1]), color=colour,
+                    ls=palette.DASHES[dash], lw=lw,
                     path_effects=[patheffects.withTickedStroke(**TICKS), patheffects.Normal()])
         handles.append(plt.Line2D([], [], color=colour, ls=palette.DASHES[dash], lw=lw,
                                   label=CONSTRAINT_LABELS.get(c, c)
@@ -333,22 +365,26 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
         same = front[front["flap"] == design["flap"]]
         if len(same):
             st = palette.flap_style(str(design["flap"]))
-            ax.scatter(same["wing_loading_N_m2"], same[study.loading_column], s=18,
+            ax.scatter(x_shown(same["wing_loading_N_m2"]), y_shown(same[study.loading_column]),
+                       s=18,
                        facecolor="none", edgecolor=st["color"], marker=st["marker"], zorder=4)
             handles.append(plt.Line2D([], [], ls="", marker=st["marker"], mfc="none",
                                       mec=st["color"], label="front designs of this flap type "
                                       "(each at its own aspect ratio)"))
-    x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
+    x0 = x_shown(float(design["wing_loading_N_m2"]))
+    y0 = y_shown(float(design[study.loading_column]))
+    mass, mass_unit = column_display("takeoff_mass_kg", float(design["takeoff_mass_kg"]), system)
+    wing_unit = "N/m²" if system == SI else column_display("wing_loading_N_m2", 0.0, system)[1]
     ax.plot(x0, y0, palette.DESIGN_MARKER + "*", ms=15, zorder=5)
     handles.append(plt.Line2D([], [], color=palette.DESIGN_MARKER, marker="*", ls="", ms=11,
-                              label=f"{label}: takeoff mass "
-                                    f"{float(design['takeoff_mass_kg']):.0f} kg"))
-    ax.annotate(f"{label}\n{x0:.0f} N/m², {y0:.3g}", (x0, y0), xytext=(10, 10),
+                              label=f"{label}: takeoff mass {mass:.0f} {mass_unit}"))
+    ax.annotate(f"{label}\n{x0:.0f} {wing_unit}, {y0:.3g}" if system == SI else
+                f"{label}\n{x0:.1f} {wing_unit}, {y0:.3g}", (x0, y0), xytext=(10, 10),
                 textcoords="offset points", fontsize=8)
-    ax.set_xlim(ws[0], ws[-1])
-    ax.set_ylim(ld[0], ld[-1])
-    ax.set_xlabel(plot_label("wing_loading_N_m2"))
-    ax.set_ylabel(plot_label(study.loading_column))
+    ax.set_xlim(x_shown(ws[0]), x_shown(ws[-1]))
+    ax.set_ylim(y_shown(ld[0]), y_shown(ld[-1]))
+    ax.set_xlabel(display_label("wing_loading_N_m2", system))
+    ax.set_ylabel(display_label(study.loading_column, system))
     ax.legend(handles=handles, fontsize=7,
               title="required-margin lines" if required else "zero-margin lines", title_fontsize=7,
               **LEGEND_OUTSIDE)

@@ -14,6 +14,8 @@ import numpy as np
 
 from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, heading, short_and_unit,
                        unit_of)
+from ..display_units import SI, column_display, resolve
+from ..display_units import heading as display_heading
 
 BINDING_MARGIN = 0.01
 """A constraint whose margin is below 1 % of its limit counts as binding (a convention of
@@ -26,6 +28,19 @@ def binding_constraints(study, design) -> list[str]:
     required = dict(study.spec.requirements.margins)
     return [c for c in active_constraints(study.spec)
             if float(design[f"margin_{c}"]) - required.get(c, 0.0) < BINDING_MARGIN]
+
+
+def us_trade(study, design, runner, system) -> str:
+    """A runner-up's ``trade`` sentence (:func:`optimiser.decide.runners_up`, SI) with the
+    changes shown in ``system``'s units (no objective has an offset unit)."""
+    words = []
+    for c in study.objective_columns():
+        change = float(runner[f"change_{c}"])
+        if abs(change) > 1e-9 * max(abs(float(design[c])), 1.0):
+            shown, unit = column_display(c, change, system)
+            words.append(f"{short_and_unit(c)[0]} {shown:+.4g}{(' ' + unit) if unit else ''}")
+    return ("; ".join(words) + " against the choice") if words else \
+        "same objectives as the choice"
 
 
 def design_sheet(study, design):
@@ -93,16 +108,40 @@ def _md_table(header, rows):
     return "\n".join(out)
 
 
-def sheet_markdown(study, design, title, how="", runners=None) -> str:
+def _shown_in(table, system):
+    """The sheet's values and units as the reader sees them in ``system`` (the sheet's CSV
+    stays SI; only the Markdown is converted)."""
+    table = table.copy()
+    values, units = [], []
+    for q, v, u in zip(table["quantity"], table["value"], table["unit"]):
+        if isinstance(v, (str, bool, np.bool_)) or q not in COLUMN_DOCS:
+            values.append(v)
+            units.append(u)
+        else:
+            shown, unit = column_display(q, float(v), system)
+            values.append(shown)
+            units.append(unit)
+    table["value"], table["unit"] = values, units
+    return table
+
+
+def sheet_markdown(study, design, title, how="", runners=None, units=None) -> str:
     """The design sheet as Markdown: summary, objectives, margins (binding first), every sized
-    number, the runners-up with their trades, and the caution."""
+    number, the runners-up with their trades, and the caution. ``units``: ``"si"`` or
+    ``"us"`` for the numbers shown (default :func:`~optimiser.display_units.current_system`;
+    the column names stay the SI names of the CSV files)."""
     from ..evaluation import CAUTION
+    system = resolve(units)
     table = design_sheet(study, design)
     lines = [f"# {title}", ""]
     if how:
         lines += [f"Picked by {how}.", ""]
     lines += [f"Study **{study.name}** — {study.description}.", "",
               f"> **Caution.** {CAUTION}", ""]
+    if system != SI:
+        table = _shown_in(table, system)
+        lines += ["Numbers in US customary units; the column names and the CSV files stay SI.",
+                  ""]
     var = table[table["section"] == "design variable"]
     lines += ["## Design", "", _md_table(["quantity", "value", "unit"],
                                          [(short_and_unit(q)[0], _fmt(v), u) for q, v, u in
@@ -144,11 +183,14 @@ def sheet_markdown(study, design, title, how="", runners=None) -> str:
                              sized["meaning"])]), ""]
     if runners is not None and len(runners):
         cols = list(study.objective_columns())
-        head = ["rank", "flap"] + [heading(c) for c in cols] \
+        head = ["rank", "flap"] + [display_heading(c, system) for c in cols] \
             + ["what it trades against the choice"]
         lines += ["## Runners-up", "",
-                  _md_table(head, [[r["rank"], r["flap"], *[_fmt(r[c]) for c in cols],
-                                    r["trade"]] for _, r in runners.iterrows()]), ""]
+                  _md_table(head, [[r["rank"], r["flap"],
+                                    *[_fmt(column_display(c, r[c], system)[0]) for c in cols],
+                                    r["trade"] if system == SI else
+                                    us_trade(study, design, r, system)]
+                                   for _, r in runners.iterrows()]), ""]
     lines += ["---", "", f"*{CAUTION}*", ""]
     return "\n".join(lines)
 
