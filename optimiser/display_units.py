@@ -85,6 +85,7 @@ US_CONVERSIONS = {
     "N": Conversion("lbf", POUND_FORCE_N),
     "kN": Conversion("lbf", POUND_FORCE_N / 1000.0),
     "kW": Conversion("hp", HORSEPOWER_W / 1000.0),
+    "km": Conversion("nmi", NAUTICAL_MILE_M / 1000.0),  # ranges (payload-range corners)
     "K abs": Conversion("degF", 5.0 / 9.0, -459.67),   # absolute temperature, with offset
 }
 """SI unit (as written in :mod:`optimiser.columns`) -> its US customary display."""

@@ -313,3 +313,9 @@ def test_run_and_pick_csv_files_identical_with_and_without_us_units(tmp_path, mo
         assert (tmp_path / "si" / name).read_bytes() == (tmp_path / "us" / name).read_bytes()
     assert "lbf/ft²" in (tmp_path / "us" / "pick-knee" / "design.md").read_text()
     assert "lbf/ft²" not in (tmp_path / "si" / "pick-knee" / "design.md").read_text()
+
+
+def test_a_range_in_km_is_shown_in_nautical_miles():
+    # 1 nmi = 1852 m exactly (NIST SP 811 (2008), Appendix B, from memory)
+    shown, unit = du.to_display(np.array([1852.0]), "km", "us", "range_km")
+    assert unit == "nmi" and shown[0] == pytest.approx(1000.0, rel=1e-15)
