@@ -164,6 +164,3 @@ def payload_range(spec, frozen: FrozenDesigns, flaps=None) -> pd.DataFrame:
                        + frame["corner"].map(CORNERS.index).to_numpy(), kind="stable")
     return frame.iloc[order].reset_index(drop=True)
 
-
-__all__ = ["CORNERS", "CORNER_NAMES", "payload_range", "range_for_fuel", "tank_capacity_kg",
-           "zero_range_fuel_kg"]

@@ -1,6 +1,6 @@
 """Chance-constrained search (``[search] reliability``, ``optimiser run --reliability``).
 
-Sources of the expectations: the binomial proportion and its Wilson score interval
+Source: the binomial proportion and its Wilson score interval
 (E. B. Wilson, "Probable inference, the law of succession, and statistical inference",
 J. Amer. Statist. Assoc. 22, 1927, 209-212); the order-statistic form of "at least a share R
 of the samples meet it" is exact counting (ours, see optimiser.chance); "with every width

@@ -1,7 +1,7 @@
 """Runs and batches spread over Dask workers give the same numbers, bit for bit, as in one
 process.
 
-Source of the expectation: this project's own requirement (issue: a run on a cluster is
+Source: this project's own requirement (issue: a run on a cluster is
 bit-identical to the same run in one process). It holds because the vectorised model treats
 each row on its own and the pieces are joined in order; the tests below check the premise
 (a batch cut into pieces sizes to the same bits) on every demo study, then the whole run.
