@@ -33,6 +33,7 @@ def cmd_sensitivity(args) -> int:
     from .report.picks import refuse_existing
     from .report.tornado import plot_tornado
     from .runfolder import files, load_run, names
+    from .display_units import column_display
     from .sensitivity import RELATIVE_STEP, ranked, sensitivities
     run = load_run(args.run_dir)
     study, front = run.study, run.front
@@ -63,9 +64,12 @@ def cmd_sensitivity(args) -> int:
     lines = [f"sensitivities of the {which} design, steps ±{step:g} (relative; elevation "
              "50 m, temperature 1 K):"]
     for column in objectives[:2]:
-        lines.append(f"  {column}, largest effects (change at -step / +step):")
+        _, unit = column_display(column, 1.0)
+        lines.append(f"  {column}, largest effects (change at -step / +step) [{unit or '-'}]:")
         for r in ranked(table, column).head(5).itertuples():
-            lines.append(f"    {r.input:30} {r.change_minus:+.4g} / {r.change_plus:+.4g}")
+            lo, _ = column_display(column, r.change_minus)
+            hi, _ = column_display(column, r.change_plus)
+            lines.append(f"    {r.input:30} {lo:+.4g} / {hi:+.4g}")
     lines += [f"written: {out}", CAUTION]
     print("\n".join(lines))
     return 0
@@ -92,7 +96,18 @@ def _prices(run, args) -> int:
              "best objectives re-sized, not re-optimised):"]
     for r in table.to_dict("records"):
         lines.append(f"  {r['requirement']:30} " + "  ".join(
-            f"{r['price_' + c]:+.4g} {c}/{r['unit']}" for c in objectives[:2]))
+            _price_text(r, c) for c in objectives[:2]))
     lines += [f"written: {out}", CAUTION]
     print("\n".join(lines))
     return 0
+
+
+def _price_text(row: dict, column: str) -> str:
+    """A price in the reader's units: objective change per unit of the requirement (the
+    table stays SI; differences, so no unit offset applies)."""
+    from .display_units import column_display, display_unit, to_display
+    per_objective, objective_unit = column_display(column, 1.0)
+    quantity = "range" if row["requirement"] == "design range" else None
+    per_requirement, requirement_unit = to_display(1.0, row["unit"], None, None, quantity)
+    price = row["price_" + column] * per_objective / per_requirement
+    return f"{price:+.4g} {objective_unit or '-'}/{display_unit(requirement_unit) or '-'}"

@@ -135,3 +135,20 @@ def test_requirement_prices_on_the_runs_designs(run_dir, capsys):
     assert main(["sensitivity", str(run_dir), "--front"]) == 0
     assert (run_dir / "sensitivity-front" / "requirement_prices.csv").is_file()
     assert main(["sensitivity", str(run_dir), "--front", "--row", "2"]) == 2
+
+
+def test_us_units_convert_the_printed_prices_exactly(run_dir, capsys):
+    """kg/m in lb/ft: times 0.3048 / 0.45359237 (1 ft = 0.3048 m, 1 lb = 0.45359237 kg,
+    exact by the 1959 international yard and pound agreement, from memory); the CSV stays
+    SI."""
+    import re as _re
+    assert main(["--units", "us", "sensitivity", str(run_dir), "--front", "--out",
+                 str(run_dir / "us-prices")]) == 0
+    text = capsys.readouterr().out
+    line = next(x for x in text.splitlines() if x.strip().startswith("takeoff field length"))
+    shown = float(_re.search(r"([+-][0-9.e+-]+) lb/ft", line).group(1))
+    table = pd.read_csv(run_dir / "us-prices" / "requirement_prices.csv")
+    si = float(table.loc[table["requirement"] == "takeoff field length",
+                         "price_trip_fuel_kg"].iloc[0])
+    assert si < 0  # the field length binds this front: a longer one saves fuel
+    assert shown == pytest.approx(si * 0.3048 / 0.45359237, rel=1e-3)
