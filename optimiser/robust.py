@@ -285,17 +285,24 @@ def summary_text(study, result: RobustResult) -> str:
         lines.append(f"  {r['constraint']:<22}{nom:>10}{r['probability_met']:>9.3f}"
                      f"{r['standard_error']:>9.3f}   {r['probability_low_95']:.3f}-"
                      f"{r['probability_high_95']:.3f}")
-    t = result.trip_fuel.iloc[0]
-    lines.append(f"  trip fuel [kg]: nominal {t['nominal_kg']:.1f}, mean {t['mean_kg']:.1f}, "
-                 f"std {t['std_kg']:.1f}, 5/50/95 % {t['p5_kg']:.1f} / {t['p50_kg']:.1f} / "
-                 f"{t['p95_kg']:.1f}")
+    tables = [("trip fuel", result.trip_fuel)]
     if result.fuel_on_board is not None:
-        t = result.fuel_on_board.iloc[0]
-        lines.append(f"  fuel on board [kg]: nominal {t['nominal_kg']:.1f}, mean "
-                     f"{t['mean_kg']:.1f}, std {t['std_kg']:.1f}, 5/50/95 % {t['p5_kg']:.1f} / "
-                     f"{t['p50_kg']:.1f} / {t['p95_kg']:.1f}")
+        tables.append(("fuel on board", result.fuel_on_board))
+    for name, table in tables:
+        lines.append(_spread_line(name, table.iloc[0]))
     lines.append(CAUTION)
     return "\n".join(lines)
+
+
+def _spread_line(name: str, t) -> str:
+    """One line of a fuel spread (nominal, mean, std, 5/50/95 %), in the reader's units
+    (:mod:`optimiser.display_units`; the files stay SI)."""
+    from .display_units import to_display
+    keys = ("nominal_kg", "mean_kg", "std_kg", "p5_kg", "p50_kg", "p95_kg")
+    values, unit = to_display(np.array([float(t[k]) for k in keys]), "kg")
+    nom, mean, std, p5, p50, p95 = (float(v) for v in values)
+    return (f"  {name} [{unit}]: nominal {nom:.1f}, mean {mean:.1f}, std {std:.1f}, "
+            f"5/50/95 % {p5:.1f} / {p50:.1f} / {p95:.1f}")
 
 
 def mode_text(mode: str) -> str:

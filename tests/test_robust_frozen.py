@@ -164,3 +164,21 @@ def test_robust_command_modes(tmp_path):
     line = bad.stderr.strip()
     assert "--mode" in line and "'sideways'" in line and "frozen or resize" in line
     assert "Traceback" not in bad.stderr and not (tmp_path / "bad").exists()
+
+
+def test_us_units_show_the_fuel_spread_in_pounds(tmp_path, capsys):
+    """1 lb = 0.45359237 kg exactly (1959 international yard and pound agreement, from
+    memory): the US summary's trip-fuel mean is the SI mean over that factor."""
+    import re as _re
+
+    from optimiser.cli import main as cli_main
+    from optimiser.study import bundled_study_path as _path
+    args = ["robust", str(_path()), "--design", "wing_loading_N_m2=800 power_loading_N_kW=73 "
+            "aspect_ratio=8.1 flap=none", "--samples", "300"]
+    assert cli_main([*args, "--out", str(tmp_path / "si")]) == 0
+    si = capsys.readouterr().out
+    assert cli_main(["--units", "us", *args, "--out", str(tmp_path / "us")]) == 0
+    us = capsys.readouterr().out
+    mean_kg = float(_re.search(r"trip fuel \[kg\]: nominal [0-9.]+, mean ([0-9.]+)", si).group(1))
+    mean_lb = float(_re.search(r"trip fuel \[lb\]: nominal [0-9.]+, mean ([0-9.]+)", us).group(1))
+    assert mean_lb == pytest.approx(mean_kg / 0.45359237, abs=0.15)  # both printed to 0.1
