@@ -63,17 +63,19 @@ SUMMARY_ROWS = 40
 def summary_text(study, case, frame) -> str:
     """The terminal table of ``analyse``: the case in words, one line per design."""
     n, n_ok = len(frame), int(frame["feasible"].sum())
+    from .display_units import table_cells  # SI: the file's column names and values
+    heads = [table_cells(c, 0.0)[0] for c, _ in SUMMARY_COLUMNS]
     lines = [f"study {study.name}: {n} frozen design(s) at {case.describe(study)}; "
              f"{n_ok} meet every requirement",
-             f"{'flap':<22}" + "".join(f"{c:>{len(c) + 2}}" for c, _ in SUMMARY_COLUMNS)
-             + "  verdict"]
+             f"{'flap':<22}" + "".join(f"{h:>{len(h) + 2}}" for h in heads) + "  verdict"]
     for _, r in frame.head(SUMMARY_ROWS).iterrows():
         verdict = ("meets all (closest: " + r["limiting_constraint"] + ")") if r["feasible"] \
             else ("fails " + r["most_violated"]
                   + f" ({r['margin_' + r['most_violated']]:+.1%})")
-        lines.append(f"{r['flap']:<22}" + "".join(f"{r[c]:>{len(c) + 2}{fmt}}"
-                                                   for c, fmt in SUMMARY_COLUMNS)
-                     + f"  {verdict}")
+        cells = [table_cells(c, float(r[c]))[1] for c, _ in SUMMARY_COLUMNS]
+        lines.append(f"{r['flap']:<22}" + "".join(
+            f"{v:>{len(h) + 2}{fmt}}" for h, v, (_, fmt) in zip(heads, cells, SUMMARY_COLUMNS))
+            + f"  {verdict}")
     if n > SUMMARY_ROWS:
         lines.append(f"... {n - SUMMARY_ROWS} more rows in the output file")
     lines.append("fuel_mass_kg is the fuel the case's mission needs (trip, reserve, trapped); "

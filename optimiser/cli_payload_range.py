@@ -55,15 +55,19 @@ def write_payload_range(study, frozen, flaps, folder: Path):
 
 def summary_text(study, table) -> str:
     """The terminal table: one line per design and corner (the first designs)."""
+    from .display_units import column_display, table_cells
+    payload, unit = column_display("payload_kg", study.spec.weights.payload_kg)
+    cols = ("range_km", "payload_kg", "fuel_on_board_kg", "takeoff_mass_kg")
+    heads = [table_cells(c, 0.0)[0] for c in cols]
     lines = [f"study {study.name}: payload-range corners of {table['design'].nunique()} "
              f"design(s); maximum payload = the study's design payload "
-             f"{study.spec.weights.payload_kg:g} kg; reserves and trapped fuel held back",
-             f"{'design':>6} {'flap':<22} {'corner':>6} {'range_km':>10} {'payload_kg':>11} "
-             f"{'fuel_on_board_kg':>17} {'takeoff_mass_kg':>16}"]
+             f"{payload:g} {unit}; reserves and trapped fuel held back",
+             f"{'design':>6} {'flap':<22} {'corner':>6} "
+             + " ".join(f"{h:>{max(len(h), 10)}}" for h in heads)]
     for _, r in table.head(40).iterrows():
+        cells = [table_cells(c, float(r[c]))[1] for c in cols]
         lines.append(f"{r['design']:>6} {str(r['flap']):<22} {r['corner']:>6} "
-                     f"{r['range_km']:>10.1f} {r['payload_kg']:>11.1f} "
-                     f"{r['fuel_on_board_kg']:>17.1f} {r['takeoff_mass_kg']:>16.1f}")
+                     + " ".join(f"{v:>{max(len(h), 10)}.1f}" for h, v in zip(heads, cells)))
     if len(table) > 40:
         lines.append(f"... {len(table) - 40} more rows in the output file")
     return "\n".join(lines)

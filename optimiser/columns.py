@@ -263,7 +263,7 @@ COLUMNS = (
         note=" (optimiser payload-range only)"),
     _c("range_km", "payload-range", "km",
         "range the fuel above reserves and trapped fuel flies", note=" (optimiser "
-        "payload-range only)"),
+        "payload-range only)", short="range"),
     _c("tank_capacity_kg", "payload-range", "kg",
         "usable fuel the tanks hold: fuel volume x fuel density",
         note=" (optimiser payload-range only)"),

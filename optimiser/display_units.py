@@ -228,3 +228,13 @@ def heading(column_name: str, system=None) -> str:
     name, _ = short_and_unit(column_name)
     _, unit = column_display(column_name, 0.0, system)
     return f"{name} [{unit or '-'}]"
+
+
+def table_cells(column_name: str, value, system=None):
+    """``(heading, value)`` of one column of a console table: in SI the file's own column
+    name and the value as it is (the console names columns the way the files do); in US
+    customary the plain name with the display unit, and the converted value."""
+    if resolve(system) == SI:
+        return column_name, value
+    shown, _ = column_display(column_name, value, system)
+    return heading(column_name, system), shown

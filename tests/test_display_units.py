@@ -319,3 +319,27 @@ def test_a_range_in_km_is_shown_in_nautical_miles():
     # 1 nmi = 1852 m exactly (NIST SP 811 (2008), Appendix B, from memory)
     shown, unit = du.to_display(np.array([1852.0]), "km", "us", "range_km")
     assert unit == "nmi" and shown[0] == pytest.approx(1000.0, rel=1e-15)
+
+
+def test_analyse_and_payload_range_tables_in_us_units(tmp_path, capsys):
+    """1 kn = 1852/3600 m/s and 1 nmi = 1852 m exactly (NIST SP 811 (2008), Appendix B,
+    from memory): the US console tables of analyse and payload-range against the SI ones."""
+    from optimiser.cli import main
+    designs = str(bundled_study_path().parent / "high_strip_utility_designs.csv")
+    assert main(["analyse", "--designs", designs]) == 0
+    si = capsys.readouterr().out.splitlines()
+    assert main(["--units", "us", "analyse", "--designs", designs]) == 0
+    us = capsys.readouterr().out.splitlines()
+    col_si = si[1].split().index("stall_speed_m_s")
+    assert "stall speed [kn]" in us[1]
+    # first design row: the stall speed is the 5th number after the flap name in both
+    v_si = float(si[2].split()[1 + col_si - 1])
+    v_us = float(us[2].split()[1 + col_si - 1])
+    assert v_us == pytest.approx(v_si / (1852 / 3600), abs=0.1)
+    assert main(["payload-range", designs, "--out", str(tmp_path / "a")]) == 0
+    si = capsys.readouterr().out.splitlines()
+    assert main(["--units", "us", "payload-range", designs, "--out", str(tmp_path / "b")]) == 0
+    us = capsys.readouterr().out.splitlines()
+    assert "range [nmi]" in us[1] and "payload [lb]" in us[1]
+    km, nmi = float(si[3].split()[3]), float(us[3].split()[3])   # design 1, corner B
+    assert nmi == pytest.approx(km / 1.852, abs=0.1)
