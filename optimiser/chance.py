@@ -115,11 +115,16 @@ def chance_setting(study, seed, reliability=None):
     return ChanceSetting(value, samples, int(seed))
 
 
-def draw_samples(study, setting: ChanceSetting) -> dict:
-    """The run's common samples: per-sample spec overrides (``N`` values per key)."""
+def draw_samples(study, setting: ChanceSetting) -> tuple[dict, dict]:
+    """The run's common samples and the nominal row: per-sample spec overrides (``N``
+    values per key) and the same keys at factor 1 (the study's own values, as
+    :func:`~optimiser.uncertainty.overrides_from_factors` maps them)."""
     rng = np.random.default_rng(np.random.SeedSequence([setting.seed, SAMPLE_STREAM]))
-    factors = sample_factors(study.uncertainty["assumptions"], setting.samples, rng)
-    return overrides_from_factors(study.spec, factors)[0]
+    assumptions = study.uncertainty["assumptions"]
+    factors = sample_factors(assumptions, setting.samples, rng)
+    ones = {k: np.ones(1) for k in factors}
+    nominal = {k: float(v[0]) for k, v in overrides_from_factors(study.spec, ones)[0].items()}
+    return overrides_from_factors(study.spec, factors)[0], nominal
 
 
 def constrained(spec) -> tuple[str, ...]:
@@ -135,11 +140,13 @@ def probability_columns(spec) -> list[str]:
             "meets_reliability"]
 
 
-def design_statistics(spec, frozen, masses, samples: dict, required: dict, order_index: int):
+def design_statistics(spec, frozen, masses, samples: dict, nominal: dict, required: dict,
+                      order_index: int):
     """Per-design sample statistics of frozen airplanes (a pure function: one Dask task).
 
-    For each design, the nominal row (no override) and one row per sample (``samples``: the
-    per-sample overrides, ``N`` values per key) are analysed in one call. Returns per
+    For each design, the nominal row (``nominal``: each override key at factor 1) and one
+    row per sample (``samples``: the per-sample overrides, ``N`` values per key) are
+    analysed in one call. Returns per
     design: ``s_nominal_<c>``, ``s_order_<c>`` (the order statistic ``s_(k)``) and
     ``met_<c>`` (the count of samples meeting ``c``), ``s = margin - required[c]``."""
     from .sizing.frozen import analyse_designs
@@ -147,7 +154,6 @@ def design_statistics(spec, frozen, masses, samples: dict, required: dict, order
     n = len(next(iter(samples.values())))
     rows = n + 1
     rep, rep_masses = _repeated(frozen, rows), _repeated(masses, rows)
-    nominal = _nominal_values(spec, samples)
     overrides = {k: np.tile(np.concatenate([[nominal[k]], np.asarray(v, float)]), n_designs)
                  for k, v in samples.items()}
     out = analyse_designs(spec, rep, rep_masses, overrides)
@@ -161,20 +167,6 @@ def design_statistics(spec, frozen, masses, samples: dict, required: dict, order
         stats[f"s_order_{c}"] = np.partition(sampled, order_index, axis=1)[:, order_index] \
             if order_index < n else np.full(n_designs, np.inf)
     return stats
-
-
-def _nominal_values(spec, samples: dict) -> dict:
-    """Each override key's value at the nominal factors (the study's own value), so the
-    nominal row is analysed exactly as without overrides."""
-    from .uncertainty import EFFICIENCY_CAP
-    pr, ad, wt = spec.propulsion, spec.aerodynamics, spec.weights
-    table = {"cd0_clean": ad.cd0_clean, "cd0_scale": 1.0, "oswald_factor_scale": 1.0,
-             "propeller_efficiency_cruise": min(pr.propeller_efficiency_cruise, EFFICIENCY_CAP),
-             "propeller_efficiency_climb": min(pr.propeller_efficiency_climb, EFFICIENCY_CAP),
-             "sfc_cruise": getattr(pr, "sfc_cruise", None),
-             "tsfc_cruise": getattr(pr, "tsfc_cruise", None),
-             "empty_mass_factor": wt.empty_mass_factor}
-    return {k: table[k] for k in samples}
 
 
 @dataclass(frozen=True)
@@ -193,7 +185,7 @@ class ChanceEvaluator:
     def __init__(self, study, setting: ChanceSetting, evaluate=None):
         self.study = study
         self.setting = setting
-        self.samples = draw_samples(study, setting)
+        self.samples, self.nominal = draw_samples(study, setting)
         self.evaluate = evaluate
         spec = study.spec
         from .sizing import required_margins
@@ -245,11 +237,12 @@ class ChanceEvaluator:
             if self.evaluate is not None:
                 parts.append(self.evaluate(design_statistics, self.study.spec, f, m,
                                            shared={"samples": self.samples,
+                                                   "nominal": self.nominal,
                                                    "required": self.required,
                                                    "order_index": k}))
             else:
                 parts.append(design_statistics(self.study.spec, f, m, self.samples,
-                                               self.required, k))
+                                               self.nominal, self.required, k))
         return {key: np.concatenate([p[key] for p in parts]) for key in parts[0]}
 
 
