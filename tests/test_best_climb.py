@@ -9,7 +9,7 @@ import pytest
 from optimiser import sizing
 from optimiser.physics import aerodynamics as aero
 from optimiser.physics import atmosphere as atm
-from optimiser.physics import performance
+from optimiser.physics import performance, propulsion
 from optimiser.sizing import flight
 from optimiser.sizing.engines import engines_at
 from optimiser.errors import StudyError
@@ -202,3 +202,63 @@ def test_propeller_diameter_is_set_by_the_tip_limits_at_the_study_rpm(name):
     # piston at 2700 rpm takeoff: 260 / (pi 45) = 1.839 m (hand value)
     if name == "high_strip_utility":
         assert out["propeller_diameter_m"][0] == pytest.approx(1.839, abs=5e-4)
+
+
+@pytest.mark.parametrize("h", [0.0, 2000.0, 5000.0])
+def test_propeller_best_climb_closed_form_is_the_maximum_of_a_fine_grid(h):
+    # the propeller rate V (T - D) / W is concave in V at constant K (derived in
+    # flight.best_climb: eta P / V above the blend speed, the quadratic blend below it, equal
+    # value and slope at V1), so its maximum is the closed form max(v*, v_floor), v* the
+    # minimum-power speed (Anderson, APD 1999, ch. 5) or the blend's stationary point. Check:
+    # no speed of a 20 001-point grid does better (to 1e-9 m/s), and the closed-form speed is
+    # the grid's best speed to within two grid steps; on the default study, below M 0.3 (no
+    # Mach term), every design is answered without search
+    study = load_study(ROOT / "problems" / "high_strip_utility.toml")
+    spec = _no_limit(study.spec)
+    rng = np.random.default_rng(11)
+    x = [rng.uniform(v.lower, v.upper, 120) for v in study.variables]
+    names = spec.high_lift_names
+    ap = _airplane(spec, *x, rng.choice([names.index(f) for f in study.flaps], 120))
+    n = ap.weight_N.size
+    searches = []
+    golden = flight._golden_climb_speed
+    try:
+        flight._golden_climb_speed = lambda *a: searches.append(a) or golden(*a)
+        roc, v = flight.best_climb(spec, ap, np.full(n, h), np.zeros(n))
+    finally:
+        flight._golden_climb_speed = golden
+    assert searches == []
+    rho, p, t = atm._density_unchecked(np.asarray(h), 0.0)
+    eng = engines_at(spec, ap.engines, rho, t, p, spec.propulsion.climb_power_fraction)
+    ws, w = ap.wing_loading_N_m2, ap.weight_N
+    v_floor = spec.speeds.climb_speed_factor * performance.stall_speed(
+        ws, rho, spec.aerodynamics.cl_max_clean)
+    grid = v_floor[:, None] * np.linspace(1.0, 4.0, 20001)
+    cd0 = np.broadcast_to(ap.drag.cd0, ws.shape)[:, None]
+    rate = grid * (eng.thrust(grid, ap.engines.propeller_efficiency_climb) / w[:, None]
+                   - performance.drag_to_weight(grid, ws[:, None], rho, cd0,
+                                                ap.polar.induced_drag_factor[:, None]))
+    assert np.all(rate.max(axis=1) <= roc + 1e-9)
+    step = 3.0 * v_floor / 20000
+    assert np.all(np.abs(grid[np.arange(n), rate.argmax(axis=1)] - v) <= 2.0 * step)
+    # both branches occur in this sample: the blend's point below V1, v0 above it, the floor
+    v1 = eng.thrust_at(ap.engines.propeller_efficiency_climb).v1
+    v0 = performance.minimum_power_speed(ws, rho, cd0[:, 0], ap.polar.induced_drag_factor)
+    assert np.any((v0 < v1) & (v > v_floor)) and np.any(v == v_floor)
+
+
+def test_blend_speed_is_the_stationary_point_of_the_blended_rate():
+    # d/dV [V T0 (1 - V^2 / (3 V1^2)) / W - a V^3 - b / V] = 0 at the quadratic's root
+    # (derived): the central difference of the rate there vanishes (to 1e-7, against a
+    # slope T0 / W = 0.33 at V = 0)
+    curve = propulsion.PropellerThrustCurve(np.array([150e3]), np.array([0.8]),
+                                             np.array([4000.0]))
+    w, ws, rho, cd0, k = np.array([12000.0]), np.array([700.0]), 1.0, 0.03, 0.05
+    v = flight._best_blend_speed(curve, w, ws, rho, cd0, k)
+    assert v[0] < curve.v1[0]  # the blend's branch
+
+    def rate(s):
+        return s * (curve(s) / w - performance.drag_to_weight(s, ws, rho, cd0, k))
+
+    slope = (rate(v + 1e-4) - rate(v - 1e-4)) / 2e-4
+    assert abs(slope[0]) < 1e-7

@@ -209,6 +209,14 @@ class PropellerThrustCurve:
         self.blend_scale = 3.0 * self.v1 * self.v1 + 1e-300
         self.shape = np.broadcast_shapes(self.ep.shape, self.t0.shape)
 
+    def take(self, index):
+        """The curve of the elements ``index`` (an index array) alone, values unchanged."""
+        part = object.__new__(PropellerThrustCurve)
+        for name in ("ep", "t0", "v1", "blend_scale"):
+            setattr(part, name, np.broadcast_to(getattr(self, name), self.shape)[index])
+        part.shape = part.ep.shape
+        return part
+
     def __call__(self, speed):
         """Thrust [N] at true airspeed ``speed`` [m s^-1] (>= 0)."""
         v = np.maximum(np.asarray(speed, dtype=float), 0.0)

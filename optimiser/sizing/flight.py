@@ -68,14 +68,23 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     The speed of the best rate maximises V (T(V) - D(V)) / W under the model's own thrust
     (propeller blend of static and eta P / V thrust, turbofan lapse with Mach) and drag, with
     the Oswald factor at the flight Mach of each speed (:func:`_induced_drag_factor_at_mach`).
-    Golden-section search (:func:`optimiser.physics.performance.maximise_on_bracket`, which
-    needs only unimodality: the turbofan lapse has a kink in Mach that parabolic steps miss)
-    on a bracket around Anderson's closed form v0 (minimum-power speed for propellers, the
-    constant-thrust best speed for jets): [max(v_floor, 0.7 v0), 2 v0], v_floor the climb
-    speed factor times the clean stall speed, the top not above the Oswald method's upper
-    Mach. 16 iterations leave 0.0005 of the bracket (0.15 m/s at v0 = 200 m/s); against a
-    grid of 1500 speeds the rate agrees to 0.02 m/s, and to 0.05 m/s with the ceiling
-    search's 10 iterations (tested).
+
+    Propellers, in closed form where it is exact: above the blend speed V1 the thrust is
+    eta P / V, so the rate is eta P / W - V D(V) / W, concave, largest at the minimum-power
+    speed v0 (Anderson's closed form); below V1 the blended thrust gives a rate that is
+    concave too, with its stationary point from a quadratic (:func:`_best_blend_speed`), and
+    the two pieces meet with equal value and slope. So the rate is concave in V: its one
+    maximum v* is v0 where v0 >= V1 and the blend's point otherwise, and max(v*, v_floor)
+    is the best speed above the floor. This holds at constant K; K with a Mach term only
+    grows with Mach, so v* stays the best where its Mach has no term (M <= 0.3 for Nita &
+    Scholz). Elsewhere, and for turbofans, golden-section search
+    (:func:`optimiser.physics.performance.maximise_on_bracket`, which needs only
+    unimodality: the turbofan lapse has a kink in Mach that parabolic steps miss) on a
+    bracket around v0 (minimum-power speed for propellers, the constant-thrust best speed
+    for jets): [max(v_floor, 0.7 v0), 2 v0], v_floor the climb speed factor times the clean
+    stall speed, the top not above the Oswald method's upper Mach. 16 iterations leave
+    0.0005 of the bracket (0.15 m/s at v0 = 200 m/s); against a grid of 1500 speeds the rate
+    agrees to 0.02 m/s, and to 0.05 m/s with the ceiling search's 10 iterations (tested).
     Where the study applies the airspace speed limit (``[speeds] climb_speed_limit``), the
     speed below 10 000 ft is then held to 250 kn indicated (14 CFR 91.117(a)).
 
@@ -101,7 +110,8 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     References
     ----------
     .. [1] J. D. Anderson, "Aircraft Performance and Design", McGraw-Hill, 1999, ch. 5
-       (closed-form best-climb speeds, the starting guesses).
+       (closed-form best-climb speeds: the exact answer for constant power, the starting
+       guesses elsewhere).
     .. [2] 14 CFR 91.117(a) (250 kn below 10 000 ft MSL).
     """
     pr, sp = spec.propulsion, spec.speeds
@@ -113,16 +123,52 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho,
                                                               spec.aerodynamics.cl_max_clean)
     sound = atm.speed_of_sound(t_h) * np.ones_like(ws_i)
+    thrust = eng.thrust_at(eta)  # the speed-independent part once, not per golden step
     if pr.family == "turbofan":
         tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
         v0 = performance.best_climb_speed_constant_thrust(tw_h, ws_i, rho, cd0_h, k_i)
+        v = np.empty_like(ws_i)
+        searched = slice(None)
     else:
         v0 = performance.minimum_power_speed(ws_i, rho, cd0_h, k_i)
+        v = np.maximum(np.where(v0 >= thrust.v1, v0, _best_blend_speed(thrust, w_i, ws_i, rho,
+                                                                       cd0_h, k_i)), v_floor)
+        no_mach_term = (spec.aerodynamics.oswald_method == "obert2009") | (v / sound <= 0.3)
+        searched = np.flatnonzero(~no_mach_term)
+        if searched.size == v.size:
+            searched = slice(None)
+    if not isinstance(searched, np.ndarray) or searched.size:
+        v[searched] = _golden_climb_speed(
+            spec, thrust if isinstance(searched, slice) else thrust.take(searched),
+            *(np.broadcast_to(x, ws_i.shape)[searched]
+              for x in (ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0)), iterations)
+    if sp.climb_speed_limit:
+        v = performance.limit_climb_speed(v, h, dt)
+    k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
+    return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_m)), v
+
+
+def _best_blend_speed(thrust, w, ws, rho, cd0, k):
+    """Speed [m s^-1] of the largest V (T(V) - D(V)) / W under the propeller's blended thrust
+    T = T0 (1 - V^2 / (3 V1^2)) (:class:`~optimiser.physics.propulsion.PropellerThrustCurve`)
+    and a parabolic polar at constant K: V D / W = a V^3 + b / V, a = rho C_D0 / (2 W/S),
+    b = 2 K (W/S) / rho, so the rate is concave in V and its one stationary point solves
+    3 (c + a) u^2 - (T0 / W) u - b = 0 in u = V^2, c = T0 / (3 V1^2 W) (derived; the positive
+    root). Meaningful where it is below V1 (where the minimum-power speed is too)."""
+    t0_w = thrust.t0 / w
+    c_a = 3.0 * (thrust.t0 / (thrust.blend_scale * w) + 0.5 * rho * cd0 / ws)
+    b = 2.0 * k * ws / rho
+    return np.sqrt((t0_w + np.sqrt(t0_w * t0_w + 4.0 * c_a * b)) / (2.0 * c_a))
+
+
+def _golden_climb_speed(spec, thrust, ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0,
+                        iterations):
+    """Speed of the best climb [m s^-1] by golden-section search on [max(v_floor, 0.7 v0),
+    min(2 v0, upper Mach)] (see :func:`best_climb`); ``thrust(v)`` [N], the rest per design
+    (SI)."""
     mach_hi = aero.OSWALD_MACH_RANGE[spec.aerodynamics.oswald_method][1]
     v_low = np.maximum(v_floor, 0.7 * v0)
     v_high = np.maximum(np.minimum(2.0 * v0, mach_hi * sound), v_low)
-
-    thrust = eng.thrust_at(eta)  # the speed-independent part once, not per golden step
     if _induced_drag_factor_at_mach(spec, k_i, v_high / sound) is k_i:
         # no speed of the bracket (nor the speed limit's, lower) reaches the Mach term: K is
         # K at the reference Mach throughout, and the drag's speed-independent part is
@@ -139,10 +185,7 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
             return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h,
                                                                       k_m))
 
-    v, _ = performance.maximise_on_bracket(rate, v_low, v_high, iterations)
-    if sp.climb_speed_limit:
-        v = performance.limit_climb_speed(v, h, dt)
-    return rate(v), v
+    return performance.maximise_on_bracket(rate, v_low, v_high, iterations)[0]
 
 
 def _induced_drag_factor_at_mach(spec: AircraftSpec, k_ref, mach, mach_ref=0.2):
@@ -186,11 +229,12 @@ def _ceiling_residual(spec, ap, dt, target, h, ix):
 def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     """Best climb rate at the departure airfield, the regulatory gradient and the ceiling.
 
-    The best climb at the departure airfield is found in one call, at sea level, at the
-    required ceiling and at the model's top altitude in a second (at the ceiling search's
-    iterations); the latter three bracket the service ceiling,
-    solved from the half of the range (split at the required ceiling) that holds it, so that
-    designs near the requirement start from a short, nearly linear bracket.
+    The best climb at the departure airfield is found in one call; the service ceiling is
+    bracketed by the rate at the required ceiling and, in a second call (at the ceiling
+    search's iterations), at sea level where that rate is short of the target or at the
+    model's top altitude where it is not, and solved in that half of the range, so that
+    designs near the requirement start from a short, nearly linear bracket. A design short
+    of the target at sea level has ceiling 0, one above it at the top altitude the top.
 
     Parameters
     ----------
@@ -217,9 +261,14 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     h_req = min(max(spec.requirements.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
     roc_dep, v_dep = best_climb(spec, ap, np.full(n, dep.elevation_m),
                                 np.full(n, dep.temperature_offset_K))
-    roc3, _ = best_climb(  # the ceiling's brackets, at the ceiling search's iterations
-        spec, ap, np.concatenate([np.zeros(n), np.full(n, h_req), np.full(n, atm.H_MAX)]),
-        np.full(3 * n, dt_cr), np.concatenate([np.arange(n)] * 3), iterations=10)
+    # the ceiling's brackets, at the ceiling search's iterations: the rate at the required
+    # ceiling, then at sea level where it is short of the target there (the ceiling lies
+    # below) and at the model's top altitude where it is not (the ceiling lies above)
+    f_req = best_climb(spec, ap, np.full(n, h_req), np.full(n, dt_cr), iterations=10)[0] \
+        - performance.SERVICE_CEILING_CLIMB_RATE
+    above = f_req >= 0.0
+    f_end = best_climb(spec, ap, np.where(above, atm.H_MAX, 0.0), np.full(n, dt_cr),
+                       iterations=10)[0] - performance.SERVICE_CEILING_CLIMB_RATE
 
     rho_aeo, t_aeo, p_aeo, _ = isa_state(spec.certification.aeo_climb_altitude_m)
     eng_aeo = engines_at(spec, ap.engines, rho_aeo, t_aeo, p_aeo, pr.climb_power_fraction)
@@ -231,15 +280,12 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
                                                    ap.polar.induced_drag_factor)
 
     target = performance.SERVICE_CEILING_CLIMB_RATE
-    f_sl = roc3[:n] - target
-    f_req = roc3[n:2 * n] - target
-    f_top = roc3[2 * n:] - target
-    above = f_req >= 0.0
     ceiling = falling_root(
         functools.partial(_ceiling_residual, spec, ap, dt_cr, target),
         np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req),
-        np.where(above, f_req, f_sl), np.where(above, f_top, f_req), xtol=1.0)
-    ceiling = np.where(f_sl < 0.0, 0.0, np.where(f_top >= 0.0, atm.H_MAX, ceiling))
+        np.where(above, f_req, f_end), np.where(above, f_end, f_req), xtol=1.0)
+    ceiling = np.where(above, np.where(f_end >= 0.0, atm.H_MAX, ceiling),
+                       np.where(f_end < 0.0, 0.0, ceiling))
     rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)
     v_floor_c = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_c, ad.cl_max_clean)
     in_range = aero.oswald_mach_valid(ad.oswald_method, v_floor_c / atm.speed_of_sound(t_c))
