@@ -22,13 +22,13 @@ import numpy as np
 import pandas as pd
 
 from .errors import StudyError
-from .evaluation import design_columns, size_frame
+from .evaluation import design_columns, design_overrides, size_frame
 from .physics import G0
 from .quantities import _Reader
 from .sizing.frozen import (CONDITION_FIELDS, FrozenDesigns, analyse_designs,
                             analysis_checked_constraints, case_spec, frozen_designs,
                             frozen_from_sized, operating_masses)
-from .sizing.inputs import MODEL_RANGES, range_text
+from .sizing.inputs import CRUISE_ALTITUDE_MAX_M, MODEL_RANGES, range_text
 
 FROZEN_COLUMNS = ("flap", "wing_area_m2", "aspect_ratio", "empty_mass_kg",
                   "max_takeoff_mass_kg")
@@ -149,7 +149,8 @@ def frozen_from_table(study, table: pd.DataFrame, source: str = "designs"
         index = np.array([names.index(f) for f in checked["flap"]], dtype=int)
         sized = size_frame(study, checked["wing_loading_N_m2"].to_numpy(float),
                            checked[study.loading_column].to_numpy(float),
-                           checked["aspect_ratio"].to_numpy(float), index)
+                           checked["aspect_ratio"].to_numpy(float), index,
+                           design_overrides(study, checked))
         return (frozen_from_sized(sized, index, spec.uses_power_loading),
                 sized["flap"].to_numpy(object))
     size_col = study.engine_size_column
@@ -187,7 +188,17 @@ def frozen_from_table(study, table: pd.DataFrame, source: str = "designs"
                          f"expected more than the empty mass plus crew ({m_e[i]:g} + "
                          f"{spec.weights.crew_kg:g} kg)")
     index = np.array([names.index(f) for f in flaps], dtype=int)
-    return frozen_designs(s, ar, rated, index, m_e, m_max), np.asarray(flaps, dtype=object)
+    altitude = None  # a design's own cruise altitude, where the table gives one
+    if "cruise_altitude_m" in table.columns:
+        altitude = _number_column(table, "cruise_altitude_m", source)
+        bad = np.nonzero(altitude > CRUISE_ALTITUDE_MAX_M)[0]
+        if bad.size:
+            i = int(bad[0])
+            raise StudyError(f"{source}: row {i + 1}, column 'cruise_altitude_m': got "
+                             f"{altitude[i]:g}; expected a cruise pressure altitude in metres "
+                             f"up to {CRUISE_ALTITUDE_MAX_M:g}")
+    return (frozen_designs(s, ar, rated, index, m_e, m_max, altitude),
+            np.asarray(flaps, dtype=object))
 
 
 def analyse(study, frozen: FrozenDesigns, flaps, case: OperatingCase = OperatingCase(),
@@ -201,6 +212,10 @@ def analyse(study, frozen: FrozenDesigns, flaps, case: OperatingCase = Operating
         raise StudyError(f"operating case: unknown condition {exc}; expected one of: "
                          + ", ".join(CONDITION_FIELDS)) from None
     masses = operating_masses(spec, frozen, case.takeoff_mass_kg, case.payload_kg, case.fuel_kg)
+    h_case = case.conditions.get("cruise_altitude_m")
+    if h_case is not None and frozen.cruise_altitude_m is not None:
+        # the case's cruise altitude, in place of each design's own
+        overrides = {"cruise_altitude_m": np.full(frozen.size, float(h_case)), **(overrides or {})}
     out = analyse_designs(spec, frozen, masses, overrides)
     names = analysis_checked_constraints(spec, out)
     feasible = out.pop("feasible")

@@ -255,7 +255,8 @@ def _rows_of(obj, a, b):
 def _repeated(obj, times: int):
     """Each design of a dataclass of per-design arrays repeated ``times`` times in a row."""
     return dataclasses.replace(obj, **{f.name: np.repeat(getattr(obj, f.name), times)
-                                       for f in dataclasses.fields(obj)})
+                                       for f in dataclasses.fields(obj)
+                                       if getattr(obj, f.name) is not None})
 
 
 def interval_columns(result: ChanceResult, setting: ChanceSetting) -> dict:

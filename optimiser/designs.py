@@ -12,7 +12,7 @@ from pathlib import Path
 import pandas as pd
 
 from .evaluation import design_columns
-from .sizing.inputs import MODEL_RANGES, range_text
+from .sizing.inputs import CRUISE_ALTITUDE_MAX_M, MODEL_RANGES, range_text
 from .study import StudyError
 
 
@@ -60,6 +60,20 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
                                  + f"number {range_text(c)}")
             if not math.isfinite(x) or x <= 0:
                 raise StudyError(f"{where}: got {v!r}; expected a finite positive number")
+            values.append(x)
+        table[c] = values
+    for c in need[4:]:  # the optional variables: the cruise altitude [m]
+        values = []
+        for i, v in enumerate(table[c].tolist()):
+            where = f"{source}: " + (f"row {first_row + i}, " if len(table) > 1 or source != "--design"
+                                     else "") + f"column {c!r}"
+            try:
+                x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
+            except ValueError:
+                x = math.nan
+            if not (math.isfinite(x) and 0.0 <= x <= CRUISE_ALTITUDE_MAX_M):
+                raise StudyError(f"{where}: got {v!r}; expected a cruise pressure altitude in "
+                                 f"metres from 0 to {CRUISE_ALTITUDE_MAX_M:g}")
             values.append(x)
         table[c] = values
     names = study.spec.high_lift_names

@@ -115,14 +115,43 @@ def evaluate_chunk_rows(study) -> int:
 
 
 def design_columns(study) -> tuple[str, ...]:
-    """The input columns a designs table must have for this study."""
-    return ("wing_loading_N_m2", study.loading_column, "aspect_ratio", "flap")
+    """The input columns a designs table must have for this study: wing loading, loading,
+    aspect ratio, flap, then the optional variables the study has
+    (:func:`override_columns`)."""
+    return ("wing_loading_N_m2", study.loading_column, "aspect_ratio", "flap",
+            *override_columns(study))
 
 
-def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.DataFrame:
-    """Size arrays of designs (flap as index into ``study.spec.high_lift``) into a frame."""
+def override_columns(study) -> tuple[str, ...]:
+    """Input columns of the study's optional variables (``cruise_altitude_m`` where
+    ``[variables] cruise_altitude`` is given), each a sizing override per design."""
+    return tuple(v.column for v in study.variables[3:])
+
+
+def design_overrides(study, table) -> dict:
+    """The sizing overrides of a designs table or archive (a DataFrame or a dict of arrays
+    with the :func:`override_columns`), as float arrays."""
+    return {c: np.asarray(table[c], dtype=float) for c in override_columns(study)}
+
+
+def row_overrides(study, design, n: int) -> dict:
+    """The optional variables of one design (a mapping with their columns), ``n`` times."""
+    return {c: np.full(n, float(design[c])) for c in override_columns(study)}
+
+
+def size_frame(study, wing_loading, loading, aspect_ratio, flap_index,
+               overrides=None) -> pd.DataFrame:
+    """Size arrays of designs (flap as index into ``study.spec.high_lift``) into a frame;
+    ``overrides`` holds the optional variables' columns (:func:`override_columns`) and any
+    other per-design values :func:`~optimiser.sizing.size_designs` takes."""
     spec = study.spec
-    out = size_designs(spec, wing_loading, loading, aspect_ratio, flap_index)
+    overrides = overrides or {}
+    missing = [c for c in override_columns(study) if c not in overrides]
+    if missing:
+        raise ValueError(f"size_frame: the study's variable column {missing[0]!r} not given; "
+                         "expected it among the overrides")
+    out = size_designs(spec, wing_loading, loading, aspect_ratio, flap_index,
+                       overrides or None)
     names = checked_constraints(spec, out)
     feasible = out.pop("feasible")
     limiting = np.asarray(names, dtype=object)[out.pop("limiting_index")]
@@ -132,6 +161,9 @@ def size_frame(study, wing_loading, loading, aspect_ratio, flap_index) -> pd.Dat
         "aspect_ratio": np.asarray(aspect_ratio, float),
         "flap": np.asarray(spec.high_lift_names, dtype=object)[np.asarray(flap_index, int)],
     }
+    for c in override_columns(study):
+        columns[c] = np.broadcast_to(np.asarray(overrides[c], float),
+                                     columns["aspect_ratio"].shape).copy()
     columns.update(out)
     if spec.requirements.max_span_m is not None:  # the code letter only with a span limit
         columns = _with_code_letter(columns)
@@ -182,9 +214,10 @@ def evaluate_checked(study, table) -> pd.DataFrame:
     index = np.array([names.index(f) for f in table["flap"]], dtype=int)
     frame = size_frame(study, table["wing_loading_N_m2"].to_numpy(float),
                        table[study.loading_column].to_numpy(float),
-                       table["aspect_ratio"].to_numpy(float), index)
+                       table["aspect_ratio"].to_numpy(float), index,
+                       design_overrides(study, table))
     outside = []
-    for col in design_columns(study)[:3]:
+    for col in (*design_columns(study)[:3], *override_columns(study)):
         v = study.variable(col)
         x = frame[col].to_numpy(float)
         outside.append(np.where((x < v.lower - 1e-9 * abs(v.lower)) | (x > v.upper + 1e-9 * abs(v.upper)),

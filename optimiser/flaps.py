@@ -66,16 +66,20 @@ def mean_gap(env_a, env_b, n=101):
 def stall_reach(study, flap, n=9):
     """Best landing-stall margin a flap option reaches within the bounds: the margin at the
     lower wing-loading bound (stall speed grows with wing loading), the best over a grid of
-    the other variables. Returns (margin [-], wing loading [N/m^2])."""
+    the other variables (the cruise altitude, where it is one, at its two bounds). Returns
+    (margin [-], wing loading [N/m^2])."""
     import itertools
-    from .evaluation import size_frame
+    from .evaluation import override_columns, size_frame
     ws = study.variable("wing_loading_N_m2").lower
     lv, av = study.variable(study.loading_column), study.variable("aspect_ratio")
+    extra = [study.variable(c) for c in override_columns(study)]
     grid = np.array(list(itertools.product(np.linspace(lv.lower, lv.upper, n),
-                                           np.linspace(av.lower, av.upper, n))))
+                                           np.linspace(av.lower, av.upper, n),
+                                           *([v.lower, v.upper] for v in extra))))
     idx = study.spec.high_lift_names.index(flap)
     f = size_frame(study, np.full(len(grid), ws), grid[:, 0], grid[:, 1],
-                   np.full(len(grid), idx))
+                   np.full(len(grid), idx),
+                   {v.column: grid[:, 2 + j] for j, v in enumerate(extra)})
     return float(f["margin_stall_speed"].max()), float(ws)
 
 
@@ -249,7 +253,7 @@ def compare_flaps(run):
     (:func:`compare_flap_options`); the fronts are ``{flap: DataFrame}``."""
     from .evaluation import size_frame
     from .runfolder.archive import read_archive
-    from .search import design_arrays, free_variables
+    from .search import design_arrays, design_overrides, free_variables
     from .sizing import active_constraints
     if not isinstance(run, Run):
         run = load_run(run)
@@ -258,7 +262,8 @@ def compare_flaps(run):
         raise DecideError(f"{run.run_dir}: no {names.ARCHIVE} in it; expected a run folder "
                           "written by 'optimiser run'")
     x0 = np.array([[v.lower for v in free_variables(study)]])
-    cols = list(size_frame(study, *design_arrays(study, x0), [0]).columns)
+    cols = list(size_frame(study, *design_arrays(study, x0), [0],
+                           design_overrides(study, x0)).columns)
     need = [c for c in cols if c not in ("limiting_constraint", "most_violated")]
     need = [c for c in need if c in ("flap", "feasible", "wing_loading_N_m2", study.loading_column,
                                      "aspect_ratio", "maintenance_index", "takeoff_mass_kg",

@@ -79,7 +79,8 @@ def _one_generation(study, state, pending, evaluate=_in_process, chance=None):
     ``evaluate(fn, spec, *arrays)`` runs the model on the batch (here, or on Dask workers
     through :class:`optimiser.cluster.RowMap`: the same numbers either way). ``chance``
     (an :class:`optimiser.chance.ChanceEvaluator`) judges a chance-constrained run."""
-    from .search import design_arrays, hypervolume, objectives_and_constraints, total_violation
+    from .search import (design_arrays, design_overrides, hypervolume,
+                         objectives_and_constraints, total_violation)
     from .sizing import size_designs
     # ask every option, then size the whole generation with ONE call of the vectorised model
     pops = [algo.ask() for algo in state.algos]
@@ -87,7 +88,8 @@ def _one_generation(study, state, pending, evaluate=_in_process, chance=None):
     X = np.vstack([p.get("X") for p in pops])
     flap = np.repeat([algo.problem.flap_index for algo in state.algos], sizes)
     ws, load, ar = design_arrays(study, X)
-    sized = evaluate(size_designs, study.spec, ws, load, ar, flap)
+    extra = design_overrides(study, X)  # the optional variables (cruise altitude)
+    sized = evaluate(size_designs, study.spec, ws, load, ar, flap, *([extra] if extra else []))
     F, G = objectives_and_constraints(study, sized)
     feas = np.asarray(sized["feasible"], bool)
     if chance is not None:  # the chance constraints replace G (optimiser.chance)
@@ -106,7 +108,7 @@ def _one_generation(study, state, pending, evaluate=_in_process, chance=None):
     state.n_evaluations += n_gen
     n_feas = int(feas.sum())
     state.n_feasible += n_feas
-    gen_set = DesignSet(np.column_stack([ws, load, ar]), flap,
+    gen_set = DesignSet(np.column_stack([ws, load, ar, *extra.values()]), flap,
                         np.full(n_gen, state.generation), F, total_violation(G))
     if n_feas:
         state.front = _merge_front(state.front, gen_set.take(feas))

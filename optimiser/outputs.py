@@ -42,15 +42,19 @@ def _designs_table(study, kept: DesignSet):
     from .evaluation import design_columns
     flap_names = np.asarray(study.spec.high_lift_names, dtype=object)
     cols = design_columns(study)
-    return pd.DataFrame({cols[0]: kept.designs[:, 0], cols[1]: kept.designs[:, 1],
-                         cols[2]: kept.designs[:, 2], cols[3]: flap_names[kept.flap]})
+    table = {cols[0]: kept.designs[:, 0], cols[1]: kept.designs[:, 1],
+             cols[2]: kept.designs[:, 2], cols[3]: flap_names[kept.flap]}
+    for j, c in enumerate(cols[4:]):  # the optional variables, after the first three
+        table[c] = kept.designs[:, 3 + j]
+    return pd.DataFrame(table)
 
 
 def _least_table(study, least: DesignSet):
     """The least-violating designs sized again, with their total violation and generation."""
-    from .evaluation import size_frame
+    from .evaluation import override_columns, size_frame
     d = least.designs
-    table = size_frame(study, d[:, 0], d[:, 1], d[:, 2], least.flap)
+    table = size_frame(study, d[:, 0], d[:, 1], d[:, 2], least.flap,
+                       {c: d[:, 3 + j] for j, c in enumerate(override_columns(study))})
     import pandas as pd
     head = pd.DataFrame({"total_violation": least.key, "generation": least.generation},
                         index=table.index)

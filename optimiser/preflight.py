@@ -17,7 +17,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .columns import CONSTRAINT_LABELS
-from .search import design_arrays, flap_indices, free_variables, objectives_and_constraints
+from .search import (design_arrays, design_overrides, flap_indices, free_variables,
+                     objectives_and_constraints)
 from .sizing import active_constraints, size_designs
 
 GRID_POINTS = 7
@@ -68,8 +69,10 @@ def grid_margins(study, points: int = GRID_POINTS):
     axes = [np.linspace(v.lower, v.upper, points) for v in free_variables(study)]
     X = np.array(list(itertools.product(*axes))) if axes else np.zeros((1, 0))
     options = flap_indices(study)
-    ws, load, ar = design_arrays(study, np.tile(X, (len(options), 1)))
-    sized = size_designs(study.spec, ws, load, ar, np.repeat(options, len(X)))
+    tiled = np.tile(X, (len(options), 1))
+    ws, load, ar = design_arrays(study, tiled)
+    sized = size_designs(study.spec, ws, load, ar, np.repeat(options, len(X)),
+                         design_overrides(study, tiled) or None)
     _, G = objectives_and_constraints(study, sized)
     best = (-G).max(axis=0)
     share = float(np.mean(np.asarray(sized["feasible"], bool)))

@@ -31,9 +31,10 @@ class SizingProblem(Problem):
         self.last_frame = None
 
     def _evaluate(self, x, out, *args, **kwargs):
-        from .search import design_arrays, objectives_and_constraints
+        from .search import design_arrays, design_overrides, objectives_and_constraints
         ws, load, ar = design_arrays(self.study, x)
-        frame = size_frame(self.study, ws, load, ar, np.full(len(ws), self.flap_index))
+        frame = size_frame(self.study, ws, load, ar, np.full(len(ws), self.flap_index),
+                           design_overrides(self.study, x))
         F, G = objectives_and_constraints(self.study, frame)
         if F.shape != (len(x), self.n_obj) or G.shape != (len(x), self.n_ieq_constr):
             raise RuntimeError(f"expected F of shape {(len(x), self.n_obj)} and G of shape "

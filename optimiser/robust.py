@@ -105,6 +105,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
         study's. A study with no uncertain assumption is refused (ValueError).
     """
     import pandas as pd
+    from .evaluation import override_columns
     from .sizing import active_constraints, size_designs
     nominal, assumptions, n, seed, factors = _draw(study, design, samples, seed, uncertainty)
     spec = study.spec
@@ -113,7 +114,9 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
     row = nominal.iloc[0]
     out = size_designs(spec, np.full(n, row["wing_loading_N_m2"]),
                        np.full(n, row[study.loading_column]), np.full(n, row["aspect_ratio"]),
-                       np.full(n, flap_index), overrides=overrides)
+                       np.full(n, flap_index), overrides={
+                           **{c: np.full(n, float(row[c])) for c in override_columns(study)},
+                           **overrides})
     names = active_constraints(spec)
     size_col = study.engine_size_column
     frame = pd.DataFrame({f"factor_{k}": v for k, v in factors.items()})
@@ -169,6 +172,7 @@ def frozen_monte_carlo(study, design, samples=None, seed=None, uncertainty=None)
     needs, with reserves) and ``fuel_on_board_kg``.
     """
     import pandas as pd
+    from .evaluation import override_columns
     from .sizing.frozen import (analyse_designs, analysis_checked_constraints, frozen_from_sized,
                                 operating_masses)
     nominal, assumptions, n, seed, factors = _draw(study, design, samples, seed, uncertainty)
@@ -179,7 +183,7 @@ def frozen_monte_carlo(study, design, samples=None, seed=None, uncertainty=None)
     base = analyse_designs(spec, one, operating_masses(spec, one))
     repeated = {k: np.repeat(nominal[k].to_numpy(float), n)
                 for k in ("wing_area_m2", "span_m", study.engine_size_column, "empty_mass_kg",
-                          "takeoff_mass_kg")}
+                          "takeoff_mass_kg", *override_columns(study))}
     frozen = frozen_from_sized(repeated, np.full(n, flap_index), spec.uses_power_loading)
     out = analyse_designs(spec, frozen, operating_masses(spec, frozen), overrides=overrides)
     names = analysis_checked_constraints(spec, out)

@@ -76,13 +76,13 @@ def estimate_output_bytes(study, state: RunState) -> tuple[int, str]:
     rows = gens * per_gen
     if b.time_s is not None:
         from .evaluation import size_frame
-        from .search import design_arrays, flap_indices, free_variables
+        from .search import design_arrays, design_overrides, flap_indices, free_variables
         free = free_variables(study)
         t = np.linspace(0.0, 1.0, per_gen)[:, None]
         X = np.array([v.lower for v in free]) + t * np.array([v.upper - v.lower for v in free])
         flaps = np.asarray(flap_indices(study))[np.resize(np.arange(len(study.flaps)), per_gen)]
         t0 = time.perf_counter()
-        size_frame(study, *design_arrays(study, X), flaps)
+        size_frame(study, *design_arrays(study, X), flaps, design_overrides(study, X))
         rate = per_gen / max(time.perf_counter() - t0, 1e-6)
         rows = min(rows, math.ceil(b.time_s * rate))
         gens = min(gens, math.ceil(rows / per_gen))

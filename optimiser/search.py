@@ -47,8 +47,7 @@ def flap_indices(study) -> tuple[int, ...]:
     return tuple(names.index(f) for f in study.flaps)
 
 
-def design_arrays(study, X):
-    """Full (wing loading, loading, aspect ratio) arrays from a matrix of free variables."""
+def _variable_columns(study, X):
     X = np.atleast_2d(np.asarray(X, float))
     n = X.shape[0]
     cols, j = [], 0
@@ -59,6 +58,18 @@ def design_arrays(study, X):
             cols.append(X[:, j])
             j += 1
     return cols
+
+
+def design_arrays(study, X):
+    """Full (wing loading, loading, aspect ratio) arrays from a matrix of free variables."""
+    return _variable_columns(study, X)[:3]
+
+
+def design_overrides(study, X) -> dict:
+    """The per-design sizing overrides the optional variables give (``{"cruise_altitude_m":
+    array}`` when the study's cruise altitude is a variable; empty otherwise)."""
+    cols = _variable_columns(study, X)
+    return {v.column: c for v, c in zip(study.variables[3:], cols[3:])}
 
 
 def objectives_and_constraints(study, frame):
@@ -185,8 +196,10 @@ def reference_scales(study):
     axes = [np.linspace(v.lower, v.upper, REFERENCE_GRID_POINTS) for v in free_variables(study)]
     X = np.array(list(itertools.product(*axes))) if axes else np.zeros((1, 0))
     options = flap_indices(study)
-    ws, load, ar = design_arrays(study, np.tile(X, (len(options), 1)))
-    sized = size_designs(study.spec, ws, load, ar, np.repeat(options, len(X)))  # one call
+    tiled = np.tile(X, (len(options), 1))
+    ws, load, ar = design_arrays(study, tiled)
+    sized = size_designs(study.spec, ws, load, ar, np.repeat(options, len(X)),  # one call
+                         design_overrides(study, tiled))
     F, _ = objectives_and_constraints(study, sized)
     ok = np.asarray(sized["feasible"], bool)
     basis = F[ok] if ok.any() else F

@@ -83,11 +83,17 @@ def _design_arrays(study, design, n):
             np.full(n, float(design["aspect_ratio"])), np.full(n, flap))
 
 
+def _design_overrides(study, design, n) -> dict:
+    """The design's optional variables (its cruise altitude, where it is one), ``n`` times."""
+    from .evaluation import override_columns
+    return {c: np.full(n, float(design[c])) for c in override_columns(study)}
+
+
 def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
     """Table of sensitivities of one design (a mapping with evaluate's input columns).
 
-    Returns a DataFrame, one row per (input, output): ``input``, ``kind`` (requirement or
-    assumption), ``input_unit``, ``input_value``, ``step``, ``output``, ``output_value`` (at
+    Returns a DataFrame, one row per (input, output): ``input``, ``kind`` (requirement,
+    assumption, or variable: the design's own cruise altitude where the study makes it one), ``input_unit``, ``input_value``, ``step``, ``output``, ``output_value`` (at
     the study's values), ``derivative`` (output units per input unit), ``change_minus`` and
     ``change_plus`` (output change at ``input -/+ step``). Raises :class:`DecideError` for a
     step outside (0, 0.2]."""
@@ -101,7 +107,7 @@ def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
     inputs = assumption_inputs(spec)
     k = len(inputs)
     args = _design_arrays(study, design, 1 + 2 * k)
-    overrides = {}
+    overrides = _design_overrides(study, design, 1 + 2 * k)
     for j, (_, key, value, _) in enumerate(inputs):
         col = np.full(1 + 2 * k, float(value))
         col[1 + 2 * j] = value * (1.0 - rel_step)
@@ -116,11 +122,22 @@ def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
         lo = {c: float(np.asarray(sized[c])[1 + 2 * j]) for c in outputs}
         hi = {c: float(np.asarray(sized[c])[2 + 2 * j]) for c in outputs}
         rows += _rows(name, "assumption", unit, value, h, base, lo, hi)
+    own = _design_overrides(study, design, 1)
     for name, section, field, unit, absolute in REQUIREMENTS:
+        if field in own:  # a variable of this study: the design's own value moves
+            value = float(own[field][0])
+            h = absolute if absolute is not None else value * rel_step
+            pair = [size_designs(spec, *_design_arrays(study, design, 1),
+                                 overrides={**own, field: np.array([value + sign * h])})
+                    for sign in (-1.0, 1.0)]
+            lo, hi = ({c: float(np.asarray(p[c])[0]) for c in outputs} for p in pair)
+            rows += _rows(name, "variable", unit, value, h, base, lo, hi)
+            continue
         value = float(getattr(getattr(spec, section), field))
         h = absolute if absolute is not None else value * rel_step
         pair = [size_designs(_with(spec, section, field, value + sign * h),
-                             *_design_arrays(study, design, 1)) for sign in (-1.0, 1.0)]
+                             *_design_arrays(study, design, 1), overrides=own or None)
+                for sign in (-1.0, 1.0)]
         lo, hi = ({c: float(np.asarray(p[c])[0]) for c in outputs} for p in pair)
         rows += _rows(name, "requirement", unit, value, h, base, lo, hi)
     return pd.DataFrame(rows)
@@ -171,7 +188,7 @@ def requirement_prices(study, run_dir, rel_step: float = 0.05):
     units per requirement unit)."""
     import pandas as pd
 
-    from .evaluation import design_columns
+    from .evaluation import design_columns, design_overrides, override_columns
     from .runfolder.archive import read_archive
     from .search import objectives_and_constraints
     from .sizing import size_designs
@@ -184,10 +201,11 @@ def requirement_prices(study, run_dir, rel_step: float = 0.05):
     archive = archive.drop_duplicates().tail(ARCHIVE_ROWS_MAX)
     flap = np.array([spec.high_lift_names.index(f) for f in archive["flap"]], dtype=int)
     x = [archive[c].to_numpy(float) for c in cols[:3]]
+    own = design_overrides(study, archive) or None
     objectives = list(study.objective_columns())
 
     def best(s):
-        sized = size_designs(s, *x, flap)
+        sized = size_designs(s, *x, flap, own)
         F, G = objectives_and_constraints(study, sized)
         ok = np.all(G <= 0.0, axis=1) & np.asarray(sized["feasible"], bool)
         return [float(F[ok, j].min()) if ok.any() else float("nan")
@@ -196,6 +214,8 @@ def requirement_prices(study, run_dir, rel_step: float = 0.05):
     nominal = best(spec)
     rows = []
     for name, section, field, unit, absolute in REQUIREMENTS:
+        if field in override_columns(study):
+            continue  # a decision variable of the search, not a requirement with a price
         value = float(getattr(getattr(spec, section), field))
         h = absolute if absolute is not None else value * rel_step
         lo, hi = (best(_with(spec, section, field, value + sign * h)) for sign in (-1.0, 1.0))

@@ -23,7 +23,7 @@ from .columns import OBJECTIVES, engine_size_column, objective_column
 from .errors import StudyError
 from .physics import aerodynamics, atmosphere, geometry, highlift, mission, performance
 from .quantities import _Reader, _dimension_name, _suggest, units  # noqa: F401  (units: public)
-from .sizing.inputs import MODEL_RANGES
+from .sizing.inputs import CRUISE_ALTITUDE_MAX_M, MODEL_RANGES
 
 MAX_STUDY_BYTES = 1_000_000
 MAX_CRUISE_MACH = 0.82
@@ -42,6 +42,11 @@ VARIABLE_UNITS = {
                               ("thrust_to_weight", "thrust_to_weight", None),
                               ("aspect_ratio", "aspect_ratio", None))
 }
+VARIABLE_UNITS["cruise_altitude"] = ("cruise_altitude_m", "m", 0.0, CRUISE_ALTITUDE_MAX_M)
+"""An optional fourth variable: the cruise pressure altitude (the study's [mission]
+cruise_altitude then holds only where no design is at hand, e.g. for ``check``'s screen)."""
+OPTIONAL_VARIABLES = ("cruise_altitude",)
+"""[variables] keys a study may leave out (the study's fixed value then holds)."""
 SEARCH_KEYS = {"population": (int, 4, 100000), "generations": (int, 1, 1000000),
                "seed": (int, 0, 2**32 - 1), "reliability": (float, None, None),
                "reliability_samples": (int, 10, 100000)}
@@ -422,12 +427,7 @@ def _certification(rd: _Reader, raw: dict, basis, family, prop, req, mis) -> tup
                     dispatch) if "destination" in raw else _airfield(
         rd, "departure", {k: v for k, v in raw["departure"].items() if k != "obstacle_height"},
         performance.OBSTACLE_HEIGHT["part23"], dispatch)  # the departure, landing back
-    mach = mis.cruise_speed_m_s / float(atmosphere.speed_of_sound(atmosphere.isa_temperature(
-        mis.cruise_altitude_m, mis.cruise_temperature_offset_K)))
-    if mach > MAX_CRUISE_MACH:
-        rd.fail("[mission] cruise_speed", f"got Mach {mach:.3f} at the cruise altitude; expected "
-                f"at most Mach {MAX_CRUISE_MACH} (the range of the Oswald-factor and wave-drag "
-                "estimates)")
+    _check_cruise_mach(rd, "[mission] cruise_speed", mis, mis.cruise_altitude_m)
     if mis.cruise_speed_m_s < 1.05 * req.stall_speed_m_s:
         rd.fail("[mission] cruise_speed", f"got {mis.cruise_speed_m_s:.1f} m/s; expected well "
                 f"above the stall-speed limit {req.stall_speed_m_s:.1f} m/s")
@@ -489,10 +489,22 @@ def _airfield(rd, section, raw, default_obstacle, dispatch_landing=False):
                    braking_friction=brake if af.braking_friction is None else af.braking_friction)
 
 
+def _check_cruise_mach(rd, where, mis, altitude_m):
+    """The cruise speed's Mach number at ``altitude_m`` [m] within :data:`MAX_CRUISE_MACH`
+    (the speed of sound falls with altitude up to the tropopause: the highest altitude of a
+    variable's bounds is the one to check)."""
+    mach = mis.cruise_speed_m_s / float(atmosphere.speed_of_sound(atmosphere.isa_temperature(
+        altitude_m, mis.cruise_temperature_offset_K)))
+    if mach > MAX_CRUISE_MACH:
+        rd.fail(where, f"got Mach {mach:.3f} at the cruise altitude {altitude_m:.0f} m; "
+                f"expected at most Mach {MAX_CRUISE_MACH} (the range of the Oswald-factor and "
+                "wave-drag estimates)")
+
+
 def _read_variables(rd, raw, spec, catalogue):
     family_key = "power_loading" if spec.uses_power_loading else "thrust_to_weight"
     other = "thrust_to_weight" if spec.uses_power_loading else "power_loading"
-    allowed = ("wing_loading", family_key, "aspect_ratio", "flaps")
+    allowed = ("wing_loading", family_key, "aspect_ratio", *OPTIONAL_VARIABLES, "flaps")
     for k in raw:
         if k == other:
             rd.fail(f"[variables] {k}", f"given for a {spec.propulsion.family} study; expected "
@@ -508,6 +520,12 @@ def _read_variables(rd, raw, spec, catalogue):
         column, unit, lo_ok, hi_ok = VARIABLE_UNITS[k]
         lo, hi = _bounds(rd, k, raw[k], unit, lo_ok, hi_ok)
         out.append(Variable(key=k, column=column, lower=lo, upper=hi))
+    for k in OPTIONAL_VARIABLES:
+        if k in raw:
+            column, unit, lo_ok, hi_ok = VARIABLE_UNITS[k]
+            lo, hi = _bounds(rd, k, raw[k], unit, lo_ok, hi_ok)
+            _check_cruise_mach(rd, f"[variables] {k}", spec.mission, hi)
+            out.append(Variable(key=k, column=column, lower=lo, upper=hi))
     flaps_raw = raw.get("flaps", ["none", "plain", "single_slotted", "fowler"])
     if isinstance(flaps_raw, str):
         flaps_raw = [flaps_raw]

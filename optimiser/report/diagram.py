@@ -45,10 +45,10 @@ def smallest_excess(frame, constraints, required=None) -> np.ndarray:
 
 
 def _size(study, design, ws, ld):
-    from ..evaluation import size_frame
+    from ..evaluation import row_overrides, size_frame
     flap = study.spec.high_lift_names.index(design["flap"])
     return size_frame(study, ws, ld, np.full(len(ws), float(design["aspect_ratio"])),
-                      np.full(len(ws), flap))
+                      np.full(len(ws), flap), row_overrides(study, design, len(ws)))
 
 
 def _brackets(M, along_loading: bool):

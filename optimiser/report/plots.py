@@ -283,7 +283,7 @@ def constraint_grid(study, design, n=80):
 
     Returns (wing loading [N/m^2] 1-D, loading 1-D, frame of n x n sized designs, row-major
     with loading as the slow axis)."""
-    from ..evaluation import size_frame
+    from ..evaluation import row_overrides, size_frame
     wv, lv = study.variable("wing_loading_N_m2"), study.variable(study.loading_column)
     x0, y0 = float(design["wing_loading_N_m2"]), float(design[study.loading_column])
 
@@ -297,7 +297,7 @@ def constraint_grid(study, design, n=80):
     W, L = np.meshgrid(ws, ld)
     flap = study.spec.high_lift_names.index(design["flap"])
     frame = size_frame(study, W.ravel(), L.ravel(), np.full(W.size, float(design["aspect_ratio"])),
-                       np.full(W.size, flap))
+                       np.full(W.size, flap), row_overrides(study, design, W.size))
     return ws, ld, frame
 
 

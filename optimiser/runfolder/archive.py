@@ -36,10 +36,11 @@ def archive_columns(study, chance=None) -> list[str]:
     is deterministic). A chance-constrained run (``chance``, an
     :class:`~optimiser.chance.ChanceSetting`) adds :func:`~optimiser.chance.probability_columns`
     at the end."""
-    from ..evaluation import design_columns
+    from ..evaluation import design_columns, override_columns
     from ..sizing import active_constraints
     inputs = list(design_columns(study)[:3])
     objectives = [c for c in dict.fromkeys(study.objective_columns()) if c not in inputs]
+    inputs += override_columns(study)  # the optional variables, after the first three
     other = set(ENGINE_SIZE_COLUMNS.values()) - {study.engine_size_column}  # not this family's
     summary = [c for c in ARCHIVE_SUMMARY_COLUMNS if c not in objectives and c not in other]
     margins = [f"margin_{c}" for c in active_constraints(study.spec)]

@@ -94,7 +94,7 @@ def size_batch(spec: AircraftSpec, wing_loading_N_m2, loading, aspect_ratio, hig
     batch = design_batch(spec, wing_loading_N_m2, loading, aspect_ratio, high_lift_index,
                          overrides)
     ov = batch.overrides
-    air = air_states(spec)
+    air = air_states(spec, ov)
     drag = clean_drag(spec, batch.aspect_ratio, air, ov)
     hl = high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
     consumption = cruise_consumption(spec, ov)

@@ -41,9 +41,23 @@ class AirStates:
     cruise_mach: float
     cruise_dynamic_pressure_Pa: float
 
+    def take(self, ix) -> "AirStates":
+        """The states of designs ``ix`` (per-design cruise states indexed, scalars kept)."""
+        if np.ndim(self.density_cruise_kg_m3) == 0 or isinstance(ix, slice) \
+                and ix == slice(None):
+            return self
+        return replace(self, **{f: getattr(self, f)[ix] for f in _CRUISE_FIELDS})
 
-def air_states(spec: AircraftSpec) -> AirStates:
-    """Air states of the study's operating cases (study-wide scalars).
+
+_CRUISE_FIELDS = ("density_cruise_kg_m3", "temperature_cruise_K", "pressure_cruise_Pa",
+                  "sound_speed_cruise_m_s", "cruise_mach", "cruise_dynamic_pressure_Pa")
+"""The fields of :class:`AirStates` that are per design when the cruise altitude is."""
+
+
+def air_states(spec: AircraftSpec, overrides=None) -> AirStates:
+    """Air states of the study's operating cases: study-wide scalars, except the cruise
+    states, which are one per design where ``overrides`` holds a ``cruise_altitude_m`` per
+    design (the cruise altitude as a decision variable).
 
     Parameters
     ----------
@@ -65,7 +79,14 @@ def air_states(spec: AircraftSpec) -> AirStates:
     dep, dst, ms = spec.departure, spec.destination, spec.mission
     rho_to, t_to, p_to, _ = isa_state(dep.elevation_m, dep.temperature_offset_K)
     rho_ld = isa_state(dst.elevation_m, dst.temperature_offset_K)[0]
-    rho_cr, t_cr, p_cr, a_cr = isa_state(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
+    h_cr = (overrides or {}).get("cruise_altitude_m")
+    if h_cr is None:
+        rho_cr, t_cr, p_cr, a_cr = isa_state(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
+    else:
+        h_cr = np.asarray(h_cr, dtype=float)
+        rho_cr = atm.isa_density(h_cr, ms.cruise_temperature_offset_K)
+        t_cr = atm.isa_temperature(h_cr, ms.cruise_temperature_offset_K)
+        p_cr, a_cr = atm.isa_pressure(h_cr), atm.speed_of_sound(t_cr)
     v_cr = ms.cruise_speed_m_s
     return AirStates(rho_to, t_to, p_to, rho_ld, rho_cr, t_cr, p_cr, a_cr, v_cr, v_cr / a_cr,
                      0.5 * rho_cr * v_cr**2)
@@ -167,7 +188,7 @@ class CleanDrag:
     gear_cd0: float  # extended retractable gear, 0 for a fixed gear (in cd0 already) [-]
     oswald_wing_cruise: np.ndarray  # Oswald factor of the wing alone at cruise Mach [-]
     build_up: BuildUpInputs | None = None  # study-wide part of the build-up (geometry given)
-    wave_cd0: float = 0.0  # wave drag at the cruise Mach number [-]
+    wave_cd0: float | np.ndarray = 0.0  # wave drag at the cruise Mach number [-]
     cd0_scale: np.ndarray | float = 1.0  # per-design factor on the clean CD0 [-]
     pinned: bool = True  # the clean CD0 is the study's cd0_clean or a per-design override
 
@@ -215,7 +236,8 @@ def clean_drag(spec: AircraftSpec, aspect_ratio, air: AirStates, overrides) -> C
     """
     ad = spec.aerodynamics
     gear = ad.gear_drag_increment if ad.landing_gear == "retractable" else 0.0
-    wave = float(aero.wave_drag_lock(air.cruise_mach, ad.drag_divergence_mach))
+    wave = aero.wave_drag_lock(air.cruise_mach, ad.drag_divergence_mach)
+    wave = float(wave) if np.ndim(wave) == 0 else wave  # per design with the cruise altitude
     scale = overrides.get("cd0_scale", 1.0)
     pinned = ad.cd0_method == "fixed" or "cd0_clean" in overrides
     if pinned:

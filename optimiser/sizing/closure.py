@@ -153,8 +153,9 @@ def _component_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_k
     d_f, l_f = parts.fuselage_diameter_m, parts.fuselage_length_m
     fuel_volume = fuel_mass_kg / wt.fuel_density_kg_m3
     n_e = spec.propulsion.engine_count
+    v_eas = at(parts.cruise_eas_m_s, ix)  # per design with the cruise altitude
     if parts.transport:
-        v_d = DIVE_OVER_CRUISE_SPEED * parts.cruise_eas_m_s
+        v_d = DIVE_OVER_CRUISE_SPEED * v_eas
         m_ht = weights.tail_mass_torenbeek(s_h, v_d, ad.sweep_quarter_chord_rad)
         m_vt = weights.tail_mass_torenbeek(s_v, v_d, ad.sweep_quarter_chord_rad)
         m_fus = weights.fuselage_mass_torenbeek(v_d, parts.tail_arm_m, d_f, d_f,
@@ -164,8 +165,7 @@ def _component_groups(spec: AircraftSpec, parts: ComponentInputs, takeoff_mass_k
         m_ht = weights.horizontal_tail_mass_usaf(takeoff_mass_kg, n_ult, s_h, parts.tail_arm_m,
                                                  b_h, t_h)
         m_vt = weights.vertical_tail_mass_usaf(takeoff_mass_kg, n_ult, s_v, b_v, t_v)
-        m_fus = weights.fuselage_mass_usaf(takeoff_mass_kg, n_ult, l_f, d_f, d_f,
-                                           parts.cruise_eas_m_s)
+        m_fus = weights.fuselage_mass_usaf(takeoff_mass_kg, n_ult, l_f, d_f, d_f, v_eas)
         m_fuel = weights.fuel_system_mass_usaf(fuel_volume, wt.integral_tank_fraction,
                                                wt.fuel_tank_count, n_e)
     m_main = weights.landing_gear_mass_torenbeek(takeoff_mass_kg, parts.gear_kind + "_main")
@@ -402,13 +402,14 @@ def mass_state(c: ClosureInputs, takeoff_mass_kg, ix=slice(None)) -> MassState:
     if drag.pinned:
         components, cd0_cruise = None, at(drag.cd0_cruise, ix)
     else:
-        components = component_drag(spec, drag.build_up, s_ref, ar_i, rated)
-        cd0_cruise = components.cd0_cruise_friction * at(drag.cd0_scale, ix) + drag.wave_cd0
+        components = component_drag(spec, drag.build_up.take(ix), s_ref, ar_i, rated)
+        cd0_cruise = components.cd0_cruise_friction * at(drag.cd0_scale, ix) \
+            + at(drag.wave_cd0, ix)
     cons = c.consumption
     fuel = mission_fuel(spec, takeoff_mass_kg, s_ref, k_cr, cd0_cruise,
                         CruiseConsumption(at(cons.propeller_efficiency, ix),
                                           at(cons.sfc_kg_J, ix), at(cons.tsfc_kg_N_s, ix)),
-                        c.air)
+                        c.air.take(ix))
     masses = mass_groups(spec, c.parts, takeoff_mass_kg, s_ref, span, rated, fuel.fuel_mass_kg,
                          c.wing_mass_coefficient[ix], c.high_lift, at(c.empty_mass_factor, ix),
                          ix)

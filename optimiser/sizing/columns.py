@@ -75,6 +75,8 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
                                    sized.margins)
     ws_c, fuel = ap.wing_loading_N_m2, st.fuel
     out = _mass_columns(spec, sized)
+    if "cruise_altitude_m" in sized.batch.overrides:  # a decision variable: an input column
+        out = {"cruise_altitude_m": sized.batch.overrides["cruise_altitude_m"], **out}
     out.update({
         "cd0": np.full_like(ws_c, ap.drag.cd0),
         "cd0_takeoff": ap.polar.cd0_takeoff,

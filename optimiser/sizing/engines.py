@@ -81,7 +81,8 @@ def installed_propulsion(spec: AircraftSpec, rated, overrides) -> InstalledPropu
     rated : ndarray
         Sea-level static thrust [N] (turbofan) or rated power [W], all engines.
     overrides : dict
-        Per-design ``propeller_efficiency_climb`` [-], when given.
+        Per-design ``propeller_efficiency_climb`` [-] and ``cruise_altitude_m`` [m], when
+        given.
 
     Returns
     -------
@@ -98,12 +99,13 @@ def installed_propulsion(spec: AircraftSpec, rated, overrides) -> InstalledPropu
     pr, ms = spec.propulsion, spec.mission
     if pr.family == "turbofan":
         return InstalledPropulsion(rated, None, 1.0)
-    t_cr = atm.isa_temperature(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
+    h_cr = overrides.get("cruise_altitude_m", ms.cruise_altitude_m)  # per design, if a variable
+    t_cr = atm.isa_temperature(h_cr, ms.cruise_temperature_offset_K)
     d = propulsion.propeller_diameter_tip_limits(
         pr.propeller_rpm_cruise / 60.0, ms.cruise_speed_m_s, atm.speed_of_sound(t_cr),
         pr.propeller_rpm_takeoff / 60.0, 0.0, pr.propeller_tip_mach_max,
         pr.propeller_tip_speed_takeoff_max_m_s)
-    diameter = np.full_like(np.asarray(rated, dtype=float), float(d))
+    diameter = np.full_like(np.asarray(rated, dtype=float), d)
     return InstalledPropulsion(rated, diameter, overrides.get("propeller_efficiency_climb",
                                                               pr.propeller_efficiency_climb))
 

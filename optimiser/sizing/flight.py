@@ -203,7 +203,8 @@ def _induced_drag_factor_at_mach(spec: AircraftSpec, k_ref, mach, mach_ref=0.2):
         return k_ref  # no Mach term (Obert), or below M 0.3 (Nita & Scholz)
     m_hi = aero.OSWALD_MACH_RANGE[method][1]
     mach = np.asarray(mach, dtype=float)
-    ref = float(aero.oswald_mach_factor(method, min(mach_ref, m_hi)))
+    ref = aero.oswald_mach_factor(method, np.minimum(mach_ref, m_hi))  # per design with
+    ref = float(ref) if np.ndim(ref) == 0 else ref  # the cruise altitude as a variable
     k = np.broadcast_to(k_ref * ref, mach.shape).copy()
     high = mach > 0.3  # the factor is 1 at and below M 0.3: evaluate it only above
     k[high] /= aero.oswald_mach_factor(method, np.minimum(mach[high], m_hi))
@@ -314,7 +315,8 @@ class _LevelFlight:
     def excess(self, v, ix=slice(None)):
         """(T - D) / W [-] at true airspeed ``v`` [m s^-1], Lock's wave drag included, the
         Oswald factor at the Mach of ``v`` (``k`` is K at the cruise Mach)."""
-        pr, ad, air, eng = self.spec.propulsion, self.spec.aerodynamics, self.air, self.engines
+        pr, ad, eng = self.spec.propulsion, self.spec.aerodynamics, self.engines
+        air = self.air.take(ix)  # per-design cruise states with the cruise altitude
         mach = v / air.sound_speed_cruise_m_s
         k_m = _induced_drag_factor_at_mach(self.spec, self.k[ix], mach, air.cruise_mach)
         d_w = performance.drag_to_weight(

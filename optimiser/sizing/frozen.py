@@ -61,6 +61,7 @@ class FrozenDesigns:
     high_lift_index: np.ndarray  # index into spec.high_lift [-]
     empty_mass_kg: np.ndarray
     max_takeoff_mass_kg: np.ndarray
+    cruise_altitude_m: np.ndarray | None = None  # the design's own, where it was a variable
 
     @property
     def size(self) -> int:
@@ -74,13 +75,17 @@ class FrozenDesigns:
 
 
 def frozen_designs(wing_area_m2, aspect_ratio, rated, high_lift_index, empty_mass_kg,
-                   max_takeoff_mass_kg) -> FrozenDesigns:
-    """:class:`FrozenDesigns` from array-likes (broadcast to one length; units as there)."""
-    arrays = np.broadcast_arrays(*(np.asarray(a, dtype=float).ravel() for a in (
-        wing_area_m2, aspect_ratio, rated, empty_mass_kg, max_takeoff_mass_kg)),
-        np.asarray(high_lift_index, dtype=int).ravel())
-    s, ar, rated_, m_e, m_max, idx = (np.array(a) for a in arrays)
-    return FrozenDesigns(s, ar, rated_, idx.astype(int), m_e, m_max)
+                   max_takeoff_mass_kg, cruise_altitude_m=None) -> FrozenDesigns:
+    """:class:`FrozenDesigns` from array-likes (broadcast to one length; units as there);
+    ``cruise_altitude_m`` [m], the design's own cruise altitude where the study makes it a
+    variable (the default cruise altitude of its analysis)."""
+    given = [wing_area_m2, aspect_ratio, rated, empty_mass_kg, max_takeoff_mass_kg]
+    if cruise_altitude_m is not None:
+        given.append(cruise_altitude_m)
+    arrays = np.broadcast_arrays(*(np.asarray(a, dtype=float).ravel() for a in given),
+                                 np.asarray(high_lift_index, dtype=int).ravel())
+    s, ar, rated_, m_e, m_max, *h, idx = (np.array(a) for a in arrays)
+    return FrozenDesigns(s, ar, rated_, idx.astype(int), m_e, m_max, h[0] if h else None)
 
 
 def frozen_from_sized(sized: dict, high_lift_index, uses_power_loading: bool) -> FrozenDesigns:
@@ -94,8 +99,9 @@ def frozen_from_sized(sized: dict, high_lift_index, uses_power_loading: bool) ->
     b = np.asarray(sized["span_m"], dtype=float)
     rated = (np.asarray(sized["engine_power_kW"], dtype=float) * 1e3 if uses_power_loading
              else np.asarray(sized["engine_thrust_kN"], dtype=float) * 1e3)
+    altitude = sized["cruise_altitude_m"] if "cruise_altitude_m" in sized else None
     return frozen_designs(s, b * b / s, rated, high_lift_index, sized["empty_mass_kg"],
-                          sized["takeoff_mass_kg"])
+                          sized["takeoff_mass_kg"], altitude)
 
 
 CONDITION_FIELDS = {
@@ -222,10 +228,12 @@ def cruise_setup(spec: AircraftSpec, frozen: FrozenDesigns, takeoff_mass_kg,
     airplanes at a takeoff mass [kg]: what :func:`mission_fuel` needs besides the range."""
     w = takeoff_mass_kg * G0
     s_ref = frozen.wing_area_m2
+    if frozen.cruise_altitude_m is not None:  # the design's own; a case's or caller's wins
+        overrides = {"cruise_altitude_m": frozen.cruise_altitude_m, **(overrides or {})}
     loading = frozen.rated / w if spec.propulsion.family == "turbofan" else w / (frozen.rated / 1e3)
     batch = design_batch(spec, w / s_ref, loading, frozen.aspect_ratio, frozen.high_lift_index,
                          overrides)
-    air = air_states(spec)
+    air = air_states(spec, batch.overrides)
     drag = clean_drag(spec, batch.aspect_ratio, air, batch.overrides)
     hl = high_lift(spec, batch.high_lift_index, batch.aspect_ratio)
     consumption = cruise_consumption(spec, batch.overrides)

@@ -68,6 +68,9 @@ def _clipped(column: str, values) -> np.ndarray:
                    r.lower, r.upper)
 
 
+CRUISE_ALTITUDE_MAX_M = 15000.0
+"""Highest cruise altitude the model takes [m] (the bound of ``[mission] cruise_altitude``)."""
+
 OVERRIDE_KEYS = {
     "cd0_clean": "clean zero-lift drag coefficient [-] (pins it: replaces the study's value "
                  "or its build-up)",
@@ -78,6 +81,8 @@ OVERRIDE_KEYS = {
     "sfc_cruise": "power-specific fuel consumption in cruise [kg/J] (propeller studies)",
     "tsfc_cruise": "thrust-specific fuel consumption in cruise [kg/(N s)] (turbofan studies)",
     "empty_mass_factor": "multiplies the whole empty mass [-]",
+    "cruise_altitude_m": "cruise pressure altitude [m] (a decision variable when the study "
+                         "gives [variables] cruise_altitude)",
 }
 """Spec values that :func:`~optimiser.sizing.size_designs` accepts per design
 (``overrides``), e.g. for a Monte Carlo over uncertain assumptions."""
@@ -168,7 +173,13 @@ def check_overrides(spec, overrides, n):
         if a.shape != (n,):
             raise ValueError(f"overrides: {key!r} has {a.size} values; expected one per design "
                              f"({n}) or a single value")
-        if not (np.isfinite(a).all() and (a > 0.0).all()):
+        if key == "cruise_altitude_m":
+            if not (np.isfinite(a).all() and (a >= 0.0).all() and (a <= CRUISE_ALTITUDE_MAX_M)
+                    .all()):
+                raise ValueError(f"overrides: {key!r} holds values outside 0 to "
+                                 f"{CRUISE_ALTITUDE_MAX_M:g} m; expected cruise altitudes in "
+                                 "that range")
+        elif not (np.isfinite(a).all() and (a > 0.0).all()):
             raise ValueError(f"overrides: {key!r} holds values that are not finite and "
                              "positive; expected positive numbers")
         out[key] = a

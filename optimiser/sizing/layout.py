@@ -9,7 +9,7 @@ the engine rating (wing, tails, nacelles) inside the mass closure.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -25,20 +25,35 @@ if TYPE_CHECKING:
 
 @dataclass(frozen=True, slots=True)
 class BuildUpInputs:
-    """Study-wide numbers of the drag build-up (floats)."""
+    """Study-wide numbers of the drag build-up (floats; the cruise Reynolds number, the
+    compressibility factor and the fuselage's drag area per design when the cruise altitude
+    is a decision variable)."""
 
-    reynolds_per_m: float  # rho V / mu at cruise [m^-1]
-    compressibility: float  # turbulent-friction factor at the cruise Mach number [-]
+    reynolds_per_m: float | np.ndarray  # rho V / mu at cruise [m^-1]
+    compressibility: float | np.ndarray  # turbulent-friction factor at the cruise Mach [-]
     laminar_fraction: float  # of the wing's and tails' wetted area [-]
     wing_form_factor: float
     tail_form_factor: float
     nacelle_form_factor: float
     fuselage_wetted_area_m2: float
-    fuselage_drag_area_m2: float  # C_f FF Q S_wet at cruise Reynolds number [m^2]
+    fuselage_drag_area_m2: float | np.ndarray  # C_f FF Q S_wet at cruise Reynolds [m^2]
     fixed_drag_area_m2: float  # fixed gear and struts [m^2]
     markup: float  # 1 + cooling + leakage and protuberance fractions [-]
     tail_arm_m: float
     nacelle_count: int
+
+    def take(self, ix) -> "BuildUpInputs":
+        """The inputs of designs ``ix`` (per-design numbers indexed, scalars kept)."""
+        if np.ndim(self.reynolds_per_m) == 0 or isinstance(ix, slice) and ix == slice(None):
+            return self
+        return replace(self, reynolds_per_m=self.reynolds_per_m[ix],
+                       compressibility=self.compressibility[ix],
+                       fuselage_drag_area_m2=self.fuselage_drag_area_m2[ix])
+
+
+def _scalar_or_array(x):
+    """A float for a study-wide number, the array for a per-design one."""
+    return float(x) if np.ndim(x) == 0 else np.asarray(x, dtype=float)
 
 
 def build_up_inputs(spec: AircraftSpec, air: AirStates) -> BuildUpInputs:
@@ -68,17 +83,18 @@ def build_up_inputs(spec: AircraftSpec, air: AirStates) -> BuildUpInputs:
        1965, Torenbeek 1982) and the shapes of :mod:`optimiser.physics.geometry`.
     """
     ad, g = spec.aerodynamics, spec.geometry
-    re_per_m = float(dg.reynolds_number(air.density_cruise_kg_m3, air.cruise_speed_m_s, 1.0,
-                                        atm.dynamic_viscosity(air.temperature_cruise_K)))
+    re_per_m = _scalar_or_array(dg.reynolds_number(
+        air.density_cruise_kg_m3, air.cruise_speed_m_s, 1.0,
+        atm.dynamic_viscosity(air.temperature_cruise_K)))
     fus = geo.fuselage_geometry(g.fuselage_length_m, ad.fuselage_diameter_m, g.nose_fineness,
                                 g.tailcone_fineness)
-    f_fus = float(dg.drag_area(dg.skin_friction_turbulent_prandtl_schlichting(
+    f_fus = _scalar_or_array(dg.drag_area(dg.skin_friction_turbulent_prandtl_schlichting(
         re_per_m * fus.length_m), dg.form_factor_body_hoerner1965(fus.fineness_ratio),
         dg.INTERFERENCE_FACTORS["fuselage"], fus.wetted_area_m2))
     fixed_gear = g.fixed_gear_drag_area_m2 if ad.landing_gear == "fixed" else 0.0
     nacelle_fineness = geo.NACELLE_SIZING[spec.propulsion.family][2]
     return BuildUpInputs(
-        re_per_m, float(dg.skin_friction_compressibility_factor(air.cruise_mach)),
+        re_per_m, _scalar_or_array(dg.skin_friction_compressibility_factor(air.cruise_mach)),
         g.laminar_fraction, float(dg.form_factor_wing_torenbeek1982(ad.thickness_ratio)),
         float(dg.form_factor_wing_torenbeek1982(g.tail_thickness_ratio)),
         float(dg.form_factor_body_hoerner1965(nacelle_fineness)),
@@ -98,7 +114,7 @@ class ComponentDrag:
     tail_wetted_area_m2: np.ndarray  # both tails
     nacelle_wetted_area_m2: np.ndarray  # all nacelles
     wing_drag_area_m2: np.ndarray
-    fuselage_drag_area_m2: float
+    fuselage_drag_area_m2: float | np.ndarray
     tail_drag_area_m2: np.ndarray
     nacelle_drag_area_m2: np.ndarray
     misc_drag_area_m2: np.ndarray  # gear, struts, cooling, leaks and protuberances

@@ -1,0 +1,143 @@
+"""The cruise altitude as an optional decision variable ([variables] cruise_altitude)."""
+
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from optimiser import sizing
+from optimiser.errors import StudyError
+from optimiser.physics import atmosphere as atm
+from optimiser.study import load_study
+
+ROOT = Path(__file__).resolve().parent.parent
+STUDIES = ["high_strip_utility", "twin_turboprop_commuter", "light_twin_jet"]
+FT = 0.3048  # exact (international foot, 1959)
+
+
+def _random_designs(study, n, seed):
+    rng = np.random.default_rng(seed)
+    x = [rng.uniform(v.lower, v.upper, n) for v in study.variables[:3]]
+    names = study.spec.high_lift_names
+    return (*x, rng.choice([names.index(f) for f in study.flaps], n))
+
+
+def _with_altitude(spec, h):
+    return replace(spec, mission=replace(spec.mission, cruise_altitude_m=float(h)))
+
+
+def _float_columns(out):
+    return [k for k, v in out.items() if np.asarray(v).dtype.kind == "f"]
+
+
+@pytest.mark.parametrize("name", STUDIES)
+def test_per_design_altitude_equals_the_study_sized_at_that_altitude(name):
+    # every stage that reads the cruise air (mission fuel, cruise speed, Reynolds numbers and
+    # compressibility of the drag build-up, wave drag, Oswald factor at the cruise Mach,
+    # propeller diameter from the cruise tip Mach, the structural cruise EAS) must see each
+    # design's own altitude: a batch with four altitudes equals four studies each fixed at
+    # one of them, design by design (to 1e-9 relative; the root solves converge to 1e-9)
+    study = load_study(ROOT / "problems" / f"{name}.toml")
+    spec = study.spec
+    h0 = spec.mission.cruise_altitude_m
+    heights = np.array([0.6, 0.8, 1.0, 1.1]) * min(h0, 11000.0)
+    ws, load, ar, flap = _random_designs(study, 40, 5)
+    h = np.repeat(heights, 10)
+    batch = sizing.size_designs(spec, ws, load, ar, flap, {"cruise_altitude_m": h})
+    np.testing.assert_array_equal(batch["cruise_altitude_m"], h)
+    for j, hj in enumerate(heights):
+        part = slice(10 * j, 10 * j + 10)
+        alone = sizing.size_designs(_with_altitude(spec, hj), ws[part], load[part], ar[part],
+                                    flap[part])
+        for k in _float_columns(alone):
+            np.testing.assert_allclose(np.asarray(batch[k], float)[part], alone[k],
+                                       rtol=1e-9, atol=1e-9, err_msg=f"{name} {k} at {hj} m")
+
+
+def test_cruise_air_follows_each_design_altitude():
+    # U.S. Standard Atmosphere 1976, Table I (geometric altitude): density 1.1117 kg/m^3
+    # at 1000 m and 0.90925 kg/m^3 at 3000 m; each design's cruise states are its own
+    study = load_study(ROOT / "problems" / "high_strip_utility.toml")
+    spec = study.spec
+    ws, load, ar, flap = (np.full(2, v) for v in (900.0, 80.0, 8.0, 0))
+    out = sizing.size_designs(spec, ws, load, ar, flap, {"cruise_altitude_m": [1000.0, 3000.0]})
+    np.testing.assert_allclose(out["density_cruise_kg_m3"], [1.11166, 0.90925], rtol=2e-4)
+    # thinner air at the same true airspeed: a higher cruise lift coefficient
+    rho = atm.isa_density(np.array([1000.0, 3000.0]), spec.mission.cruise_temperature_offset_K)
+    assert out["cruise_lift_coefficient"][1] > out["cruise_lift_coefficient"][0]
+    np.testing.assert_allclose(out["density_cruise_kg_m3"], rho, rtol=1e-12)
+    assert np.all(np.isfinite(out["trip_fuel_kg"]))
+
+
+def _study_text(bounds='["3000 ft", "14000 ft"]'):
+    text = (ROOT / "problems" / "high_strip_utility.toml").read_text(encoding="utf-8")
+    return text.replace("aspect_ratio = [6, 11]\n",
+                        f"aspect_ratio = [6, 11]\ncruise_altitude = {bounds}\n")
+
+
+def test_study_reads_the_bounds_in_its_own_units(tmp_path):
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text(), encoding="utf-8")
+    study = load_study(p)
+    v = study.variable("cruise_altitude_m")
+    assert (v.lower, v.upper) == pytest.approx((3000 * FT, 14000 * FT), rel=1e-12)
+    assert [w.column for w in study.variables][3:] == ["cruise_altitude_m"]
+
+
+@pytest.mark.parametrize("bounds, words", [
+    ('["3000 ft", "60000 ft"]', "[variables] cruise_altitude (upper)"),
+    ('["9000 ft", "3000 ft"]', "[variables] cruise_altitude"),
+    ('[1000, 3000]', "[variables] cruise_altitude (lower)"),
+])
+def test_bad_altitude_bounds_are_one_line_errors(tmp_path, bounds, words):
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text(bounds), encoding="utf-8")
+    with pytest.raises(StudyError) as err:
+        load_study(p)
+    assert words in str(err.value) and "\n" not in str(err.value)
+
+
+def test_mach_limit_is_checked_at_the_highest_altitude(tmp_path):
+    # a fixed true airspeed of 480 kn (246.9 m/s) is Mach 0.781 at 20 000 ft (ISA: T 248.5 K,
+    # a 316.0 m/s) but Mach 0.837 above 11 km (T 216.65 K, a 295.07 m/s; USSA 1976): within
+    # the model's Mach 0.82 at the study's fixed altitude, beyond it at the variable's top
+    text = (ROOT / "problems" / "light_twin_jet.toml").read_text(encoding="utf-8")
+    text = text.replace('cruise_altitude = "37000 ft"', 'cruise_altitude = "20000 ft"')
+    text = text.replace('cruise_speed = "400 kn"', 'cruise_speed = "480 kn"')
+    ar_line = next(line for line in text.splitlines() if line.startswith("aspect_ratio"))
+    p = tmp_path / "j.toml"
+    p.write_text(text, encoding="utf-8")
+    load_study(p)  # fine at its fixed altitude
+    p.write_text(text.replace(ar_line, ar_line + '\ncruise_altitude = ["20000 ft", "41000 ft"]'),
+                 encoding="utf-8")
+    with pytest.raises(StudyError, match=r"\[variables\] cruise_altitude: got Mach 0\.837"):
+        load_study(p)
+
+
+def test_a_run_searches_the_altitude_and_its_files_carry_it(tmp_path):
+    from optimiser.analysis import analyse, frozen_from_table
+    from optimiser.evaluation import evaluate
+    from optimiser.runs import optimise
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text(), encoding="utf-8")
+    study = load_study(p)
+    optimise(study, out=tmp_path / "R", generations=12, seed=3)
+    front = pd.read_csv(tmp_path / "R" / "front.csv")
+    archive = pd.read_csv(tmp_path / "R" / "evaluations.csv")
+    lo, hi = 3000 * FT, 14000 * FT
+    for table in (front, archive):
+        h = table["cruise_altitude_m"].to_numpy()
+        assert np.all((h >= lo - 1e-9) & (h <= hi + 1e-9))
+    assert front["cruise_altitude_m"].std() > 0.0  # the search moves it
+    # the front's numbers come back when its designs are sized again from their inputs
+    again = evaluate(study, front[["wing_loading_N_m2", "power_loading_N_kW", "aspect_ratio",
+                                   "flap", "cruise_altitude_m"]])
+    np.testing.assert_allclose(again["trip_fuel_kg"], front["trip_fuel_kg"], rtol=1e-12)
+    # the frozen airplanes keep their own altitude: at the design case the fuel on board is
+    # the fuel their mission needs (margin 0 to the closure's 1e-6)
+    frozen, flaps = frozen_from_table(study, front)
+    np.testing.assert_allclose(frozen.cruise_altitude_m, front["cruise_altitude_m"], rtol=1e-12)
+    analysed = analyse(study, frozen, flaps)
+    assert np.abs(analysed["margin_mission_fuel"]).max() < 1e-6
