@@ -249,7 +249,8 @@ class ChanceEvaluator:
 def _rows_of(obj, a, b):
     """Designs ``a:b`` of a dataclass of per-design arrays."""
     return dataclasses.replace(obj, **{f.name: getattr(obj, f.name)[a:b]
-                                       for f in dataclasses.fields(obj)})
+                                       for f in dataclasses.fields(obj)
+                                       if getattr(obj, f.name) is not None})
 
 
 def _repeated(obj, times: int):

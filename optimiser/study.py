@@ -427,7 +427,7 @@ def _certification(rd: _Reader, raw: dict, basis, family, prop, req, mis) -> tup
                     dispatch) if "destination" in raw else _airfield(
         rd, "departure", {k: v for k, v in raw["departure"].items() if k != "obstacle_height"},
         performance.OBSTACLE_HEIGHT["part23"], dispatch)  # the departure, landing back
-    _check_cruise_mach(rd, "[mission] cruise_speed", mis, mis.cruise_altitude_m)
+    _check_cruise_mach(rd, "[mission] cruise_speed", mis, mis.cruise_altitude_m, "")
     if mis.cruise_speed_m_s < 1.05 * req.stall_speed_m_s:
         rd.fail("[mission] cruise_speed", f"got {mis.cruise_speed_m_s:.1f} m/s; expected well "
                 f"above the stall-speed limit {req.stall_speed_m_s:.1f} m/s")
@@ -489,14 +489,14 @@ def _airfield(rd, section, raw, default_obstacle, dispatch_landing=False):
                    braking_friction=brake if af.braking_friction is None else af.braking_friction)
 
 
-def _check_cruise_mach(rd, where, mis, altitude_m):
+def _check_cruise_mach(rd, where, mis, altitude_m, which):
     """The cruise speed's Mach number at ``altitude_m`` [m] within :data:`MAX_CRUISE_MACH`
     (the speed of sound falls with altitude up to the tropopause: the highest altitude of a
     variable's bounds is the one to check)."""
     mach = mis.cruise_speed_m_s / float(atmosphere.speed_of_sound(atmosphere.isa_temperature(
         altitude_m, mis.cruise_temperature_offset_K)))
     if mach > MAX_CRUISE_MACH:
-        rd.fail(where, f"got Mach {mach:.3f} at the cruise altitude {altitude_m:.0f} m; "
+        rd.fail(where, f"got Mach {mach:.3f} at the cruise altitude{which}; "
                 f"expected at most Mach {MAX_CRUISE_MACH} (the range of the Oswald-factor and "
                 "wave-drag estimates)")
 
@@ -524,7 +524,8 @@ def _read_variables(rd, raw, spec, catalogue):
         if k in raw:
             column, unit, lo_ok, hi_ok = VARIABLE_UNITS[k]
             lo, hi = _bounds(rd, k, raw[k], unit, lo_ok, hi_ok)
-            _check_cruise_mach(rd, f"[variables] {k}", spec.mission, hi)
+            _check_cruise_mach(rd, f"[variables] {k}", spec.mission, hi,
+                               f" {hi:.0f} m (the upper bound)")
             out.append(Variable(key=k, column=column, lower=lo, upper=hi))
     flaps_raw = raw.get("flaps", ["none", "plain", "single_slotted", "fowler"])
     if isinstance(flaps_raw, str):

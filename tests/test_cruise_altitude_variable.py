@@ -112,7 +112,7 @@ def test_mach_limit_is_checked_at_the_highest_altitude(tmp_path):
     load_study(p)  # fine at its fixed altitude
     p.write_text(text.replace(ar_line, ar_line + '\ncruise_altitude = ["20000 ft", "41000 ft"]'),
                  encoding="utf-8")
-    with pytest.raises(StudyError, match=r"\[variables\] cruise_altitude: got Mach 0\.837"):
+    with pytest.raises(StudyError, match=r"\[variables\] cruise_altitude: got Mach 0\.837 at the cruise altitude 12497 m \(the upper bound\)"):
         load_study(p)
 
 

@@ -16,7 +16,7 @@ import pytest
 
 from optimiser.evaluation import size_frame
 from optimiser.sizing import MODEL_RANGES, checked_constraints, size_designs
-from optimiser.sizing.inputs import range_margin
+from optimiser.sizing.inputs import CRUISE_ALTITUDE_MAX_M, range_margin
 from optimiser.study import StudyError, VARIABLE_UNITS, load_study
 
 PROBLEMS = Path(__file__).resolve().parents[1] / "problems"
@@ -31,6 +31,9 @@ def utility():
 def test_the_study_bounds_are_the_model_ranges():
     # one table: the study refuses bounds outside the very ranges the model flags
     for key, (column, _, lo, hi) in VARIABLE_UNITS.items():
+        if key == "cruise_altitude":  # an override of the sizing, bounded by the same 15 km
+            assert (lo, hi) == (0.0, CRUISE_ALTITUDE_MAX_M)  # as [mission] cruise_altitude
+            continue
         assert (lo, hi) == (MODEL_RANGES[column].lower, MODEL_RANGES[column].upper), key
     for r in MODEL_RANGES.values():
         assert r.reason.strip() and "\n" not in r.reason and 0 < r.lower < r.upper

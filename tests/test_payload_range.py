@@ -47,7 +47,8 @@ def _analysed_at(spec, frozen, rows):
     time: the range is a study-wide condition)."""
     out = []
     for i in range(frozen.size):
-        one = type(frozen)(*(getattr(frozen, f)[i:i + 1] for f in frozen.__slots__))
+        one = type(frozen)(*(None if getattr(frozen, f) is None else getattr(frozen, f)[i:i + 1]
+                         for f in frozen.__slots__))
         s = case_spec(spec, range_m=float(rows["range_km"][i]) * 1e3)
         masses = operating_masses(s, one, rows["takeoff_mass_kg"][i], rows["payload_kg"][i])
         out.append(analyse_designs(s, one, masses))

@@ -64,6 +64,8 @@ def air_states(spec: AircraftSpec, overrides=None) -> AirStates:
     spec : AircraftSpec
         Resolved study: airfield elevations [m] and temperature offsets [K], cruise altitude
         [m], offset [K] and true airspeed [m s^-1].
+    overrides : dict, optional
+        Per-design values; ``cruise_altitude_m`` [m] makes the cruise states per design.
 
     Returns
     -------
