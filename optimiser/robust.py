@@ -256,14 +256,15 @@ def spread_table(values_kg, nominal_kg: float, n: int, seed: int):
         "samples": n, "seed": seed}])
 
 
-def design_label(study, design_row, units="si") -> str:
-    """A one-line description of a design (inputs only); ``units="us"`` shows the loadings
-    in lbf/ft² and lbf/hp (:mod:`optimiser.display_units`), SI (the default) as they are."""
-    from .display_units import SI, column_display
+def design_label(study, design_row, units=None) -> str:
+    """A one-line description of a design (inputs only); ``units`` ``"si"`` or ``"us"``
+    (loadings in lbf/ft² and lbf/hp; default :func:`~optimiser.display_units.current_system`)."""
+    from .display_units import SI, column_display, resolve
+    system = resolve(units)
     load = study.loading_column
-    wing, wing_unit = column_display("wing_loading_N_m2", design_row["wing_loading_N_m2"], units)
-    loading, unit = column_display(load, design_row[load], units)
-    digits = ".0f" if units == SI else ".1f"   # 1 lbf/ft² is about 48 N/m²
+    wing, wing_unit = column_display("wing_loading_N_m2", design_row["wing_loading_N_m2"], system)
+    loading, unit = column_display(load, design_row[load], system)
+    digits = ".0f" if system == SI else ".1f"   # 1 lbf/ft² is about 48 N/m²
     return (f"W/S {wing:{digits}} {wing_unit}, "
             f"{'W/P' if unit else 'T/W'} {loading:.4g}{' ' + unit if unit else ''}, "
             f"AR {design_row['aspect_ratio']:.3g}, flap {design_row['flap']}")

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..display_units import column_display, column_values, current_system, display_label
+from ..display_units import column_display, column_values, display_label
 from ..robust import design_label
 from . import palette
 from .figures import finish_layout, pyplot, save
@@ -69,8 +69,7 @@ def _spread(plt, study, result, column, t, title, path):
             label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} {unit}")
     ax.set_xlabel(display_label(column))
     ax.set_ylabel("number of samples")
-    ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0], current_system())}",
-                 fontsize=10)
+    ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0])}", fontsize=10)
     if frozen:
         ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0.0, -0.14), ncol=2,
                   frameon=False)
