@@ -56,7 +56,7 @@ def cmd_sensitivity(args) -> int:
     refuse_existing(out, args.force, "sensitivities")
     wing, wing_unit = column_display("wing_loading_N_m2", float(design["wing_loading_N_m2"]))
     title = (f"{study.name}: sensitivities of the {which.replace('-', ' ')} design "
-             f"({design['flap']}, W/S {wing:.0f} {wing_unit}), "
+             f"({design['flap']}, W/S {wing:.{0 if wing_unit == 'N/m²' else 1}f} {wing_unit}), "
              f"central differences, steps ±{step:.0%}")
     objectives = list(study.objective_columns())
     with files.new_folder(out, "the sensitivities") as tmp:

@@ -191,7 +191,9 @@ def decision_variables(study, front, run_utc=None, units=None):
     for v in vars_:
         name = display_label(v.column, system)
         lower, upper = _shown(v.column, v.lower, system), _shown(v.column, v.upper, system)
-        labels.append(f"{name}\n{lower:g} to {upper:g}" + (" (fixed)" if v.fixed else ""))
+        digits = "g" if system == SI else ".4g"   # converted bounds: four digits
+        labels.append(f"{name}\n{lower:{digits}} to {upper:{digits}}"
+                      + (" (fixed)" if v.fixed else ""))
     labels.append("flap type\n(study list order)")
     ax.set_xticks(xs, labels, fontsize=7)
     ax.set_ylabel("position within bounds [-] (0 = lower, 1 = upper)")
