@@ -424,6 +424,10 @@ def build_parser() -> argparse.ArgumentParser:
     add_sensitivity_parser(sub).set_defaults(func=cmd_sensitivity)
     from .cli_payload_range import add_payload_range_parser, cmd_payload_range
     add_payload_range_parser(sub).set_defaults(func=cmd_payload_range)
+    for command in sub.choices.values():   # also after the command: 'optimiser pick RUN --units us'
+        command.add_argument("--units", metavar="{si,us}", default=argparse.SUPPRESS,
+                             help="units of what you read, as 'optimiser --units': si or us "
+                             "(default: OPTIMISER_UNITS, else si)")
     return p
 
 

@@ -54,8 +54,9 @@ def cmd_sensitivity(args) -> int:
     out = Path(args.out) if args.out else Path(args.run_dir) / (names.SENSITIVITY_DIR_PREFIX
                                                                 + which)
     refuse_existing(out, args.force, "sensitivities")
+    wing, wing_unit = column_display("wing_loading_N_m2", float(design["wing_loading_N_m2"]))
     title = (f"{study.name}: sensitivities of the {which.replace('-', ' ')} design "
-             f"({design['flap']}, W/S {float(design['wing_loading_N_m2']):.0f} N/m²), "
+             f"({design['flap']}, W/S {wing:.{0 if wing_unit == 'N/m²' else 1}f} {wing_unit}), "
              f"central differences, steps ±{step:.0%}")
     objectives = list(study.objective_columns())
     with files.new_folder(out, "the sensitivities") as tmp:

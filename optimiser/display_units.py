@@ -86,6 +86,8 @@ US_CONVERSIONS = {
     "kN": Conversion("lbf", POUND_FORCE_N / 1000.0),
     "kW": Conversion("hp", HORSEPOWER_W / 1000.0),
     "km": Conversion("nmi", NAUTICAL_MILE_M / 1000.0),  # ranges (payload-range corners)
+    "kg/(N s)": Conversion("lb/(lbf h)", POUND_KG / (POUND_FORCE_N * 3600.0)),  # jet TSFC
+    "kg/J": Conversion("lb/(hp h)", POUND_KG / (HORSEPOWER_W * 3600.0)),  # shaft-engine SFC
     "K abs": Conversion("degF", 5.0 / 9.0, -459.67),   # absolute temperature, with offset
 }
 """SI unit (as written in :mod:`optimiser.columns`) -> its US customary display."""
@@ -200,6 +202,12 @@ def column_display(column: str, values, system=None):
         return values, ""
     shown, unit = to_display(values, c.unit, system, column)
     return shown, display_unit(unit)
+
+
+def column_values(column: str, values, system=None):
+    """The values of :func:`column_display` alone: what a figure plots (SI: the very same
+    object)."""
+    return column_display(column, values, system)[0]
 
 
 def display_label(column_name: str, system=None) -> str:

@@ -54,7 +54,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .columns import CONSTRAINT_LABELS, unit_of
+from .columns import CONSTRAINT_LABELS
 from .uncertainty import (DEFAULT_SAMPLES, DISTRIBUTIONS, EFFICIENCY_CAP,  # noqa: F401
                           FACTOR_FLOOR, FACTOR_RANGE, MAX_SAMPLES, MAX_STD,
                           UNCERTAIN_ASSUMPTIONS, Z95, overrides_from_factors, read_uncertainty,
@@ -260,12 +260,17 @@ def spread_table(values_kg, nominal_kg: float, n: int, seed: int):
         "samples": n, "seed": seed}])
 
 
-def design_label(study, design_row) -> str:
-    """A one-line description of a design (inputs only)."""
+def design_label(study, design_row, units=None) -> str:
+    """A one-line description of a design (inputs only); ``units`` ``"si"`` or ``"us"``
+    (loadings in lbf/ft² and lbf/hp; default :func:`~optimiser.display_units.current_system`)."""
+    from .display_units import SI, column_display, resolve
+    system = resolve(units)
     load = study.loading_column
-    unit = unit_of(load)
-    return (f"W/S {design_row['wing_loading_N_m2']:.0f} N/m², "
-            f"{'W/P' if unit else 'T/W'} {design_row[load]:.4g}{' ' + unit if unit else ''}, "
+    wing, wing_unit = column_display("wing_loading_N_m2", design_row["wing_loading_N_m2"], system)
+    loading, unit = column_display(load, design_row[load], system)
+    digits = ".0f" if system == SI else ".1f"   # 1 lbf/ft² is about 48 N/m²
+    return (f"W/S {wing:{digits}} {wing_unit}, "
+            f"{'W/P' if unit else 'T/W'} {loading:.4g}{' ' + unit if unit else ''}, "
             f"AR {design_row['aspect_ratio']:.3g}, flap {design_row['flap']}")
 
 

@@ -241,3 +241,49 @@ def test_carpet_plot_draws_every_combination_infeasible_ones_hatched(tmp_path):
     assert len(cells) == 6 and "no feasible\ndesign\n(takeoff field)" in cells
     assert "310 kg\n420 kW" in cells
     pyplot().close(fig)
+
+
+def test_carpet_and_sweep_figures_in_us_units(tmp_path, monkeypatch):
+    """--units us: trip fuel in lb and engine power in hp (1 lb = 0.45359237 kg, 1 hp =
+    550 ft lbf/s = 0.74569987158227022 kW; NIST SP 811 (2008), Appendix B, from memory);
+    the swept field length keeps the study's own unit."""
+    from optimiser.display_units import using
+    from optimiser.report import campaign_plots
+    from optimiser.report.campaign_plots import carpet_plot
+    from optimiser.report.figures import pyplot
+    lb, hp_kw = 0.45359237, 550 * 0.3048 * 0.45359237 * 9.80665 / 1000
+    c = _three_fields(tmp_path)
+    trip, power = np.array(KNOWN_TRIP), np.array(KNOWN_POWER)
+    summary = pd.DataFrame({"combination": [k.name for k in c.combinations],
+                            "picked_trip_fuel_kg": trip, "picked_engine_power_kW": power,
+                            "min_trip_fuel_kg": trip - 5, "min_engine_power_kW": power - 10,
+                            "note": "", "status": "finished"})
+    figs = []
+    monkeypatch.setattr(campaign_plots, "save", lambda fig, stem, **kw: figs.append(fig) or [])
+    with using("us"):
+        fig = carpet_plot(c, summary)
+        campaign_plots.plot_campaign(c, summary, tmp_path)
+    figs.append(fig)
+    try:
+        carpet, grid = fig.axes[0], fig.axes[1]
+        assert carpet.get_xlabel() == ("installed engine power, all engines [hp] of the picked "
+                                       "design")
+        assert carpet.get_ylabel() == "trip fuel [lb] of the picked design"
+        drawn = {(x, y) for line in carpet.get_lines()
+                 for x, y in zip(line.get_xdata(), line.get_ydata())}
+        expected = set(zip(power / hp_kw, trip / lb))
+        assert len(drawn) == 6 and all(any(np.isclose(x, ex, rtol=1e-12) and
+                                           np.isclose(y, ey, rtol=1e-12) for ex, ey in expected)
+                                       for x, y in drawn)
+        cells = [t.get_text() for t in grid.texts]
+        assert f"{310 / lb:.0f} lb\n{420 / hp_kw:.0f} hp" == "683 lb\n563 hp" and \
+            "683 lb\n563 hp" in cells
+        sweep = figs[0]   # the first axis (field length): trip fuel, then engine size
+        assert sweep.axes[0].get_ylabel() == "trip fuel [lb]"
+        assert sweep.axes[1].get_ylabel() == "installed engine power, all engines [hp]"
+        assert "[m]" in sweep.axes[0].get_xlabel()
+        ys = np.concatenate([l.get_ydata() for l in sweep.axes[0].get_lines()])
+        assert np.isclose(ys, 310 / lb, rtol=1e-12).any() and not np.isclose(ys, 310).any()
+    finally:
+        for f in figs:
+            pyplot().close(f)

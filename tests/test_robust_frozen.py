@@ -182,3 +182,7 @@ def test_us_units_show_the_fuel_spread_in_pounds(tmp_path, capsys):
     mean_kg = float(_re.search(r"trip fuel \[kg\]: nominal [0-9.]+, mean ([0-9.]+)", si).group(1))
     mean_lb = float(_re.search(r"trip fuel \[lb\]: nominal [0-9.]+, mean ([0-9.]+)", us).group(1))
     assert mean_lb == pytest.approx(mean_kg / 0.45359237, abs=0.15)  # both printed to 0.1
+    # the design line too: 800 N/m^2 / 47.88025898033584 = 16.7 lbf/ft^2, 73 N/kW / (4.4482216152605
+    # N / 0.74569987158227022 kW) = 12.24 lbf/hp (NIST SP 811 (2008), Appendix B, from memory)
+    assert "robustness of W/S 16.7 lbf/ft², W/P 12.24 lbf/hp, AR 8.1" in us
+    assert "robustness of W/S 800 N/m², W/P 73 N/kW, AR 8.1" in si

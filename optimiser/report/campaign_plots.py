@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ..campaign import pick_text, short_value
-from ..columns import plot_label
+from ..display_units import column_display, column_values, display_label
 from . import palette
 from .figures import finish_layout, pyplot, save
 
@@ -58,15 +58,18 @@ def plot_campaign(campaign, summary, folder) -> list:
                              enumerate(zip(campaign.axes, rest)) if j != ai)
             colour = palette.cycle_colour(n)
             order = np.argsort(x_all)
-            for ax, picked, least in ((axs[0], "picked_trip_fuel_kg", "min_trip_fuel_kg"),
-                                      (axs[1], f"picked_{size}", f"min_{size}")):
-                y = rows[picked].to_numpy(float) if picked in rows else np.full(len(idx), np.nan)
-                y2 = rows[least].to_numpy(float) if least in rows else np.full(len(idx), np.nan)
+            for ax, column in ((axs[0], "trip_fuel_kg"), (axs[1], size)):
+                picked, least = f"picked_{column}", f"min_{column}"
+                y = column_values(column, rows[picked].to_numpy(float)) if picked in rows \
+                    else np.full(len(idx), np.nan)
+                y2 = column_values(column, rows[least].to_numpy(float)) if least in rows \
+                    else np.full(len(idx), np.nan)
                 ax.plot(x_all[order], y[order], "o-", color=colour,
                         label=f"picked design{', ' + held if held else ''}")
                 ax.plot(x_all[order], y2[order], "s--", color=colour, alpha=0.6, ms=4,
                         label=f"smallest on the front{', ' + held if held else ''}")
-        for ax, ylabel in ((axs[0], plot_label("trip_fuel_kg")), (axs[1], plot_label(size))):
+        for ax, ylabel in ((axs[0], display_label("trip_fuel_kg")),
+                           (axs[1], display_label(size))):
             ax.set_xlabel(axis_label(axis))
             ax.set_ylabel(ylabel)
             ax.grid(alpha=0.3)
@@ -107,6 +110,9 @@ def carpet_plot(campaign, summary):
             trip[i, j], eng[i, j] = float(t), float(e)
         else:
             notes[(i, j)] = str(row.get("note", "") or row.get("status", ""))
+    # the reader's units (current_system); the swept requirements' own axes keep the study's
+    trip, eng = column_values("trip_fuel_kg", trip), column_values(size, eng)
+    trip_unit, size_unit = column_display("trip_fuel_kg", 0.0)[1], column_display(size, 0.0)[1]
     fig, (ax, ax2) = plt.subplots(1, 2, figsize=(14.5, 5.6),
                                   gridspec_kw={"width_ratios": [1.35, 1]})
     for i in range(n0):   # lines of constant first-axis value
@@ -130,8 +136,8 @@ def carpet_plot(campaign, summary):
     if notes:
         ax.plot([], [], ls="", marker="x", color="k",
                 label=f"{len(notes)} combination(s) with no feasible design: see the grid")
-    ax.set_xlabel(plot_label(size) + " of the picked design")
-    ax.set_ylabel(plot_label("trip_fuel_kg") + " of the picked design")
+    ax.set_xlabel(display_label(size) + " of the picked design")
+    ax.set_ylabel(display_label("trip_fuel_kg") + " of the picked design")
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(0.0, -0.14), ncol=3, frameon=False)
     ax.set_title("carpet: each point one combination of the two requirements", fontsize=9)
@@ -148,7 +154,7 @@ def carpet_plot(campaign, summary):
                 text = "no feasible\ndesign" + (f"\n({failing.group(1).replace('_', ' ')})"
                                                 if failing else "")
             else:
-                text = f"{trip[i, j]:.0f} kg\n{eng[i, j]:.0f} {plot_label(size).split('[')[-1][:-1]}"
+                text = f"{trip[i, j]:.0f} {trip_unit}\n{eng[i, j]:.0f} {size_unit}"
             dark = (i, j) not in notes and np.nanmax(trip) > np.nanmin(trip) and \
                 (trip[i, j] - np.nanmin(trip)) / (np.nanmax(trip) - np.nanmin(trip)) > 0.6
             ax2.text(j, i, text, ha="center", va="center", fontsize=7,
@@ -157,7 +163,7 @@ def carpet_plot(campaign, summary):
     ax2.set_yticks(range(n0), [short_value(v) for v in a0.values], fontsize=8)
     ax2.set_xlabel(axis_label(a1))
     ax2.set_ylabel(axis_label(a0))
-    fig.colorbar(im, ax=ax2, label=plot_label("trip_fuel_kg") + " of the picked design")
+    fig.colorbar(im, ax=ax2, label=display_label("trip_fuel_kg") + " of the picked design")
     ax2.set_title("every combination (hatched: no feasible design)", fontsize=9)
     fig.suptitle(f"campaign {campaign.name}: the picked design across both requirements "
                  f"(picked: {pick_text(campaign.pick)})", fontsize=9)

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..columns import plot_label
+from ..display_units import SI, column_values, current_system, display_label
 from . import palette
 from .figures import finish_layout, pyplot, save
 
@@ -16,15 +16,20 @@ RUN_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
 
 def compare_fronts(cmp):
     """Fronts of the compared runs in the first two shared objectives, one colour and marker
-    per run, each run's 2-objective staircase drawn, its knee design ringed."""
+    per run, each run's 2-objective staircase drawn, its knee design ringed; in the reader's
+    units (:func:`~optimiser.display_units.current_system`; the tables stay SI)."""
     from .plots import LEGEND_OUTSIDE, _staircase
     plt = pyplot()
     ycol, xcol = cmp.objectives[0], cmp.objectives[1]
+    converted = current_system() != SI
     fig, ax = plt.subplots(figsize=(10.2, 5.4))
     for k, (label, run) in enumerate(zip(cmp.labels, cmp.runs)):
         colour = palette.cycle_colour(k)
         marker = RUN_MARKERS[k % len(RUN_MARKERS)]
         front = run.front
+        if converted and len(front):
+            front = front.assign(**{c: column_values(c, front[c].to_numpy(float))
+                                    for c in (xcol, ycol)})
         if not len(front):
             ax.plot([], [], ls="", marker="x", color=colour, label=f"{label}: no feasible design")
             continue
@@ -33,12 +38,13 @@ def compare_fronts(cmp):
         ax.step(stairs[:, 0], stairs[:, 1], where="post", color=colour, lw=1.6,
                 label=f"{label} ({run.study.name}, {len(front)} designs)")
         row = cmp.summary.iloc[k]
-        ax.scatter([row[f"knee_{xcol}"]], [row[f"knee_{ycol}"]], s=140, facecolor="none",
+        knee = column_values(xcol, row[f"knee_{xcol}"]), column_values(ycol, row[f"knee_{ycol}"])
+        ax.scatter([knee[0]], [knee[1]], s=140, facecolor="none",
                    edgecolor=colour, linewidth=2.0, zorder=4)
     ax.scatter([], [], s=140, facecolor="none", edgecolor="k", linewidth=2.0,
                label="ringed: each run's knee design")
-    ax.set_xlabel(plot_label(xcol))
-    ax.set_ylabel(plot_label(ycol))
+    ax.set_xlabel(display_label(xcol))
+    ax.set_ylabel(display_label(ycol))
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7, title="run", title_fontsize=7, **LEGEND_OUTSIDE)
     ax.set_title("fronts compared (line: each run's designs that none of its others beats in "

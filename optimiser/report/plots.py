@@ -162,10 +162,13 @@ def front_view(study, front, run_utc=None, units=None):
     return fig
 
 
-def decision_variables(study, front, run_utc=None):
+def decision_variables(study, front, run_utc=None, units=None):
     """Parallel coordinates of the front's decision variables, each axis normalised to its
-    bounds (labelled with the bounds and units); the flap type is the last axis."""
+    bounds (labelled with the bounds and units); the flap type is the last axis. ``units``:
+    ``"si"`` or ``"us"`` for the bounds and units of the labels (default: the current
+    system); the positions within the bounds are the same in both."""
     plt = pyplot()
+    system = resolve(units)
     fig, ax = plt.subplots(figsize=(10, 4.8))
     vars_ = list(study.variables)
     flaps = list(study.flaps)
@@ -186,8 +189,11 @@ def decision_variables(study, front, run_utc=None):
         seen.add(flap)
     labels = []
     for v in vars_:
-        name = plot_label(v.column)
-        labels.append(f"{name}\n{v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
+        name = display_label(v.column, system)
+        lower, upper = _shown(v.column, v.lower, system), _shown(v.column, v.upper, system)
+        digits = "g" if system == SI else ".4g"   # converted bounds: four digits
+        labels.append(f"{name}\n{lower:{digits}} to {upper:{digits}}"
+                      + (" (fixed)" if v.fixed else ""))
     labels.append("flap type\n(study list order)")
     ax.set_xticks(xs, labels, fontsize=7)
     ax.set_ylabel("position within bounds [-] (0 = lower, 1 = upper)")
@@ -401,13 +407,16 @@ def design_constraint_diagram(study, design, label="chosen design", n=60, ax=Non
     return fig
 
 
-def flap_fronts(study, fronts, table, run_utc=None):
+def flap_fronts(study, fronts, table, run_utc=None, units=None):
     """Per-flap-option fronts overlaid: trip fuel against engine size (the 2-objective
     non-dominated subset of each option's front as a line, all its front designs as dots),
     and, beside it, the best of each objective per option. Options with no feasible design
-    are named in the legend with the failing constraint."""
+    are named in the legend with the failing constraint. ``units``: ``"si"`` or ``"us"``
+    for the plotted data, the trip-fuel penalties and the labels (default: the current
+    system); the envelopes are found in SI and converted."""
     from ..flaps import lower_envelope
     plt = pyplot()
+    system = resolve(units)
     eng = study.engine_size_column
     fig, (ax, ax2) = plt.subplots(1, 2, figsize=(14.5, 5.2),
                                   gridspec_kw={"width_ratios": [1.5, 1]})
@@ -423,15 +432,17 @@ def flap_fronts(study, fronts, table, run_utc=None):
                           f"{r['best_margin_failing']:+.0%} at best)")
             continue
         env = lower_envelope(fr[eng], fr["trip_fuel_kg"])
-        ax.scatter(fr[eng], fr["trip_fuel_kg"], s=10, color=st["color"], marker=st["marker"],
-                   alpha=0.45)
+        ax.scatter(_shown(eng, fr[eng], system), _shown("trip_fuel_kg", fr["trip_fuel_kg"],
+                                                        system),
+                   s=10, color=st["color"], marker=st["marker"], alpha=0.45)
         ref = " (reference)" if r["reference_option"] else ""
-        ax.plot(env[:, 0], env[:, 1], ls=st["ls"], marker=st["marker"], ms=4, lw=1.8,
+        ax.plot(_shown(eng, env[:, 0], system), _shown("trip_fuel_kg", env[:, 1], system),
+                ls=st["ls"], marker=st["marker"], ms=4, lw=1.8,
                 color=st["color"],
                 label=f"{words}{ref}: HV {r['hypervolume']:.3f}, "
                       f"{r['share_of_combined_front']:.0%} of combined front")
-    ax.set_xlabel(plot_label(eng))
-    ax.set_ylabel(plot_label("trip_fuel_kg"))
+    ax.set_xlabel(display_label(eng, system))
+    ax.set_ylabel(display_label("trip_fuel_kg", system))
     ax.grid(alpha=0.3)
     ax.set_title("fronts per flap option, same constraints and budget\n(line: trip fuel "
                  "against engine size front of the option)", fontsize=9)
@@ -442,8 +453,10 @@ def flap_fronts(study, fronts, table, run_utc=None):
     ax2.barh(y, mi, color=[palette.flap_style(f)["color"] for f in flaps])
     for yi, f in zip(y, flaps):
         r = rows[f]
+        extra, extra_unit = column_display("trip_fuel_kg",
+                                           r["extra_trip_fuel_at_equal_engine_kg"], system)
         txt = ("no feasible design" if not r["feasible_found"] else
-               f"trip fuel {r['extra_trip_fuel_at_equal_engine_kg']:+.1f} kg at equal engine"
+               f"trip fuel {extra:+.1f} {extra_unit} at equal engine"
                if not r["reference_option"] and np.isfinite(
                    r["extra_trip_fuel_at_equal_engine_kg"]) else
                "reference" if r["reference_option"] else "no common engine size")

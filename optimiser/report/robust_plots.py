@@ -9,7 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..columns import plot_label
+from ..display_units import column_display, column_values, display_label
 from ..robust import design_label
 from . import palette
 from .figures import finish_layout, pyplot, save
@@ -50,21 +50,24 @@ def plot_robustness(study, result, folder):
 
 
 def _spread(plt, study, result, column, t, title, path):
-    """Histogram of one mass column of the samples with its nominal, mean, 5 % and 95 %."""
-    values = result.samples[column].to_numpy(float)
+    """Histogram of one mass column of the samples with its nominal, mean, 5 % and 95 %, in
+    the reader's units (:func:`~optimiser.display_units.current_system`; SI: as they are)."""
+    _, unit = column_display(column, 0.0)
+    values = column_values(column, result.samples[column].to_numpy(float))
+    t = {k: column_values(column, t[k]) for k in ("nominal_kg", "mean_kg", "p5_kg", "p95_kg")}
     frozen = result.mode == "frozen"
     fig, ax = plt.subplots(figsize=(7.8, 5.2) if frozen else (7, 4.4))  # room for the footer
     ax.hist(values, bins=60, color=palette.ROBUST_HISTOGRAM, edgecolor="white", linewidth=0.4,
             label=f"{result.n_samples} samples")
     ax.axvline(t["nominal_kg"], color=palette.ROBUST_NOMINAL, lw=1.5,
-               label=f"study's values {t['nominal_kg']:.1f} kg")
+               label=f"study's values {t['nominal_kg']:.1f} {unit}")
     ax.axvline(t["mean_kg"], color=palette.ROBUST_MEAN, lw=1.2, ls="--",
-               label=f"mean {t['mean_kg']:.1f} kg")
+               label=f"mean {t['mean_kg']:.1f} {unit}")
     for q, ls in (("p5_kg", ":"), ("p95_kg", ":")):
         ax.axvline(t[q], color=palette.ROBUST_QUANTILES, lw=1.0, ls=ls)
     ax.plot([], [], color=palette.ROBUST_QUANTILES, ls=":",
-            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} kg")
-    ax.set_xlabel(plot_label(column))
+            label=f"5 % and 95 %: {t['p5_kg']:.1f}, {t['p95_kg']:.1f} {unit}")
+    ax.set_xlabel(display_label(column))
     ax.set_ylabel("number of samples")
     ax.set_title(f"{title}\n{design_label(study, result.design.iloc[0])}", fontsize=10)
     if frozen:
