@@ -123,7 +123,7 @@ def run_flaps(args) -> int:
                           "a folder written by 'optimiser run'")
     table, fronts = compare_flaps(run)
     out = write_flaps(run, table, fronts, force=args.force)
-    print(flaps_summary(run.study, table, out))
+    print(flaps_summary(run.study, table, out, units=getattr(args, "units", None)))
     return 0
 
 

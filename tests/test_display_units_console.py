@@ -84,3 +84,45 @@ def test_study_entry_texts_in_us_units():
     assert shown_text(tsfc, "us") == "0.72 lb/lbf/h"
     assert float(shown_text(tsfc, "us").split()[0]) == pytest.approx(
         tsfc.value * LBF * 3600 / LB, rel=1e-6)
+
+
+@pytest.fixture(scope="module")
+def tiny_run(tmp_path_factory):
+    import optimiser
+    from optimiser.study import load_study
+    study = load_study(bundled_study_path())
+    out = tmp_path_factory.mktemp("units_console") / "run"
+    result = optimiser.optimise(study, out=out, population=24, generations=4, plots=False)
+    return study, result
+
+
+def _row_numbers(text, flap):
+    """The numbers of a flap's row of the printed flap comparison."""
+    line = next(l for l in text.splitlines() if l.startswith(flap + " "))
+    return [float(x.replace(",", "")) for x in line.split()[2:9]]
+
+
+def test_flaps_console_and_sheet_in_us_units(tiny_run, capsys):
+    import pandas as pd
+    study, result = tiny_run
+    run = str(result.run_dir)
+    si = _check(capsys, "flaps", run)
+    table = pd.read_csv(result.run_dir / "flaps" / "flaps.csv")
+    us = _check(capsys, "--units", "us", "flaps", run, "--force")
+    assert "best fuel kg" in si and "best eng kW" in si
+    head = us.splitlines()[1]
+    assert "best fuel lb" in head and "best eng hp" in head and "+eng @fuel hp" in head
+    # flaps.csv is SI either way (same search, same bytes)
+    assert pd.read_csv(result.run_dir / "flaps" / "flaps.csv").equals(table)
+    r = table.iloc[0]
+    fuel, engine, _mi, _share, _hv, extra_fuel, extra_engine = _row_numbers(us, r["flap"])
+    # 1 lb = 0.45359237 kg; 1 hp = 0.74569987158227022 kW; the table shows 4 digits (_fmt)
+    assert fuel == pytest.approx(r["best_trip_fuel_kg"] / LB, abs=0.05)
+    assert engine == pytest.approx(r["best_engine_power_kW"] / HP_KW, abs=0.05)
+    assert extra_fuel == pytest.approx(r["extra_trip_fuel_at_equal_engine_kg"] / LB,
+                                       rel=1e-3, abs=0.05)
+    assert extra_engine == pytest.approx(r["extra_engine_at_equal_trip_fuel_kW"] / HP_KW,
+                                         rel=1e-3, abs=0.05)
+    md = (result.run_dir / "flaps" / "flaps.md").read_text(encoding="utf-8")
+    assert "best trip fuel [lb]" in md and "Numbers in US customary units" in md
+    assert us.splitlines()[-1] == si.splitlines()[-1]   # the caution

@@ -310,22 +310,7 @@ def _flaps_section(run) -> str:
     from . import plots, sheet
     study = run.study
     table, fronts = compare_flaps(run)
-    eng_unit = unit_of(study.engine_size_column)
-    rows = []
-    for _, r in table.iterrows():
-        rows.append([r["flap"] + (" (reference)" if r["reference_option"] else ""),
-                     "yes" if r["feasible_found"] else
-                     f"no: {r['failing_constraint']} {r['best_margin_failing']:+.1%} at best",
-                     *[sheet._fmt(r[f"best_{c}"]) for c in study.objective_columns()],
-                     f"{r['share_of_combined_front']:.0%}", f"{r['hypervolume']:.3f}",
-                     sheet._fmt(r["extra_trip_fuel_at_equal_engine_kg"]),
-                     sheet._fmt(r[f"extra_engine_at_equal_trip_fuel_{eng_unit}"]),
-                     r["note"]])
-    head = ["flap", "feasible", *[f"best {heading(c)}"
-                                  for c in study.objective_columns()],
-            "share of combined front", "hypervolume",
-            "extra trip fuel at equal engine size [kg]",
-            f"extra engine size at equal trip fuel [{eng_unit}]", "note"]
+    head, rows = sheet.flaps_cells(study, table, percentages=False)
     return ("<section id='flaps'><h2>Flap options compared</h2>"
             "<p>Each flap option had its own NSGA-II with the same population, generations and "
             "seed stream, under the same constraints. Penalties are against the option with the "
