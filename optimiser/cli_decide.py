@@ -158,6 +158,6 @@ def run_compare(args) -> int:
     cmp = compare_runs(args.run_dirs)
     out = Path(args.out) if args.out else timestamped_dir("compare")
     written = write_comparison(cmp, out, force=args.force)
-    print(summary_text(cmp))
+    print(summary_text(cmp, units=getattr(args, "units", None)))
     print(f"wrote {written}/ (compare.csv, study_changes.csv, fronts.png/.svg)")
     return 0

@@ -126,3 +126,29 @@ def test_flaps_console_and_sheet_in_us_units(tiny_run, capsys):
     md = (result.run_dir / "flaps" / "flaps.md").read_text(encoding="utf-8")
     assert "best trip fuel [lb]" in md and "Numbers in US customary units" in md
     assert us.splitlines()[-1] == si.splitlines()[-1]   # the caution
+
+
+def test_compare_console_in_us_units_and_files_in_si(tiny_run, tmp_path, capsys):
+    import optimiser
+    from optimiser.study import load_study
+    study, result = tiny_run
+    text = bundled_study_path().read_text(encoding="utf-8")
+    other = tmp_path / "longer_strip.toml"
+    other.write_text(text.replace('field_length = "750 m"', 'field_length = "800 m"', 1),
+                     encoding="utf-8")
+    second = optimiser.optimise(load_study(other), out=tmp_path / "second", population=12,
+                                generations=2, plots=False)
+    runs = [str(result.run_dir), str(second.run_dir)]
+    si = _check(capsys, "compare", *runs, "--out", str(tmp_path / "cmp_si"))
+    us = _check(capsys, "--units", "us", "compare", *runs, "--out", str(tmp_path / "cmp_us"))
+    # 750 m = 2460.63 ft and 800 m = 2624.67 ft (1 ft = 0.3048 m, six digits)
+    assert "[departure] field_length: 750 m | 800 m" in si
+    assert (f"[departure] field_length: {750 / FT:.6g} ft | {800 / FT:.6g} ft" in us
+            and "2624.67 ft" in us)
+    best = float(re.search(r"best trip fuel ([0-9.]+) lb", us).group(1))
+    assert best == pytest.approx(result.front["trip_fuel_kg"].min() / LB, rel=5e-4)   # .4g
+    for name in ("compare.csv", "study_changes.csv"):   # the files stay SI
+        assert (tmp_path / "cmp_si" / name).read_bytes() == \
+            (tmp_path / "cmp_us" / name).read_bytes(), name
+    from optimiser.evaluation import CAUTION
+    assert CAUTION in us
