@@ -152,3 +152,45 @@ def test_compare_console_in_us_units_and_files_in_si(tiny_run, tmp_path, capsys)
             (tmp_path / "cmp_us" / name).read_bytes(), name
     from optimiser.evaluation import CAUTION
     assert CAUTION in us
+
+
+SWEEP = """name = "strip-price"
+base_study = "{base}"
+[budget]
+population = 12
+generations = 2
+seed = 3
+[[axis]]
+key = "departure.field_length"
+values = ["600 m", "900 m"]
+tighter = "smaller"
+also = ["destination.field_length"]
+"""
+
+
+def test_sweep_console_in_us_units_and_summary_file_in_si(tmp_path, capsys):
+    import pandas as pd
+    campaign = tmp_path / "strip.campaign.toml"
+    campaign.write_text(SWEEP.format(base=bundled_study_path().as_posix()), encoding="utf-8")
+    out = tmp_path / "sweep"
+    us = _check(capsys, "--units", "us", "sweep", str(campaign), "--out", str(out), "--serial",
+                "--no-plots")
+    summary = pd.read_csv(out / "summary.csv")
+    price = pd.read_csv(out / "price.csv")
+    assert "trip lb" in us and "engine hp" in us
+    first = summary.iloc[0]
+    line = next(l for l in us.splitlines() if l.strip().startswith(first["combination"][:43]))
+    fuel, engine = (float(x) for x in line.split()[-3:-1])
+    # 1 lb = 0.45359237 kg; 1 hp = 0.74569987158227022 kW (printed with one decimal)
+    assert fuel == pytest.approx(first["picked_trip_fuel_kg"] / LB, abs=0.05)
+    assert engine == pytest.approx(first["picked_engine_power_kW"] / HP_KW, abs=0.05)
+    # the price per m of field becomes a price per ft: x kg/m = x / 0.45359237 x 0.3048 lb/ft
+    shown = re.search(r"departure\.field_length: ([-+0-9.e]+) lb trip fuel and ([-+0-9.e]+) hp "
+                      r"engine per ft tighter", us)
+    per_m = price["price_picked_trip_fuel_kg_per_unit"].mean()
+    assert float(shown.group(1)) == pytest.approx(per_m / LB * FT, rel=5e-4)   # .4g
+    per_m_kw = price["price_picked_engine_power_kW_per_unit"].mean()
+    assert float(shown.group(2)) == pytest.approx(per_m_kw / HP_KW * FT, rel=5e-4)
+    text = (out / "summary.txt").read_text(encoding="utf-8")   # the file stays SI
+    assert "trip kg" in text and "kg trip fuel and" in text and "per m tighter" in text
+    assert "lb" not in text
