@@ -140,13 +140,8 @@ def run_report(args) -> int:
         choice = _choice(run, args, _method(args, "knee")) if len(run.front) else None
     else:
         choice = latest_pick_settings(run)
-    from .display_units import SI, using
-    with using(SI):   # the page's tables and explorer are SI: its figures are drawn in SI too
-        path = write_report(run, choice=choice)
+    path = write_report(run, choice=choice)   # in the reader's units (--units), one per page
     print(f"wrote {path} (self-contained; open it in a browser, no network needed)")
-    if getattr(args, "units", None) not in (None, SI):
-        print("note: the HTML report shows SI units (--units us applies to the summaries, "
-              "design.md and the run's and pick's figures)")
     print(CAUTION)
     return 0
 

@@ -194,3 +194,81 @@ def test_sweep_console_in_us_units_and_summary_file_in_si(tmp_path, capsys):
     text = (out / "summary.txt").read_text(encoding="utf-8")   # the file stays SI
     assert "trip kg" in text and "kg trip fuel and" in text and "per m tighter" in text
     assert "lb" not in text
+
+
+def _page_data(page):
+    import json
+    raw = re.search(r'<script id="page-data" type="application/json">(.*?)</script>', page,
+                    re.S).group(1)
+    return json.loads(raw.replace("<\\/", "</"))
+
+
+def _section(page, sid):
+    return re.search(rf"<section id='{sid}'>(.*?)</section>", page, re.S).group(1)
+
+
+def test_html_report_in_us_units(tiny_run, capsys, monkeypatch):
+    import numpy as np
+    from optimiser import display_units as du
+    from optimiser.report import plots
+    from optimiser.runfolder import load_run
+    study, result = tiny_run
+    run = str(result.run_dir)
+    page_path = result.run_dir / "report.html"
+    si_out = _check(capsys, "report", run, "--force")
+    si = page_path.read_text(encoding="utf-8")
+    seen = []
+    drawn = plots.objective_scatter
+
+    def recording(*args, **kw):   # the unit system the report's figure is drawn in
+        seen.append(du.current_system())
+        return drawn(*args, **kw)
+
+    monkeypatch.setattr(plots, "objective_scatter", recording)
+    us_out = _check(capsys, "--units", "us", "report", run, "--force")
+    us = page_path.read_text(encoding="utf-8")
+    assert seen == ["us"]   # one unit system per page: its figures too
+    assert "SI units" not in us_out and us_out.splitlines()[-1] == si_out.splitlines()[-1]
+    assert "lbf/ft" not in si and "used (SI)" in si
+    # the explorer's data: converted in Python, 6 significant digits as the SI page has them
+    front = load_run(result.run_dir).front
+    data = _page_data(us)
+    cols = [c["col"] for c in data["sheet_columns"]]
+    k = cols.index("takeoff_mass_kg")
+    for d, mass in zip(data["designs"], front["takeoff_mass_kg"]):
+        assert d["values"][k] == float(f"{mass / LB:.6g}")   # 1 lb = 0.45359237 kg
+        assert d["values"][k] == pytest.approx(mass / LB, rel=1e-5)
+    w = cols.index("wing_loading_N_m2")
+    assert data["designs"][0]["values"][w] == pytest.approx(
+        front["wing_loading_N_m2"].iloc[0] / LBF_FT2, rel=1e-5)
+    assert data["sheet_columns"][k]["unit"] == "lb"
+    assert data["labels"]["wing_loading_N_m2"] == "wing loading [lbf/ft²]"
+    assert data["labels"]["trip_fuel_kg"] == "trip fuel [lb]"
+    assert data["labels"][study.loading_column] == "power loading [lbf/hp]"
+    # the constraint diagram of the explorer: axis ranges and lines in lbf/ft^2 and lbf/hp
+    si_diagrams = _page_data(si)["diagrams"]
+    for key, g in data["diagrams"].items():
+        s = si_diagrams[key]
+        np.testing.assert_allclose(g["x"], np.array(s["x"]) / LBF_FT2, rtol=1e-4)
+        np.testing.assert_allclose(g["y"], np.array(s["y"]) / LBF_HP, rtol=1e-4)
+        np.testing.assert_allclose(g["lines"][0]["pts"][0],
+                                   np.array(s["lines"][0]["pts"][0]) / [LBF_FT2, LBF_HP],
+                                   rtol=1e-4)
+    assert "takeoff mass ${fmt(val(d, 'takeoff_mass_kg'))} lb `" in us
+    assert "__MASS_UNIT__" not in us and "takeoff mass ${fmt(val(d, 'takeoff_mass_kg'))} kg `" in si
+    # the tables: the study's own text beside the US value (750 m = 2460.63 ft), the
+    # certification's screen height (15.24 m = 50 ft), the flap comparison in lb and hp
+    req = _section(us, "requirements")
+    assert "<td>field_length</td><td>&quot;750 m&quot;</td><td>2460.63 ft</td>" in req
+    assert "used (US customary)" in req and "used (SI)" not in req
+    assert "screen height at departure</td><td>50 ft" in _section(us, "certification")
+    flaps = _section(us, "flaps")
+    assert "best trip fuel [lb]" in flaps and "extra engine size at equal trip fuel [hp]" in flaps
+    assert "Numbers in US customary units" in us
+    choice = _section(us, "choice")
+    chosen = front.iloc[data["chosen"]]
+    shown = float(re.search(r"<td>takeoff mass</td><td>([0-9.,]+)</td><td>lb</td>",
+                            choice).group(1).replace(",", ""))
+    assert shown == pytest.approx(chosen["takeoff_mass_kg"] / LB, abs=0.05)   # _fmt: 1 decimal
+    # the SI page has none of it
+    assert "US customary" not in si and "<td>2460.63 ft</td>" not in si
