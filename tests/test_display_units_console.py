@@ -14,6 +14,7 @@ import pytest
 
 from optimiser.cli import main
 from optimiser.study import bundled_study_path
+from test_display_units import tiny_run  # noqa: F401  (the same small run, a fixture)
 
 FT = 0.3048                       # m, 1959 agreement
 LB = 0.45359237                   # kg, 1959 agreement
@@ -84,16 +85,6 @@ def test_study_entry_texts_in_us_units():
     assert shown_text(tsfc, "us") == "0.72 lb/lbf/h"
     assert float(shown_text(tsfc, "us").split()[0]) == pytest.approx(
         tsfc.value * LBF * 3600 / LB, rel=1e-6)
-
-
-@pytest.fixture(scope="module")
-def tiny_run(tmp_path_factory):
-    import optimiser
-    from optimiser.study import load_study
-    study = load_study(bundled_study_path())
-    out = tmp_path_factory.mktemp("units_console") / "run"
-    result = optimiser.optimise(study, out=out, population=24, generations=4, plots=False)
-    return study, result
 
 
 def _row_numbers(text, flap):

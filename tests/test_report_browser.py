@@ -65,14 +65,21 @@ def driver():
     shutil.rmtree(profile, ignore_errors=True)
 
 
-@pytest.fixture(scope="module")
-def report(tmp_path_factory):
+def _report(tmp_path_factory, units="si"):
+    """A small run of the bundled study and its report, written in ``units``."""
+    from optimiser.display_units import using
     study = load_study(bundled_study_path())
-    out = tmp_path_factory.mktemp("browser") / "run"
+    out = tmp_path_factory.mktemp(f"browser_{units}") / "run"
     optimiser.optimise(study, out=out, population=24, generations=5, plots=False)
     run = load_run(out)
     choice = decide.choose(study, run.front, "knee")
-    return run, choice, write_report(run, choice=choice)
+    with using(units):   # as `optimiser --units <units> report` writes it
+        return run, choice, write_report(run, choice=choice)
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    return _report(tmp_path_factory)
 
 
 def _shown(d):
@@ -173,14 +180,7 @@ def test_a_flap_row_shows_only_that_option_on_the_front(driver, report):
 
 @pytest.fixture(scope="module")
 def us_report(tmp_path_factory):
-    from optimiser.display_units import using
-    study = load_study(bundled_study_path())
-    out = tmp_path_factory.mktemp("browser_us") / "run"
-    optimiser.optimise(study, out=out, population=24, generations=5, plots=False)
-    run = load_run(out)
-    with using("us"):   # as `optimiser --units us report` writes it
-        path = write_report(run, choice=decide.choose(study, run.front, "knee"))
-    return run, path
+    return _report(tmp_path_factory, "us")
 
 
 def test_us_report_plots_and_filters_in_us_units(driver, us_report):
@@ -190,7 +190,7 @@ def test_us_report_plots_and_filters_in_us_units(driver, us_report):
     from selenium.webdriver.common.action_chains import ActionChains
     from selenium.webdriver.common.by import By
     lb, hp = 0.45359237, 0.74569987158227022
-    run, path = us_report
+    run, _, path = us_report
     front = run.front
     driver.get(path.resolve().as_uri())
     labels = {e.get_attribute("class"): e.text for e in
