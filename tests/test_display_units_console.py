@@ -263,3 +263,26 @@ def test_html_report_in_us_units(tiny_run, capsys, monkeypatch):
     assert shown == pytest.approx(chosen["takeoff_mass_kg"] / LB, abs=0.05)   # _fmt: 1 decimal
     # the SI page has none of it
     assert "US customary" not in si and "<td>2460.63 ft</td>" not in si
+
+
+def test_every_study_unit_has_a_us_display():
+    # a study value in a unit with no US display would stop `--units us check` with a
+    # traceback: every unit of the spec's fields and of the certification numbers has one
+    from dataclasses import fields
+    from optimiser import display_units as du
+    from optimiser.study import _SECTIONS, load_study
+    from optimiser.study_table import CERTIFICATION_DOCS
+    spec = load_study(bundled_study_path()).spec
+    units = {f.metadata.get("unit") for s in _SECTIONS for f in fields(type(getattr(spec, s)))}
+    units |= {unit for _, unit in CERTIFICATION_DOCS.values()}
+    units.discard(None)
+    assert {"m", "kg", "m/s", "kg/J", "kg/N/s", "kg/kW", "s"} <= units
+    for unit in units:
+        du.to_display(1.0, unit, "us")   # raises ValueError for a unit with no display
+    # the engine figures against their definitions: 1 lb/(hp h) = 0.45359237 kg / (745.7 W x
+    # 3600 s); 1 lb/(lbf h) = 0.45359237 kg / (4.448 N x 3600 s); 1 lb/hp = 0.4536 / 0.7457 kg/kW
+    for si_value, unit, us_unit in ((LB / (HP_KW * 1000 * 3600), "kg/J", "lb/hp/h"),
+                                    (LB / (LBF * 3600), "kg/N/s", "lb/lbf/h"),
+                                    (LB / HP_KW, "kg/kW", "lb/hp")):
+        shown, shown_unit = du.to_display(si_value, unit, "us")
+        assert shown_unit == us_unit and shown == pytest.approx(1.0, rel=1e-14)
