@@ -51,7 +51,6 @@ from pathlib import Path
 import numpy as np
 
 from .campaign_file import Axis, Campaign, pick_compromise, pick_text
-from .columns import unit_of
 from .errors import CampaignError, CampaignInterrupted, OptimiserError
 from .runfolder import names
 from .runfolder.files import write_atomic
@@ -488,30 +487,53 @@ def short_value(v) -> str:
     return "+".join(map(str, v)) if isinstance(v, list) else str(v)
 
 
-def summary_text(campaign: Campaign, summary, price, folder) -> str:
-    """The printed campaign report, ending with the caution text."""
+def _per_axis_unit(price: float, unit: str, axis_unit: str, system) -> tuple[float, str]:
+    """A price in ``unit`` per ``axis_unit`` (the campaign's own unit) in ``system``'s
+    units: (value, axis unit shown). An axis unit that has no US customary display (one the
+    campaign already gives in US units, say ft) is kept."""
+    from .display_units import US_CONVERSIONS, to_display
+    per_quantity, _ = to_display(1.0, unit, system)
+    per_axis, shown_axis_unit = (to_display(1.0, axis_unit, system)
+                                 if axis_unit in US_CONVERSIONS else (1.0, axis_unit))
+    if per_quantity == 1.0 and per_axis == 1.0:
+        return price, shown_axis_unit      # SI: the number as it is
+    return price * per_quantity / per_axis, shown_axis_unit
+
+
+def summary_text(campaign: Campaign, summary, price, folder, units: str | None = None) -> str:
+    """The printed campaign report, ending with the caution text; numbers in ``units``
+    (``"si"`` or ``"us"``; default :func:`~optimiser.display_units.current_system`; the
+    combinations keep the campaign's own values)."""
+    from .columns import BY_NAME
+    from .display_units import column_display, resolve
     from .evaluation import CAUTION
+    system = resolve(units)
     size = campaign.engine_size_column
-    unit = unit_of(size)
+    _, unit = column_display(size, 0.0, system)
+    _, fuel_unit = column_display("trip_fuel_kg", 0.0, system)
     done = int((summary["status"] == "finished").sum())
     lines = [f"campaign {campaign.name}: {done} of {len(summary)} runs finished; folder {folder}",
              f"  picking rule: {pick_text(campaign.pick)}",
-             f"  {'combination':<44}{'trip kg':>9}{'engine ' + unit:>11}  flap"]
+             f"  {'combination':<44}{'trip ' + fuel_unit:>9}{'engine ' + unit:>11}  flap"]
     for _, r in summary.iterrows():
         if r["status"] == "finished" and r.get("feasible_found", False):
-            lines.append(f"  {r['combination'][:43]:<44}{r['picked_trip_fuel_kg']:>9.1f}"
-                         f"{r['picked_' + size]:>11.1f}  {r['picked_flap']}")
+            fuel = column_display("trip_fuel_kg", r["picked_trip_fuel_kg"], system)[0]
+            engine = column_display(size, r["picked_" + size], system)[0]
+            lines.append(f"  {r['combination'][:43]:<44}{fuel:>9.1f}"
+                         f"{engine:>11.1f}  {r['picked_flap']}")
         else:
             lines.append(f"  {r['combination'][:43]:<44}{'-':>9}{'-':>11}  "
                          + (r["status"] if r["status"] != "finished" else "no feasible design"))
     if len(price):
         lines.append("  price of tightening (picked design, mean over the steps of each axis):")
         for ax_key, g in price.groupby("axis", sort=False):
-            pf = g["price_picked_trip_fuel_kg_per_unit"].mean()
-            pe = g[f"price_picked_{size}_per_unit"].mean()
             u = g["unit"].iloc[0] or "unit"
-            lines.append(f"    {ax_key}: {pf:+.4g} kg trip fuel and {pe:+.4g} {unit} engine "
-                         f"per {u} tighter")
+            pf, shown_u = _per_axis_unit(g["price_picked_trip_fuel_kg_per_unit"].mean(), "kg",
+                                         u, system)
+            pe, _ = _per_axis_unit(g[f"price_picked_{size}_per_unit"].mean(),
+                                   BY_NAME[size].unit, u, system)
+            lines.append(f"    {ax_key}: {pf:+.4g} {fuel_unit} trip fuel and {pe:+.4g} {unit} "
+                         f"engine per {shown_u} tighter")
     lines.append(CAUTION)
     return "\n".join(lines)
 
@@ -527,7 +549,7 @@ def gather(campaign: Campaign, folder, ran=(), seconds=None):
     price = price_table(campaign, summary)
     write_atomic(folder / "summary.csv", summary.to_csv(index=False).encode())
     write_atomic(folder / "price.csv", price.to_csv(index=False).encode())
-    text = summary_text(campaign, summary, price, folder)
+    text = summary_text(campaign, summary, price, folder, units="si")   # the file stays SI
     write_atomic(folder / "summary.txt", (text + "\n").encode())
     info = {
         "campaign": campaign.name, "description": campaign.description,

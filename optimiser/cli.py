@@ -179,36 +179,47 @@ def cmd_evaluate(args):
 
 
 def cmd_check(args):
+    """Summarise a study: its requirements as given and as used, in SI or, with ``--units
+    us``, in US customary units (the study's own text is shown as it is either way)."""
+    from .display_units import SI, column_display, current_system, heading, to_display
     from .evaluation import CAUTION
     from .preflight import summary_lines
-    from .study_table import ORIGIN_GIVEN, certification_entries, resolved_entries
+    from .study_table import ORIGIN_GIVEN, certification_entries, resolved_entries, shown_text
     study = _study(args.study)
     sp = study.spec
+    us = current_system() != SI
     print(f"study {study.name}: {study.description}")
     print(f"  {sp.propulsion.engine_count} x {sp.propulsion.family}, certification "
           f"{sp.certification.basis}; flaps: {', '.join(study.flaps)}")
     for v in study.variables:
-        print(f"  {v.column}: {v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
+        (lower, upper), _ = column_display(v.column, (v.lower, v.upper))
+        print(f"  {heading(v.column) if us else v.column}: {lower:g} to {upper:g}"
+              + (" (fixed)" if v.fixed else ""))
     print(f"  objectives: {', '.join(study.objectives)}")
     for name, reason in sp.requirements.skip_checks:
         print(f"  check {name} switched off: {reason}")
     if sp.requirements.max_span_m is not None:
-        print(f"  span limit: {sp.requirements.max_span_m:g} m (constraint span)")
+        span, unit = to_display(sp.requirements.max_span_m, "m")
+        print(f"  span limit: {span:g} {unit} (constraint span)")
     if sp.requirements.margins:
         print("  required design margins: " + ", ".join(
             f"{name} {m:.1%}" for name, m in sp.requirements.margins))
     entries = resolved_entries(study)
-    print("as given (the study's units -> SI):")
+    system_name = "US customary" if us else "SI"
+    print(f"as given (the study's units -> {system_name}):")
     for e in entries:
         if e.origin == ORIGIN_GIVEN:
-            same = e.given.strip('"') == e.value_text
-            print(f"  [{e.section}] {e.key} = {e.given}" + ("" if same else f" -> {e.value_text}"))
-    print("defaults applied (SI):")
+            shown = shown_text(e)
+            same = e.given.strip('"') == shown
+            print(f"  [{e.section}] {e.key} = {e.given}" + ("" if same else f" -> {shown}"))
+    print(f"defaults applied ({system_name}):")
     for e in entries:
         if e.origin != ORIGIN_GIVEN:
-            print(f"  [{e.section}] {e.key} = {e.value_text}  ({e.origin})")
+            print(f"  [{e.section}] {e.key} = {shown_text(e)}  ({e.origin})")
     print(f"certification {sp.certification.basis} sets:")
     for name, value, unit, meaning in certification_entries(study):
+        if isinstance(value, float) and unit:
+            value, unit = to_display(value, unit)
         shown = f"{value:g}" if isinstance(value, float) else str(value)
         print(f"  {meaning}: {shown}{' ' + unit if unit else ''}")
     lines = summary_lines(study)

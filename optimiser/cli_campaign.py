@@ -84,7 +84,8 @@ def cmd_sweep(args):
     if not args.no_plots and (result.summary["status"] == "finished").any():
         from .report.campaign_plots import plot_campaign
         plot_campaign(campaign, result.summary, result.folder)
-    print(summary_text(campaign, result.summary, result.price, result.folder))
+    print(summary_text(campaign, result.summary, result.price, result.folder,
+                       units=getattr(args, "units", None)))
     print(f"wrote {result.folder}/summary.csv, price.csv, summary.txt and plots/ "
           f"({result.seconds:.1f} s)")
     if result.failed:

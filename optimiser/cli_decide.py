@@ -123,7 +123,7 @@ def run_flaps(args) -> int:
                           "a folder written by 'optimiser run'")
     table, fronts = compare_flaps(run)
     out = write_flaps(run, table, fronts, force=args.force)
-    print(flaps_summary(run.study, table, out))
+    print(flaps_summary(run.study, table, out, units=getattr(args, "units", None)))
     return 0
 
 
@@ -140,13 +140,8 @@ def run_report(args) -> int:
         choice = _choice(run, args, _method(args, "knee")) if len(run.front) else None
     else:
         choice = latest_pick_settings(run)
-    from .display_units import SI, using
-    with using(SI):   # the page's tables and explorer are SI: its figures are drawn in SI too
-        path = write_report(run, choice=choice)
+    path = write_report(run, choice=choice)   # in the reader's units (--units), one per page
     print(f"wrote {path} (self-contained; open it in a browser, no network needed)")
-    if getattr(args, "units", None) not in (None, SI):
-        print("note: the HTML report shows SI units (--units us applies to the summaries, "
-              "design.md and the run's and pick's figures)")
     print(CAUTION)
     return 0
 
@@ -158,6 +153,6 @@ def run_compare(args) -> int:
     cmp = compare_runs(args.run_dirs)
     out = Path(args.out) if args.out else timestamped_dir("compare")
     written = write_comparison(cmp, out, force=args.force)
-    print(summary_text(cmp))
+    print(summary_text(cmp, units=getattr(args, "units", None)))
     print(f"wrote {written}/ (compare.csv, study_changes.csv, fronts.png/.svg)")
     return 0

@@ -45,10 +45,24 @@ def _labels(runs) -> list[str]:
     return [n if names.count(n) == 1 else f"{n} ({k + 1})" for k, n in enumerate(names)]
 
 
-def study_changes(runs, labels):
-    """Rows (section, key, value per run) of every resolved-study value that differs."""
+def _variables_text(study, system) -> str:
+    """The study's variables and bounds in one line, in ``system``'s units."""
+    from .display_units import SI, column_display, heading
+    parts = []
+    for v in study.variables:
+        (lower, upper), _ = column_display(v.column, (v.lower, v.upper), system)
+        name = v.column if system == SI else heading(v.column, system)
+        parts.append(f"{name} {lower:g} to {upper:g}")
+    return "; ".join(parts)
+
+
+def study_changes(runs, labels, units: str = "si"):
+    """Rows (section, key, value per run) of every resolved-study value that differs; the
+    values as text in ``units`` (SI for study_changes.csv, ``"us"`` for the console)."""
     import pandas as pd
-    from .study_table import resolved_entries
+    from .display_units import resolve
+    from .study_table import resolved_entries, shown_text
+    system = resolve(units)
     tables = []
     for r in runs:
         entries = {(e.section, e.key): e for e in resolved_entries(r.study)}
@@ -60,15 +74,14 @@ def study_changes(runs, labels):
         for t in tables:
             e = t.get(k)
             shown.append("(not in this study)" if e is None else
-                         e.value_text + ("" if e.given is not None else " (default)"))
+                         shown_text(e, system) + ("" if e.given is not None else " (default)"))
         values = [t[k].value if k in t else None for t in tables]
         if any(v != values[0] for v in values[1:]):
             rows.append({"section": k[0], "key": k[1], **dict(zip(labels, shown))})
     top = [("name", lambda r: r.study.name), ("certification",
                                               lambda r: r.study.spec.certification.basis),
            ("flaps", lambda r: ", ".join(r.study.flaps)),
-           ("variables", lambda r: "; ".join(f"{v.column} {v.lower:g} to {v.upper:g}"
-                                              for v in r.study.variables)),
+           ("variables", lambda r: _variables_text(r.study, system)),
            ("objectives", lambda r: ", ".join(r.study.objectives))]
     for key, get in top:
         values = [get(r) for r in runs]
@@ -136,27 +149,39 @@ def compare_runs(run_dirs) -> Comparison:
                       scales)
 
 
-def summary_text(cmp: Comparison) -> str:
-    """The terminal summary: the front per run on the common reference, then the changes."""
+def summary_text(cmp: Comparison, units: str | None = None) -> str:
+    """The terminal summary: the front per run on the common reference, then the changes;
+    numbers in ``units`` (``"si"`` or ``"us"``; default
+    :func:`~optimiser.display_units.current_system`; the files stay SI)."""
     from .columns import short_and_unit
+    from .display_units import SI, column_display, resolve
     from .evaluation import CAUTION
-    lines = [f"compared {len(cmp.runs)} runs on {', '.join(cmp.objectives)} (hypervolume on a "
+    system = resolve(units)
+
+    def best_text(r, c):
+        if system == SI:
+            return f"{short_and_unit(c)[0]} {r[f'best_{c}']:.4g} {short_and_unit(c)[1]}".rstrip()
+        value, unit = column_display(c, r[f"best_{c}"], system)
+        return f"{short_and_unit(c)[0]} {value:.4g} {unit}".rstrip()
+
+    changes = cmp.changes if system == SI else study_changes(cmp.runs, cmp.labels, system)
+    names = cmp.objectives if system == SI else [short_and_unit(c)[0] for c in cmp.objectives]
+    lines = [f"compared {len(cmp.runs)} runs on {', '.join(names)} (hypervolume on a "
              "common reference: the non-dominated union of their fronts)"]
     for _, r in cmp.summary.iterrows():
         if not r["front_designs"]:
             lines.append(f"  {r['run']}: no feasible design")
             continue
-        best = ", ".join(f"{short_and_unit(c)[0]} {r[f'best_{c}']:.4g} "
-                         f"{short_and_unit(c)[1]}".rstrip() for c in cmp.objectives)
+        best = ", ".join(best_text(r, c) for c in cmp.objectives)
         lines.append(f"  {r['run']}: {int(r['front_designs'])} front designs, common "
                      f"hypervolume {r['common_hypervolume']:.4g}; best {best}")
-    if len(cmp.changes):
-        lines.append(f"  {len(cmp.changes)} study value(s) differ:")
-        for _, c in cmp.changes.head(20).iterrows():
+    if len(changes):
+        lines.append(f"  {len(changes)} study value(s) differ:")
+        for _, c in changes.head(20).iterrows():
             lines.append(f"    [{c['section']}] {c['key']}: "
                          + " | ".join(str(c[label]) for label in cmp.labels))
-        if len(cmp.changes) > 20:
-            lines.append(f"    ... {len(cmp.changes) - 20} more in study_changes.csv")
+        if len(changes) > 20:
+            lines.append(f"    ... {len(changes) - 20} more in study_changes.csv")
     else:
         lines.append("  the resolved studies are identical (the runs differ only in budget or "
                      "seed)")

@@ -68,9 +68,9 @@ class Conversion:
     offset: float = 0.0
 
 
-UNCHANGED = ("", "-", "deg", "rad", "K")
-"""Units shown as they are in every system (names, flags, dimensionless numbers, angles and
-temperature differences)."""
+UNCHANGED = ("", "-", "deg", "rad", "K", "s")
+"""Units shown as they are in every system (names, flags, dimensionless numbers, angles,
+temperature differences and times)."""
 
 US_CONVERSIONS = {
     "N/m^2": Conversion("lbf/ft^2", POUND_FORCE_N / FOOT_M ** 2),   # wing loading
@@ -89,6 +89,10 @@ US_CONVERSIONS = {
     "kg/(N s)": Conversion("lb/(lbf h)", POUND_KG / (POUND_FORCE_N * 3600.0)),  # jet TSFC
     "kg/J": Conversion("lb/(hp h)", POUND_KG / (HORSEPOWER_W * 3600.0)),  # shaft-engine SFC
     "K abs": Conversion("degF", 5.0 / 9.0, -459.67),   # absolute temperature, with offset
+    # the study's own engine figures (``optimiser check``, the report's study table)
+    "kg/kW": Conversion("lb/hp", POUND_KG / (HORSEPOWER_W / 1000.0)),   # specific mass
+    "kg/J": Conversion("lb/hp/h", POUND_KG / (HORSEPOWER_W * 3600.0)),  # fuel per energy
+    "kg/N/s": Conversion("lb/lbf/h", POUND_KG / (POUND_FORCE_N * 3600.0)),  # fuel per impulse
 }
 """SI unit (as written in :mod:`optimiser.columns`) -> its US customary display."""
 

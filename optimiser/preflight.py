@@ -54,10 +54,11 @@ def _key_text(study, constraint: str, entries) -> str:
     section_key = CONSTRAINT_KEYS.get(constraint)
     if section_key is None:
         return f"certification {study.spec.certification.basis} at the [departure] airfield"
+    from .study_table import shown_text
     for e in entries:
         if (e.section, e.key) == section_key:
-            shown = e.given if e.given is not None else f"{e.value_text} ({e.origin})"
-            si = e.value_text
+            si = shown_text(e)   # SI, or the reader's units (--units us)
+            shown = e.given if e.given is not None else f"{si} ({e.origin})"
             return (f"[{e.section}] {e.key} = {shown}" if e.given is None or shown == si
                     else f"[{e.section}] {e.key} = {shown} (= {si})")
     return f"[{section_key[0]}] {section_key[1]}"

@@ -42,6 +42,28 @@ class Entry:
         return f"{text} {self.unit}" if self.unit else text
 
 
+RANGE_KEYS = {("mission", "range"), ("mission", "reserve_range")}
+"""Study keys that are mission distances (shown in nautical miles in US customary units)."""
+
+COLUMN_OF_KEY = {("requirements", "climb_rate"): "climb_rate_m_s"}
+"""Study keys shown like an output column of :mod:`optimiser.columns` (a climb rate in
+ft/min in US customary units, not kn)."""
+
+
+def shown_text(entry: Entry, system=None) -> str:
+    """The value of ``entry`` with its unit in the reader's units (:mod:`.display_units`):
+    in SI exactly :attr:`Entry.value_text`; in US customary the converted value to six
+    significant digits (a field length of 800 m shows as 2624.67 ft)."""
+    from .display_units import SI, display_unit, resolve, to_display
+    v = entry.value
+    if resolve(system) == SI or not entry.unit or isinstance(v, (bool, str, tuple)) or v is None:
+        return entry.value_text
+    where = (entry.section, entry.key)
+    shown, unit = to_display(float(v), entry.unit, system, COLUMN_OF_KEY.get(where),
+                             "range" if where in RANGE_KEYS else None)
+    return f"{shown:.6g} {display_unit(unit)}" if unit else f"{shown:.6g}"
+
+
 def _toml_text(value) -> str:
     """A TOML value written back as the study wrote it (strings quoted)."""
     if isinstance(value, str):

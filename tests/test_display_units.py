@@ -272,29 +272,6 @@ def test_front_view_and_objective_scatter_in_us_units(tiny_run):
         plt.close(scatter)
 
 
-def test_html_report_stays_si_under_us_units(tiny_run, capsys, monkeypatch):
-    # the page's tables and explorer are SI; its figures are drawn in SI too (one unit system
-    # per page), and the command says so
-    from optimiser.cli import main
-    from optimiser.report import plots
-    study, result = tiny_run
-    monkeypatch.delenv("OPTIMISER_UNITS", raising=False)
-    seen = []
-    drawn = plots.objective_scatter
-
-    def recording(*args, **kw):   # the unit system the report's figure is drawn in
-        seen.append(du.current_system())
-        return drawn(*args, **kw)
-
-    monkeypatch.setattr(plots, "objective_scatter", recording)
-    assert main(["--units", "us", "report", str(result.run_dir), "--force"]) == 0
-    out = capsys.readouterr().out
-    assert "note: the HTML report shows SI units" in out
-    assert seen == ["si"]
-    page = (result.run_dir / "report.html").read_text(encoding="utf-8")
-    assert "lbf/ft" not in page and "wing_loading_N_m2" in page
-
-
 def test_run_and_pick_csv_files_identical_with_and_without_us_units(tmp_path, monkeypatch,
                                                                     capsys):
     # machines read the CSV files unchanged: same seed, same bytes in either unit system

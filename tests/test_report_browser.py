@@ -65,14 +65,21 @@ def driver():
     shutil.rmtree(profile, ignore_errors=True)
 
 
-@pytest.fixture(scope="module")
-def report(tmp_path_factory):
+def _report(tmp_path_factory, units="si"):
+    """A small run of the bundled study and its report, written in ``units``."""
+    from optimiser.display_units import using
     study = load_study(bundled_study_path())
-    out = tmp_path_factory.mktemp("browser") / "run"
+    out = tmp_path_factory.mktemp(f"browser_{units}") / "run"
     optimiser.optimise(study, out=out, population=24, generations=5, plots=False)
     run = load_run(out)
     choice = decide.choose(study, run.front, "knee")
-    return run, choice, write_report(run, choice=choice)
+    with using(units):   # as `optimiser --units <units> report` writes it
+        return run, choice, write_report(run, choice=choice)
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    return _report(tmp_path_factory)
 
 
 def _shown(d):
@@ -169,3 +176,43 @@ def test_a_flap_row_shows_only_that_option_on_the_front(driver, report):
     assert [b.get_attribute("value") for b in boxes if b.is_selected()] == [flap]
     driver.execute_script("document.getElementById('reset').click()")
     assert len(_shown(driver)) == len(front)
+
+
+@pytest.fixture(scope="module")
+def us_report(tmp_path_factory):
+    return _report(tmp_path_factory, "us")
+
+
+def test_us_report_plots_and_filters_in_us_units(driver, us_report):
+    """The explorer of a --units us page: axis labels, hover numbers and the range filter in
+    lb and hp (1 lb = 0.45359237 kg; 1 hp = 550 ft lbf/s = 0.74569987158227022 kW; NIST SP
+    811 Appendix B, from memory)."""
+    from selenium.webdriver.common.action_chains import ActionChains
+    from selenium.webdriver.common.by import By
+    lb, hp = 0.45359237, 0.74569987158227022
+    run, _, path = us_report
+    front = run.front
+    driver.get(path.resolve().as_uri())
+    labels = {e.get_attribute("class"): e.text for e in
+              driver.find_elements(By.CSS_SELECTOR,
+                                   "#front-svg text.xlabel, #front-svg text.ylabel")}
+    assert labels == {"xlabel": "installed engine power, all engines [hp]",
+                      "ylabel": "trip fuel [lb]"}
+    pt = _shown(driver)[0]
+    i = int(pt.get_attribute("data-id"))
+    driver.execute_script("arguments[0].scrollIntoView({block: 'center'});", pt)
+    ActionChains(driver).move_to_element(pt).perform()
+    tip = driver.find_element(By.ID, "tooltip").text
+    # the page rounds to 6 digits, then shows 1 decimal: the same as the exact value here
+    shown = float(f"{front['trip_fuel_kg'].iloc[i] / lb:.6g}")
+    assert f"trip fuel [lb]: {_fmt(shown)}" in tip
+    # a cap in hp halfway between two front values keeps exactly the designs below it
+    vals = sorted(set(front["engine_power_kW"] / hp))
+    k = max(len(vals) // 2 - 1, 0)
+    cap = (vals[k] + vals[k + 1]) / 2 if len(vals) > 1 else vals[0] + 1.0
+    driver.find_element(By.ID, "max-engine_power_kW").send_keys(f"{cap:.6f}")
+    keep = front["engine_power_kW"] / hp <= float(f"{cap:.6f}")
+    assert len(_shown(driver)) == int(keep.sum())
+    assert " lb (its aspect ratio" in driver.find_element(By.ID, "diagram-svg").text
+    logs = [e for e in driver.get_log("browser") if e.get("level") == "SEVERE"]
+    assert not logs, logs

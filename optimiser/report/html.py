@@ -21,11 +21,13 @@ from pathlib import Path
 
 import numpy as np
 
-from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, REPORT_KEY_COLUMNS, heading,
-                       plot_label, short_and_unit, unit_of)
+from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, REPORT_KEY_COLUMNS, plot_label,
+                       short_and_unit, unit_of)
+from ..display_units import SI, column_display, current_system, display_label, to_display
+from ..display_units import heading as display_heading
 from . import palette
 from .figures import svg_data_uri
-from .page import PAGE_CSS, PAGE_SCRIPT, PAGE_TEMPLATE
+from .page import PAGE_CSS, PAGE_TEMPLATE, page_script
 
 DIAGRAM_AR_STEP = 0.05
 """Aspect-ratio step of the interactive constraint diagrams (designs share a diagram when
@@ -76,9 +78,10 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
     mins = smallest_excess(frame, constraints, required)
     mins = mins.reshape(shape)
     lines = []
+    shown = _diagram_points(study, current_system())
     for line in trace(study, design, ws, ld, frame, constraints, required):
         colour, dash = palette.constraint_style(line.name)
-        segs = [[[_r(x), _r(y)] for x, y in pts] for pts in line.polylines]
+        segs = [[[_r(x), _r(y)] for x, y in shown(pts)] for pts in line.polylines]
         lines.append({"name": line.name, "label": CONSTRAINT_LABELS.get(line.name, line.name),
                       "colour": colour, "dash": palette.SVG_DASHES[dash], "pts": segs})
     region = []
@@ -87,22 +90,43 @@ def diagram_data(study, design, n=DIAGRAM_GRID):
         points, offsets = gen.filled(0.0, 1e30)
         for pts, offs in zip(points, offsets):
             for a, b in zip(offs[:-1], offs[1:]):
-                region.append([[_r(x), _r(y)] for x, y in pts[a:b]])
+                region.append([[_r(x), _r(y)] for x, y in shown(pts[a:b])])
+    (x0, y0), (x1, y1) = shown(np.array([[ws[0], ld[0]], [ws[-1], ld[-1]]]))
     return {"ar": _r(design["aspect_ratio"], 4), "flap": str(design["flap"]),
-            "x": [_r(ws[0]), _r(ws[-1])], "y": [_r(ld[0]), _r(ld[-1])],
+            "x": [_r(x0), _r(x1)], "y": [_r(y0), _r(y1)],
             "lines": lines, "region": region}
+
+
+def _diagram_points(study, system):
+    """A function taking (k, 2) points of a constraint diagram (wing loading, loading; SI)
+    to the page's units in ``system`` (SI: the points themselves)."""
+    if system == SI:
+        return lambda pts: pts
+
+    def shown(pts):
+        pts = np.asarray(pts, dtype=float)
+        x = column_display("wing_loading_N_m2", pts[:, 0], system)[0]
+        y = column_display(study.loading_column, pts[:, 1], system)[0]
+        return np.column_stack([x, y])
+    return shown
+
+
+def _page_unit(column: str, system) -> str:
+    """The unit the page shows a column's numbers in (the names stay the SI columns)."""
+    return unit_of(column) if system == SI else column_display(column, 0.0, system)[1]
 
 
 def _sheet_columns(study, front):
     from ..sizing import active_constraints
+    system = current_system()
     cols = []
     inputs = ["wing_loading_N_m2", study.loading_column, "aspect_ratio"]
     objectives = list(study.objective_columns())
     for c in inputs:
-        cols.append({"col": c, "section": "design variable", "unit": unit_of(c),
+        cols.append({"col": c, "section": "design variable", "unit": _page_unit(c, system),
                      "meaning": COLUMN_DOCS.get(c, "")})
     for c in objectives:
-        cols.append({"col": c, "section": "objective", "unit": unit_of(c),
+        cols.append({"col": c, "section": "objective", "unit": _page_unit(c, system),
                      "meaning": COLUMN_DOCS.get(c, "")})
     for c in active_constraints(study.spec):
         cols.append({"col": f"margin_{c}", "section": "margin", "unit": "%",
@@ -110,7 +134,7 @@ def _sheet_columns(study, front):
     skip = set(inputs) | set(objectives)
     for c in front.columns:
         if c in COLUMN_DOCS and c not in skip and front[c].dtype.kind in "fi":
-            cols.append({"col": c, "section": "sized", "unit": unit_of(c),
+            cols.append({"col": c, "section": "sized", "unit": _page_unit(c, system),
                          "meaning": COLUMN_DOCS[c]})
     return cols
 
@@ -124,7 +148,11 @@ def page_data(run, choice):
     colours = palette.flap_colours_hex(study.flaps)
     designs, diagrams, keys = [], {}, {}
     chosen = int(choice.design["front_row"]) if choice is not None else -1
-    for i, (_, r) in enumerate(front.iterrows()):
+    system = current_system()
+    shown_front = front if system == SI else front.assign(**{
+        c["col"]: column_display(c["col"], front[c["col"]].to_numpy(float), system)[0]
+        for c in sheet_cols})
+    for i, ((_, r), (_, r_shown)) in enumerate(zip(front.iterrows(), shown_front.iterrows())):
         key = f"{r['flap']}|{round(float(r['aspect_ratio']) / DIAGRAM_AR_STEP) * DIAGRAM_AR_STEP:.2f}"
         if key not in keys:
             rep = r.copy()
@@ -134,14 +162,15 @@ def page_data(run, choice):
         designs.append({
             "id": i, "flap": str(r["flap"]), "diagram": key,
             "limiting": str(r.get("limiting_constraint", "")),
-            "values": [_r(r[c["col"]], 6) for c in sheet_cols],
+            "values": [_r(r_shown[c["col"]], 6) for c in sheet_cols],
             "chosen": i == chosen,
         })
     return {
         "study": study.name, "objectives": objectives,
-        "labels": {c: plot_label(c) for c in [*objectives, "wing_loading_N_m2",
-                                              study.loading_column, "takeoff_mass_kg"]},
-        "units": {c: unit_of(c) for c in objectives},
+        "labels": {c: plot_label(c) if system == SI else display_label(c, system)
+                   for c in [*objectives, "wing_loading_N_m2", study.loading_column,
+                             "takeoff_mass_kg"]},
+        "units": {c: _page_unit(c, system) for c in objectives},
         "names": {c: short_and_unit(c)[0] for c in [*objectives, *REPORT_KEY_COLUMNS]},
         "key_columns": [c for c in REPORT_KEY_COLUMNS if c in front.columns],
         "loading_column": study.loading_column, "flaps": list(study.flaps),
@@ -164,7 +193,8 @@ def _table(header, rows, cls="", row_keys=None):
 def _requirements_html(study):
     """Every value the sizing used, section by section: as the study gave it (its units),
     in SI, and where a default came from (marked)."""
-    from ..study_table import ORIGIN_GIVEN, resolved_entries
+    from ..study_table import ORIGIN_GIVEN, resolved_entries, shown_text
+    system = current_system()
     by_section = {}
     for e in resolved_entries(study):
         by_section.setdefault(e.section, []).append(e)
@@ -173,14 +203,18 @@ def _requirements_html(study):
         rows = "".join(
             f"<tr class='{'given' if e.origin == ORIGIN_GIVEN else 'default'}'>"
             f"<td>{html.escape(e.key)}</td><td>{html.escape(e.given or '')}</td>"
-            f"<td>{html.escape(e.value_text)}</td>"
+            f"<td>{html.escape(shown_text(e, system))}</td>"
             f"<td>{'' if e.origin == ORIGIN_GIVEN else 'default: ' + html.escape(e.origin)}</td>"
             f"<td>{html.escape(e.doc)}</td></tr>" for e in entries)
         parts.append(f"<div class='req'><h3>[{sec}]</h3><table class='resolved'><thead><tr>"
-                     "<th>key</th><th>as given</th><th>used (SI)</th><th>default applied</th>"
+                     f"<th>key</th><th>as given</th><th>used ({_system_name(system)})</th>"
+                     "<th>default applied</th>"
                      f"<th>meaning</th></tr></thead><tbody>{rows}</tbody></table></div>")
-    variables = [(v.column, f"{v.lower:g} to {v.upper:g}" + (" (fixed)" if v.fixed else ""))
-                 for v in study.variables]
+    variables = []
+    for v in study.variables:
+        (lower, upper), _ = column_display(v.column, (v.lower, v.upper), system)
+        variables.append((v.column if system == SI else display_heading(v.column, system),
+                          f"{lower:g} to {upper:g}" + (" (fixed)" if v.fixed else "")))
     variables.append(("flap", ", ".join(study.flaps)))
     variables.append(("objectives (minimised)", ", ".join(study.objectives)))
     parts.append("<div class='req'><h3>[variables] and [objectives]</h3>"
@@ -188,17 +222,30 @@ def _requirements_html(study):
     return "<div class='reqs'>" + "".join(parts) + "</div>"
 
 
+def _system_name(system) -> str:
+    """How the page names the unit system of its numbers."""
+    return "SI" if system == SI else "US customary"
+
+
+def _with_unit(value, unit, fmt="g") -> str:
+    """``value`` (SI, in ``unit``) with its unit in the page's units."""
+    shown, shown_unit = to_display(value, unit)
+    return f"{shown:{fmt}} {shown_unit}"
+
+
 def _certification_html(study):
     """The certification basis and the numbers it sets."""
     from ..study_table import certification_entries
     cert = study.spec.certification
-    rows = [(meaning, f"{value:g}{' ' + unit if unit else ''}" if isinstance(value, float)
-             else str(value)) for _, value, unit, meaning in certification_entries(study)]
-    rows += [("screen height at departure", f"{study.spec.departure.obstacle_height_m:g} m"),
+    rows = [(meaning, _with_unit(value, unit) if isinstance(value, float) and unit
+             else f"{value:g}" if isinstance(value, float) else str(value))
+            for _, value, unit, meaning in certification_entries(study)]
+    rows += [("screen height at departure",
+              _with_unit(study.spec.departure.obstacle_height_m, "m")),
              ("screen height at destination",
-              f"{study.spec.destination.obstacle_height_m:g} m"),
+              _with_unit(study.spec.destination.obstacle_height_m, "m")),
              ("takeoff mass limit of the basis",
-              f"{study.spec.requirements.max_takeoff_mass_kg:.0f} kg")]
+              _with_unit(study.spec.requirements.max_takeoff_mass_kg, "kg", ".0f"))]
     skipped = [f"{n}: {r}" for n, r in study.spec.requirements.skip_checks]
     if skipped:
         rows.append(("checks switched off by the study", "; ".join(skipped)))
@@ -234,7 +281,8 @@ def _run_sections(run) -> list[str]:
             + "</section>",
             "<section id='requirements'><h2>Requirements and assumptions</h2>"
             "<p>Every value the sizing used: as the study file gives it (its own units), in "
-            "SI, and, where the study left it out, the default applied and where it came "
+            + ("SI" if current_system() == SI else "US customary units")
+            + ", and, where the study left it out, the default applied and where it came "
             "from.</p>" + _requirements_html(study) + "</section>",
             "<section id='certification'><h2>Certification basis</h2>"
             + _certification_html(study) + "</section>",
@@ -279,19 +327,25 @@ def _choice_section(run, choice) -> str:
     runners = runners_up(study, choice)
     fig = plots.design_constraint_diagram(study, d, label="chosen design", front=run.front,
                                           run_utc=run.info.get("started_utc"))
+    system = current_system()
     tab = sheet.design_sheet(study, d)
     mar = tab[tab["section"] == "margin"]
+    if system != SI:
+        tab = sheet._shown_in(tab, system)
     bind = sheet.binding_constraints(study, d)
     cols = list(study.objective_columns())
-    run_rows = [[r["rank"], r["flap"], *[sheet._fmt(r[c]) for c in cols], r["trade"]]
+    run_rows = [[r["rank"], r["flap"], *[sheet._fmt(column_display(c, r[c], system)[0])
+                                         for c in cols],
+                 r["trade"] if system == SI else sheet.us_trade(study, d, r, system)]
                 for _, r in runners.iterrows()]
+    mass, mass_unit = column_display("takeoff_mass_kg", d["takeoff_mass_kg"], system)
     return ("<section id='choice'><h2>Chosen compromise</h2>"
             f"<p>Picked by {esc(choice.describe())}.</p>"
             + _table(["quantity", "value", "unit"],
                      [(short_and_unit(q)[0], sheet._fmt(v), u) for q, v, u in
                       tab[tab["section"].isin(["design variable", "objective (minimised)"])]
                       [["quantity", "value", "unit"]].itertuples(index=False)]
-                     + [("takeoff mass", sheet._fmt(d["takeoff_mass_kg"]), "kg")], "kv")
+                     + [("takeoff mass", sheet._fmt(mass), mass_unit)], "kv")
             + f"<p>Binding constraints (margin below {sheet.BINDING_MARGIN:.0%}): "
             + esc(", ".join(b.replace("_", " ") for b in bind) if bind else "none") + ".</p>"
             + _table(["constraint", "margin", "status"],
@@ -299,7 +353,7 @@ def _choice_section(run, choice) -> str:
                       zip(mar["meaning"], mar["value"], mar["status"])])
             + "<figure><img alt='constraint diagram of the chosen design' "
             f"src='{svg_data_uri(fig)}'></figure><h3>Runners-up</h3>"
-            + _table(["rank", "flap", *[heading(c)
+            + _table(["rank", "flap", *[display_heading(c, system)
                                         for c in cols], "what it trades against the choice"],
                      run_rows) + "</section>")
 
@@ -310,22 +364,7 @@ def _flaps_section(run) -> str:
     from . import plots, sheet
     study = run.study
     table, fronts = compare_flaps(run)
-    eng_unit = unit_of(study.engine_size_column)
-    rows = []
-    for _, r in table.iterrows():
-        rows.append([r["flap"] + (" (reference)" if r["reference_option"] else ""),
-                     "yes" if r["feasible_found"] else
-                     f"no: {r['failing_constraint']} {r['best_margin_failing']:+.1%} at best",
-                     *[sheet._fmt(r[f"best_{c}"]) for c in study.objective_columns()],
-                     f"{r['share_of_combined_front']:.0%}", f"{r['hypervolume']:.3f}",
-                     sheet._fmt(r["extra_trip_fuel_at_equal_engine_kg"]),
-                     sheet._fmt(r[f"extra_engine_at_equal_trip_fuel_{eng_unit}"]),
-                     r["note"]])
-    head = ["flap", "feasible", *[f"best {heading(c)}"
-                                  for c in study.objective_columns()],
-            "share of combined front", "hypervolume",
-            "extra trip fuel at equal engine size [kg]",
-            f"extra engine size at equal trip fuel [{eng_unit}]", "note"]
+    head, rows = sheet.flaps_cells(study, table, percentages=False)
     return ("<section id='flaps'><h2>Flap options compared</h2>"
             "<p>Each flap option had its own NSGA-II with the same population, generations and "
             "seed stream, under the same constraints. Penalties are against the option with the "
@@ -348,6 +387,10 @@ def write_report(run, choice=None, flaps=True) -> Path:
     from ..runfolder.files import write_atomic
     study = run.study
     sections = _run_sections(run) + _front_sections(run)
+    if current_system() != SI:
+        sections.insert(0, "<p class='units'>Numbers in US customary units (the tables, figures and "
+                        "the front explorer); the column names and the run's CSV files stay "
+                        "SI.</p>")
     if choice is not None:
         sections.append(_choice_section(run, choice))
     if flaps and run.evaluations_path.is_file():
@@ -358,7 +401,7 @@ def write_report(run, choice=None, flaps=True) -> Path:
         title=html.escape(f"{study.name}: run report"), caution=caution, css=PAGE_CSS,
         body="\n".join(sections),
         data=json.dumps(data, separators=(",", ":")).replace("</", "<\\/"),
-        script=PAGE_SCRIPT if data else "")
+        script=page_script(to_display(1.0, "kg")[1]) if data else "")
     path = run.run_dir / names.REPORT
     try:
         write_atomic(path, page.encode("utf-8"))

@@ -46,7 +46,7 @@ padding:.4em .6em;font-size:12px;pointer-events:none;box-shadow:2px 2px 6px rgba
 #shown-count{font-size:.85em;margin:.3em 0}
 """
 
-PAGE_SCRIPT = r"""
+_SCRIPT_SOURCE = r"""
 (function(){
 "use strict";
 const D = JSON.parse(document.getElementById('page-data').textContent);
@@ -198,7 +198,7 @@ function drawDiagram(d){
   const t1 = el('text', {x: 58, y: 14, 'font-size': '12', 'font-weight': 'bold'}, svg);
   t1.textContent = `constraint diagram: flap ${g.flap}, aspect ratio ${g.ar}`;
   const t2 = el('text', {x: 58, y: 29, 'font-size': '10'}, svg);
-  t2.textContent = `star: design ${d.id} at its own sized takeoff mass ${fmt(val(d, 'takeoff_mass_kg'))} kg ` +
+  t2.textContent = `star: design ${d.id} at its own sized takeoff mass ${fmt(val(d, 'takeoff_mass_kg'))} __MASS_UNIT__ ` +
     `(its aspect ratio ${fmt(val(d, 'aspect_ratio'))})`;
   const t3 = el('text', {x: 58, y: 40, 'font-size': '10'}, svg);
   t3.textContent = 'lines: margin = ' + (Object.keys(D.required).length ? 'required margin' : '0') +
@@ -237,7 +237,15 @@ buildControls(); linkFlapTable(); drawFront(); if (D.designs.length) select(stat
 })();
 """
 
-PAGE_SCRIPT = (PAGE_SCRIPT.replace("__REGION_FILL__", palette.FEASIBLE_REGION_HEX)
-           .replace("__REGION_ALPHA__", f"{palette.FEASIBLE_REGION_ALPHA:g}")
-)
-"""The page script with the palette's colours filled in."""
+
+
+def page_script(mass_unit: str = "kg") -> str:
+    """The page script with the palette's colours and the unit of the takeoff mass the
+    page's data is in filled in (the numbers themselves come converted in the page data)."""
+    return (_SCRIPT_SOURCE.replace("__REGION_FILL__", palette.FEASIBLE_REGION_HEX)
+            .replace("__REGION_ALPHA__", f"{palette.FEASIBLE_REGION_ALPHA:g}")
+            .replace("__MASS_UNIT__", mass_unit))
+
+
+PAGE_SCRIPT = page_script()
+"""The page script with the palette's colours filled in, for a page in SI."""

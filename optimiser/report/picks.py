@@ -178,10 +178,11 @@ def write_flaps(run: Run, table, fronts, force=False) -> Path:
     return out
 
 
-def flaps_summary(study, table, out=None) -> str:
-    """The terminal summary of the flap comparison, with the caution."""
+def flaps_summary(study, table, out=None, units: str | None = None) -> str:
+    """The terminal summary of the flap comparison, with the caution; ``units``: ``"si"`` or
+    ``"us"`` (default :func:`~optimiser.display_units.current_system`)."""
     lines = [f"study {study.name}: flap options compared under identical constraints and "
-             "budget (one NSGA-II each)", sheet.flaps_text_table(study, table)]
+             "budget (one NSGA-II each)", sheet.flaps_text_table(study, table, units)]
     if out is not None:
         lines.append(f"wrote {out}/ (flaps.csv, flaps.md, flaps.png/.svg)")
     lines.append(CAUTION)

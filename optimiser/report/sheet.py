@@ -12,7 +12,7 @@ import math
 
 import numpy as np
 
-from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, heading, short_and_unit,
+from ..columns import (COLUMN_DOCS, CONSTRAINT_LABELS, short_and_unit,
                        unit_of)
 from ..display_units import SI, column_display, resolve
 from ..display_units import heading as display_heading
@@ -222,22 +222,45 @@ FLAP_COLUMNS_DOC = {
 }
 
 
-def flaps_text_table(study, table) -> str:
-    """A plain-text table of the flap comparison for the terminal."""
+def _best(r, column, system):
+    """A flap option's best value of ``column`` (``best_<column>`` of flaps.csv, SI) in
+    ``system``'s units."""
+    return column_display(column, r[f"best_{column}"], system)[0]
+
+
+def _penalties(study, r, system):
+    """(extra trip fuel at equal engine size, extra engine size at equal trip fuel) of one
+    row of the flap comparison in ``system``'s units (flaps.csv stays SI)."""
     eng = study.engine_size_column
-    unit = unit_of(eng)
-    head = (f"{'flap':<22}{'feasible':>9}{'best fuel kg':>13}{'best eng ' + unit:>12}"
-            f"{'best MI':>8}{'front %':>8}{'HV':>7}{'+fuel @eng kg':>14}"
-            f"{'+eng @fuel ' + unit:>14}")
+    fuel = column_display("trip_fuel_kg", r["extra_trip_fuel_at_equal_engine_kg"], system)[0]
+    engine = column_display(eng, r[f"extra_engine_at_equal_trip_fuel_{unit_of(eng)}"],
+                            system)[0]
+    return fuel, engine
+
+
+def flaps_text_table(study, table, units=None) -> str:
+    """A plain-text table of the flap comparison for the terminal, in ``units`` (``"si"``
+    or ``"us"``; default :func:`~optimiser.display_units.current_system`)."""
+    system = resolve(units)
+    eng = study.engine_size_column
+    _, fuel_unit = column_display("trip_fuel_kg", 0.0, system)
+    _, unit = column_display(eng, 0.0, system)
+    w_eng = max(12, len(f"best eng {unit}") + 1)       # SI: the widths as they always were
+    w_extra = max(14, len(f"+eng @fuel {unit}") + 1)
+    head = (f"{'flap':<22}{'feasible':>9}{'best fuel ' + fuel_unit:>13}"
+            f"{'best eng ' + unit:>{w_eng}}"
+            f"{'best MI':>8}{'front %':>8}{'HV':>7}{'+fuel @eng ' + fuel_unit:>14}"
+            f"{'+eng @fuel ' + unit:>{w_extra}}")
     lines = [head]
     for _, r in table.iterrows():
         ref = " (reference)" if r["reference_option"] else ""
+        fuel, engine = _penalties(study, r, system)
         lines.append(f"{r['flap']:<22}{'yes' if r['feasible_found'] else 'NO':>9}"
-                     f"{_fmt(r['best_trip_fuel_kg']):>13}{_fmt(r[f'best_{eng}']):>12}"
+                     f"{_fmt(_best(r, 'trip_fuel_kg', system)):>13}"
+                     f"{_fmt(_best(r, eng, system)):>{w_eng}}"
                      f"{_fmt(r['best_maintenance_index']) if 'best_maintenance_index' in r else '':>8}"
                      f"{100 * r['share_of_combined_front']:>8.0f}{r['hypervolume']:>7.3f}"
-                     f"{_fmt(r['extra_trip_fuel_at_equal_engine_kg']):>14}"
-                     f"{_fmt(r[f'extra_engine_at_equal_trip_fuel_{unit}']):>14}{ref}")
+                     f"{_fmt(fuel):>14}{_fmt(engine):>{w_extra}}{ref}")
         if r["note"]:
             lines.append(f"    {r['flap']}: {r['note']}")
     lines.append("+fuel @eng: mean extra trip fuel against the reference option at equal engine "
@@ -248,34 +271,49 @@ def flaps_text_table(study, table) -> str:
     return "\n".join(lines)
 
 
-def flaps_markdown(study, table) -> str:
-    """The flap comparison as Markdown with the meaning of each column and the caution."""
-    from ..evaluation import CAUTION
+def flaps_cells(study, table, system=None, percentages=True):
+    """``(header, rows)`` of the flap comparison for flaps.md and the report page, numbers
+    in ``system``'s units (default :func:`~optimiser.display_units.current_system`; flaps.csv
+    stays SI); ``percentages`` adds each penalty as a percentage of the reference's."""
+    system = resolve(system)
     eng = study.engine_size_column
-    unit = unit_of(eng)
     cols = list(study.objective_columns())
-    head = ["flap", "feasible", *[f"best {heading(c)}"
-                                  for c in cols],
+    _, fuel_unit = column_display("trip_fuel_kg", 0.0, system)
+    _, eng_unit = column_display(eng, 0.0, system)
+    head = ["flap", "feasible", *[f"best {display_heading(c, system)}" for c in cols],
             "share of combined front", "hypervolume",
-            "extra trip fuel at equal engine size [kg]",
-            f"extra engine size at equal trip fuel [{unit}]", "note"]
+            f"extra trip fuel at equal engine size [{fuel_unit}]",
+            f"extra engine size at equal trip fuel [{eng_unit}]", "note"]
     rows = []
     for _, r in table.iterrows():
         name = r["flap"] + (" (reference)" if r["reference_option"] else "")
         feas = "yes" if r["feasible_found"] else \
             f"no: {r['failing_constraint']} {r['best_margin_failing']:+.1%} at best"
-        pen_f = _fmt(r["extra_trip_fuel_at_equal_engine_kg"])
-        if not math.isnan(r["extra_trip_fuel_at_equal_engine_pct"]) and not r["reference_option"]:
-            pen_f += f" ({r['extra_trip_fuel_at_equal_engine_pct']:+.1f} %)"
-        pen_e = _fmt(r[f"extra_engine_at_equal_trip_fuel_{unit}"])
-        if not math.isnan(r["extra_engine_at_equal_trip_fuel_pct"]) and not r["reference_option"]:
-            pen_e += f" ({r['extra_engine_at_equal_trip_fuel_pct']:+.1f} %)"
-        rows.append([name, feas, *[_fmt(r[f"best_{c}"]) for c in cols],
+        fuel, engine = _penalties(study, r, system)
+        pen_f, pen_e = _fmt(fuel), _fmt(engine)
+        if percentages and not r["reference_option"]:
+            if not math.isnan(r["extra_trip_fuel_at_equal_engine_pct"]):
+                pen_f += f" ({r['extra_trip_fuel_at_equal_engine_pct']:+.1f} %)"
+            if not math.isnan(r["extra_engine_at_equal_trip_fuel_pct"]):
+                pen_e += f" ({r['extra_engine_at_equal_trip_fuel_pct']:+.1f} %)"
+        rows.append([name, feas, *[_fmt(_best(r, c, system)) for c in cols],
                      f"{r['share_of_combined_front']:.0%}", f"{r['hypervolume']:.3f}",
                      pen_f, pen_e, r["note"]])
+    return head, rows
+
+
+def flaps_markdown(study, table, units=None) -> str:
+    """The flap comparison as Markdown with the meaning of each column and the caution, in
+    ``units`` (``"si"`` or ``"us"``; default
+    :func:`~optimiser.display_units.current_system`)."""
+    from ..evaluation import CAUTION
+    system = resolve(units)
+    head, rows = flaps_cells(study, table, system)
     doc = "\n".join(f"- `{k}`: {v}" for k, v in FLAP_COLUMNS_DOC.items())
+    note = [] if system == SI else [
+        "Numbers in US customary units; the column names and flaps.csv stay SI.", ""]
     return "\n".join([f"# {study.name}: flap options compared", "",
                       "Every option had its own NSGA-II with the same population, generations "
                       "and seed stream, under the same constraints.", "",
-                      f"> **Caution.** {CAUTION}", "", _md_table(head, rows), "",
+                      f"> **Caution.** {CAUTION}", "", *note, _md_table(head, rows), "",
                       "Columns of flaps.csv:", "", doc, "", "---", "", f"*{CAUTION}*", ""])
