@@ -86,12 +86,11 @@ US_CONVERSIONS = {
     "kN": Conversion("lbf", POUND_FORCE_N / 1000.0),
     "kW": Conversion("hp", HORSEPOWER_W / 1000.0),
     "km": Conversion("nmi", NAUTICAL_MILE_M / 1000.0),  # ranges (payload-range corners)
-    "kg/(N s)": Conversion("lb/(lbf h)", POUND_KG / (POUND_FORCE_N * 3600.0)),  # jet TSFC
-    "kg/J": Conversion("lb/(hp h)", POUND_KG / (HORSEPOWER_W * 3600.0)),  # shaft-engine SFC
+    "kg/(N s)": Conversion("lb/lbf/h", POUND_KG / (POUND_FORCE_N * 3600.0)),  # jet TSFC
     "K abs": Conversion("degF", 5.0 / 9.0, -459.67),   # absolute temperature, with offset
     # the study's own engine figures (``optimiser check``, the report's study table)
     "kg/kW": Conversion("lb/hp", POUND_KG / (HORSEPOWER_W / 1000.0)),   # specific mass
-    "kg/J": Conversion("lb/hp/h", POUND_KG / (HORSEPOWER_W * 3600.0)),  # fuel per energy
+    "kg/J": Conversion("lb/hp/h", POUND_KG / (HORSEPOWER_W * 3600.0)),  # shaft-engine SFC
     "kg/N/s": Conversion("lb/lbf/h", POUND_KG / (POUND_FORCE_N * 3600.0)),  # fuel per impulse
 }
 """SI unit (as written in :mod:`optimiser.columns`) -> its US customary display."""

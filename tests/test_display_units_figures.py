@@ -194,7 +194,7 @@ def test_tornado_changes_and_steps_in_us(tiny_run, monkeypatch, tmp_path):
     assert steps["departure temperature offset"] == "±1 K"   # a difference: unchanged
     # 1 lb/(hp h) = 0.45359237 kg / (745.69987158227022 W x 3600 s)
     sfc = row.loc["cruise SFC", "step"].iloc[0]
-    assert steps["cruise SFC"] == f"±{sfc / (LB / (HP_KW * 1000 * 3600)):.3g} lb/(hp h)"
+    assert steps["cruise SFC"] == f"±{sfc / (LB / (HP_KW * 1000 * 3600)):.3g} lb/hp/h"
     with du.using("si"):   # SI: the table's step and unit as they are
         first = next(r for r in table.itertuples() if r.input == "design range")
         assert tornado._step(first) == f"±{first.step:.3g} m"
@@ -203,7 +203,7 @@ def test_tornado_changes_and_steps_in_us(tiny_run, monkeypatch, tmp_path):
 def test_jet_fuel_consumption_in_pounds_per_pound_force_hour():
     # 1 lb/(lbf h) = 0.45359237 kg / (4.4482216152605 N x 3600 s) = 2.8325e-5 kg/(N s)
     shown, unit = du.to_display(2.8325e-5, "kg/(N s)", "us")
-    assert unit == "lb/(lbf h)" and shown == pytest.approx(2.8325e-5 * LBF * 3600 / LB, rel=1e-15)
+    assert unit == "lb/lbf/h" and shown == pytest.approx(2.8325e-5 * LBF * 3600 / LB, rel=1e-15)
     assert shown == pytest.approx(1.0, rel=1e-4)
 
 
