@@ -51,8 +51,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .uncertainty import (RELIABILITY_SAMPLES, overrides_from_factors, sample_factors,
-                          wilson_interval)
+from .uncertainty import (RELIABILITY_SAMPLES, nominal_draws, overrides_from_factors,
+                          sample_factors, wilson_interval)
 
 ROWS_PER_CALL = 200_000
 """Rows (design x sample) of one vectorised analysis call (ours: bounds the memory of a
@@ -122,8 +122,8 @@ def draw_samples(study, setting: ChanceSetting) -> tuple[dict, dict]:
     rng = np.random.default_rng(np.random.SeedSequence([setting.seed, SAMPLE_STREAM]))
     assumptions = study.uncertainty["assumptions"]
     factors = sample_factors(assumptions, setting.samples, rng)
-    ones = {k: np.ones(1) for k in factors}
-    nominal = {k: float(v[0]) for k, v in overrides_from_factors(study.spec, ones)[0].items()}
+    nominal = {k: float(v[0]) for k, v in overrides_from_factors(
+        study.spec, nominal_draws(factors))[0].items()}
     return overrides_from_factors(study.spec, factors)[0], nominal
 
 

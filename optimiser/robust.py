@@ -19,6 +19,23 @@ studies), ``sfc`` (cruise power-specific or thrust-specific fuel consumption, wh
 study uses) and ``empty_mass_factor``. Draws are independent. Efficiencies are capped at 0.95
 (the spec's upper limit; the cap and the share of capped draws are reported).
 
+The same table may sample operating conditions (:data:`UNCERTAIN_CONDITIONS`), each drawn
+once per sample and independent of the rest::
+
+    temperature_offset = { distribution = "normal", std = "5 K" }        # added to both airfields
+    headwind = { distribution = "uniform", low = "-10 kn", high = "20 kn" }  # along both runways
+    runway_friction = { distribution = "uniform", low = 0.8, high = 1.25 }   # factor on friction
+
+The temperature change is added to the ISA offsets of the departure and the destination (the
+day's weather); the wind component acts along both runways (negative: tailwind) and the field
+lengths count 50 % of a headwind and 150 % of a tailwind (14 CFR 25.105(d)(1), 25.125(f);
+from memory); the friction factor multiplies the departure's rolling and the destination's
+braking friction. Values are held inside the model's ranges
+(:data:`optimiser.sizing.inputs.OVERRIDE_RANGES`). In the frozen mode they are the usual
+questions about an airplane as built: a hotter day, a tailwind, a wet runway. Their draws are
+the ``temperature_offset_change_K``, ``headwind_m_s`` and ``factor_runway_friction`` columns
+of ``samples.csv``.
+
 In the ``resize`` mode (:func:`monte_carlo`) the design keeps its wing loading, power loading
 (or thrust-to-weight), aspect ratio and flap; every sample is sized completely, so takeoff mass, wing area and engine size follow the
 perturbed assumptions. All samples go through ONE call of
@@ -35,7 +52,8 @@ empty-mass factor makes the structure as built heavier or lighter. Every sample 
 design's maximum takeoff mass (the sized takeoff mass) with the study's payload, so extra empty
 mass comes out of the fuel on board, and the ``mission_fuel`` margin says whether the mission
 still closes. Stall and landing depend on mass and CLmax only, so in this mode they do not
-vary; the frozen constraints (:func:`optimiser.sizing.frozen.analysis_constraints`) replace
+vary (unless the conditions are sampled: the landing then follows the destination's
+temperature, wind and friction); the frozen constraints (:func:`optimiser.sizing.frozen.analysis_constraints`) replace
 ``mass_closure`` with ``mission_fuel`` and ``max_takeoff_mass``. A design sized at the study's
 values carries exactly its mission fuel (``mission_fuel`` nominal margin 0), so with
 assumptions spread both ways that margin is met in about half the samples: the frozen mode
@@ -57,8 +75,9 @@ import numpy as np
 from .columns import CONSTRAINT_LABELS
 from .uncertainty import (DEFAULT_SAMPLES, DISTRIBUTIONS, EFFICIENCY_CAP,  # noqa: F401
                           FACTOR_FLOOR, FACTOR_RANGE, MAX_SAMPLES, MAX_STD,
-                          UNCERTAIN_ASSUMPTIONS, Z95, overrides_from_factors, read_uncertainty,
-                          sample_factors, wilson_interval)
+                          UNCERTAIN_ASSUMPTIONS, UNCERTAIN_CONDITIONS, Z95, draw_column,
+                          overrides_from_factors, read_uncertainty, sample_factors,
+                          wilson_interval)
 
 MODES = ("frozen", "resize")
 """The ways of ``optimiser robust``: the airplane sized once and frozen (default), or
@@ -119,7 +138,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
                            **overrides})
     names = active_constraints(spec)
     size_col = study.engine_size_column
-    frame = pd.DataFrame({f"factor_{k}": v for k, v in factors.items()})
+    frame = pd.DataFrame({draw_column(k): v for k, v in factors.items()})
     for col in ("trip_fuel_kg", "takeoff_mass_kg", size_col):
         frame[col] = out[col]
     for c in names:
@@ -146,7 +165,8 @@ def _draw(study, design, samples, seed, uncertainty):
     assumptions = unc.get("assumptions", {})
     if not assumptions:
         raise ValueError(f"{study.path}: no uncertain assumptions; expected an [uncertainty] "
-                         "table with at least one of: " + ", ".join(UNCERTAIN_ASSUMPTIONS))
+                         "table with at least one of: "
+                         + ", ".join([*UNCERTAIN_ASSUMPTIONS, *UNCERTAIN_CONDITIONS]))
     n = int(samples if samples is not None else unc.get("samples", DEFAULT_SAMPLES))
     seed = int(seed if seed is not None else (unc.get("seed") if unc.get("seed") is not None
                                               else 1))
@@ -187,7 +207,7 @@ def frozen_monte_carlo(study, design, samples=None, seed=None, uncertainty=None)
     frozen = frozen_from_sized(repeated, np.full(n, flap_index), spec.uses_power_loading)
     out = analyse_designs(spec, frozen, operating_masses(spec, frozen), overrides=overrides)
     names = analysis_checked_constraints(spec, out)
-    frame = pd.DataFrame({f"factor_{k}": v for k, v in factors.items()})
+    frame = pd.DataFrame({draw_column(k): v for k, v in factors.items()})
     for col in ("trip_fuel_kg", "fuel_mass_kg", "fuel_on_board_kg", "takeoff_mass_kg",
                 study.engine_size_column):
         frame[col] = out[col]
@@ -324,8 +344,9 @@ def mode_text(mode: str) -> str:
 
 
 def _dist_text(a):
+    u = f" {a['unit']}" if a.get("unit") else ""  # additive conditions, in SI
     if a["distribution"] == "normal":
-        return f"normal, mean {a['mean']:g}, std {a['std']:g}"
+        return f"normal, mean {a['mean']:g}{u}, std {a['std']:g}{u}"
     if a["distribution"] == "uniform":
-        return f"uniform {a['low']:g} to {a['high']:g}"
-    return f"triangular {a['low']:g} / {a['mode']:g} / {a['high']:g}"
+        return f"uniform {a['low']:g}{u} to {a['high']:g}{u}"
+    return f"triangular {a['low']:g} / {a['mode']:g} / {a['high']:g}{u}"

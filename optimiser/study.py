@@ -465,7 +465,7 @@ def parse_study(text: str, path: str = "<study>") -> Study:
     uncertainty = None
     if "uncertainty" in raw:
         from .uncertainty import read_uncertainty
-        uncertainty = read_uncertainty(rd.fail, raw["uncertainty"], family)
+        uncertainty = read_uncertainty(rd.fail, raw["uncertainty"], family, rd.quantity)
     if "reliability" in search and not (uncertainty or {}).get("assumptions"):
         rd.fail("[search] reliability", f"got {search['reliability']:g} but the study has no "
                 "uncertain assumption; expected an [uncertainty] table (e.g. cd0_clean = { "

@@ -23,6 +23,27 @@ UNCERTAIN_ASSUMPTIONS = {
 }
 """Assumptions an ``[uncertainty]`` table may perturb, with a plain description."""
 
+UNCERTAIN_CONDITIONS = {
+    "temperature_offset": "the day's temperature: a change added to both airfields' ISA "
+                          "offsets (a temperature difference, e.g. std = \"5 K\")",
+    "headwind": "wind along both runways, against the takeoff and the landing (negative: "
+                "tailwind; e.g. low = \"-10 kn\", high = \"20 kn\"); the field lengths count "
+                "50 % of a headwind and 150 % of a tailwind",
+    "runway_friction": "a factor on both runways' friction: rolling at departure, braking at "
+                       "the destination",
+}
+"""Operating conditions an ``[uncertainty]`` table may sample, with a plain description:
+``temperature_offset`` and ``headwind`` are additive quantities with a unit (their nominal is
+0), ``runway_friction`` a factor like the assumptions (nominal 1)."""
+
+ADDITIVE_CONDITIONS = {
+    # key: (SI unit, largest |value| of a parameter, largest std) -- common practice: ISA
+    # offsets of the design days are within about 40 K, winds along a runway within 30 m/s
+    "temperature_offset": ("K", 40.0, 20.0),
+    "headwind": ("m/s", 30.0, 15.0),
+}
+"""The additive conditions, their SI unit and the limits of their parameters."""
+
 DISTRIBUTIONS = {
     "normal": ("mean", "std"),
     "uniform": ("low", "high"),
@@ -41,12 +62,14 @@ DEFAULT_SAMPLES = 10000
 MAX_SAMPLES = 2_000_000
 
 
-def read_uncertainty(fail, raw, family):
+def read_uncertainty(fail, raw, family, quantity=None):
     """Validate an ``[uncertainty]`` table (the parsed TOML dict).
 
     ``fail(where, message)`` raises the study layer's one-line error; ``family`` is the
-    propulsion family. Returns ``{"samples": int, "seed": int | None, "assumptions": {key:
-    {"distribution": str, <parameters>: float}}}``.
+    propulsion family; ``quantity(where, value, unit, lo, hi)`` reads a value with its unit
+    (the study's reader; needed for the additive conditions). Returns ``{"samples": int,
+    "seed": int | None, "assumptions": {key: {"distribution": str, <parameters>: float}}}``,
+    the conditions among the assumptions (their parameters in SI).
     """
     if not isinstance(raw, dict):
         fail("[uncertainty]", f"got {raw!r}; expected a table ([uncertainty])")
@@ -60,9 +83,9 @@ def read_uncertainty(fail, raw, family):
                 fail(where, f"got {value!r}; expected a whole number from {lo} to {hi}")
             out[key] = value
             continue
-        if key not in UNCERTAIN_ASSUMPTIONS:
+        if key not in UNCERTAIN_ASSUMPTIONS and key not in UNCERTAIN_CONDITIONS:
             fail("[uncertainty]", f"unknown key {key!r}; expected 'samples', 'seed' or one of: "
-                 + ", ".join(UNCERTAIN_ASSUMPTIONS))
+                 + ", ".join([*UNCERTAIN_ASSUMPTIONS, *UNCERTAIN_CONDITIONS]))
         if key == "propeller_efficiency" and family == "turbofan":
             fail(where, "given for a turbofan study; expected it only for propeller studies")
         if not isinstance(value, dict):
@@ -73,6 +96,9 @@ def read_uncertainty(fail, raw, family):
             fail(f"{where} distribution", f"got {dist!r}; expected one of: "
                  + ", ".join(repr(d) for d in DISTRIBUTIONS))
         params = DISTRIBUTIONS[dist]
+        if key in ADDITIVE_CONDITIONS:
+            out["assumptions"][key] = _read_additive(fail, quantity, where, key, value, dist)
+            continue
         entry = {"distribution": dist}
         for p, v in value.items():
             if p == "distribution":
@@ -108,15 +134,64 @@ def read_uncertainty(fail, raw, family):
     return out
 
 
+def _read_additive(fail, quantity, where, key, value, dist):
+    """One additive condition's entry (parameters in SI), checked against
+    :data:`ADDITIVE_CONDITIONS`."""
+    unit, biggest, max_std = ADDITIVE_CONDITIONS[key]
+    params = DISTRIBUTIONS[dist]
+    example = "\"5 K\"" if unit == "K" else "\"10 kn\""
+    entry = {"distribution": dist, "unit": unit}
+    for p, v in value.items():
+        if p == "distribution":
+            continue
+        if p not in params:
+            fail(where, f"unknown key {p!r} for a {dist} distribution; expected: "
+                 + ", ".join(params))
+        if quantity is None or not isinstance(v, str):
+            fail(f"{where} {p}", f"got {v!r}; expected a value with its unit, e.g. {example}")
+        entry[p] = quantity(f"{where} {p}", v, unit, -biggest if p != "std" else 0.0, biggest)
+    if dist == "normal":
+        entry.setdefault("mean", 0.0)
+        if "std" not in entry:
+            fail(where, f"missing key 'std' (standard deviation, e.g. {example})")
+        if entry["std"] > max_std:
+            fail(f"{where} std", f"got {entry['std']:g} {unit}; expected at most {max_std:g} "
+                 f"{unit}")
+        return entry
+    for p in params:
+        if p not in entry:
+            fail(where, f"missing key {p!r} (a value with its unit, e.g. {example})")
+    order = [entry[p] for p in params]
+    if order != sorted(order) or entry["low"] == entry["high"]:
+        fail(where, "expected " + " <= ".join(params) + " with low < high; got "
+             + ", ".join(f"{p} = {entry[p]:g} {unit}" for p in params))
+    return entry
+
+
+def nominal_draws(keys) -> dict:
+    """The draw of each key at the study's own values: 0 for an additive condition, 1 for a
+    factor (one value each, arrays of length 1)."""
+    return {k: np.array([0.0 if k in ADDITIVE_CONDITIONS else 1.0]) for k in keys}
+
+
+def draw_column(key: str) -> str:
+    """The samples-table column of a key's draws: ``factor_<key>`` for a factor,
+    ``temperature_offset_change_K`` and ``headwind_m_s`` for the additive conditions."""
+    return {"temperature_offset": "temperature_offset_change_K",
+            "headwind": "headwind_m_s"}.get(key, f"factor_{key}")
+
+
 EFFICIENCY_CAP = 0.95
 FACTOR_FLOOR = 0.01
 Z95 = 1.959963984540054  # standard normal quantile at 0.975
 
 
 def sample_factors(assumptions: dict, n: int, rng) -> dict:
-    """Draw ``n`` factors per assumption (in :data:`UNCERTAIN_ASSUMPTIONS` order)."""
+    """Draw ``n`` values per key: factors of the assumptions (in
+    :data:`UNCERTAIN_ASSUMPTIONS` order), then the conditions (in
+    :data:`UNCERTAIN_CONDITIONS` order; additive ones in SI, not floored)."""
     out = {}
-    for key in UNCERTAIN_ASSUMPTIONS:
+    for key in (*UNCERTAIN_ASSUMPTIONS, *UNCERTAIN_CONDITIONS):
         if key not in assumptions:
             continue
         a = assumptions[key]
@@ -126,7 +201,7 @@ def sample_factors(assumptions: dict, n: int, rng) -> dict:
             x = rng.uniform(a["low"], a["high"], n)
         else:
             x = rng.triangular(a["low"], a["mode"], a["high"], n)
-        out[key] = np.maximum(x, FACTOR_FLOOR)
+        out[key] = x if key in ADDITIVE_CONDITIONS else np.maximum(x, FACTOR_FLOOR)
     return out
 
 
@@ -158,7 +233,33 @@ def overrides_from_factors(spec, factors: dict) -> tuple[dict, dict]:
             ov["sfc_cruise"] = pr.sfc_cruise * factors["sfc"]
     if "empty_mass_factor" in factors:
         ov["empty_mass_factor"] = wt.empty_mass_factor * factors["empty_mass_factor"]
+    _condition_overrides(spec, factors, ov)
     return ov, capped
+
+
+def _condition_overrides(spec, draws: dict, ov: dict):
+    """The operating conditions' per-sample spec values (into ``ov``), held inside the
+    model's override ranges (:data:`optimiser.sizing.inputs.OVERRIDE_RANGES`)."""
+    from .sizing.inputs import OVERRIDE_RANGES
+    dep, dst = spec.departure, spec.destination
+
+    def held(key, x):
+        return np.clip(x, *OVERRIDE_RANGES[key])
+
+    if "temperature_offset" in draws:
+        d = np.asarray(draws["temperature_offset"], dtype=float)
+        ov["departure_temperature_offset_K"] = held("departure_temperature_offset_K",
+                                                    dep.temperature_offset_K + d)
+        ov["destination_temperature_offset_K"] = held("destination_temperature_offset_K",
+                                                      dst.temperature_offset_K + d)
+    if "headwind" in draws:
+        w = np.asarray(draws["headwind"], dtype=float)
+        ov["departure_headwind_m_s"] = held("departure_headwind_m_s", w)
+        ov["destination_headwind_m_s"] = held("destination_headwind_m_s", w)
+    if "runway_friction" in draws:
+        f = np.asarray(draws["runway_friction"], dtype=float)
+        ov["rolling_friction"] = held("rolling_friction", dep.rolling_friction * f)
+        ov["braking_friction"] = held("braking_friction", dst.braking_friction * f)
 
 
 def wilson_interval(p, n, z=Z95):

@@ -95,13 +95,16 @@ _GL_W = 0.5 * _GL_W
 
 
 def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground_effect,
-                cl_ground, rolling_friction, min_acceleration=0.01):
+                cl_ground, rolling_friction, min_acceleration=0.01, headwind=None):
     """Ground-roll distance [m] by integrating the equation of motion from rest to lift-off.
 
     m dV/dt = T(V) - D(V) - mu (W - L(V)), integrated in the speed domain,
     s = integral_0^V_LO V / a(V) dV, by 12-point Gauss-Legendre quadrature (within 1e-4 of
     a 64-point rule over the demo studies; for constant thrust it matches the closed form, see
-    the tests).
+    the tests). With a headwind component V_w (negative: tailwind) the airplane starts at
+    airspeed V_w and covers ground at V - V_w: s = integral_{V_w}^{V_LO} (V - V_w) / a(V) dV
+    (kinematics; the thrust is taken at max(V, 0), and the aerodynamic forces with V^2, which
+    slightly overstates the roll while a tailwind makes the airspeed negative).
 
     Parameters
     ----------
@@ -126,6 +129,9 @@ def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground
     min_acceleration : float
         Acceleration floor [m s^-2]; a design whose acceleration falls below it anywhere in
         the roll cannot lift off and is flagged (the distance stays finite).
+    headwind : array_like, optional
+        Wind component against the takeoff direction [m s^-1] (negative: tailwind), below
+        the lift-off speed; None: still air (the same numbers as 0, bit for bit).
 
     Returns
     -------
@@ -139,6 +145,9 @@ def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground
     w = np.asarray(weight, float)[:, None]
     s_ref = np.asarray(wing_area, float)[:, None]
     vlo = np.asarray(v_liftoff, float)
+    if headwind is not None:
+        return _ground_roll_in_wind(w, s_ref, vlo, thrust_at, density, cd0, k, ground_effect,
+                                    cl_ground, rolling_friction, min_acceleration, headwind)
     v = vlo[:, None] * _GL_X[None, :]
     q_s = 0.5 * np.asarray(density, float).reshape(-1, 1) * v * v * s_ref
     clg = np.asarray(cl_ground, float).reshape(-1, 1) * np.ones_like(w)
@@ -154,6 +163,51 @@ def ground_roll(weight, wing_area, v_liftoff, thrust_at, density, cd0, k, ground
     distance = vlo * ((v / a_eff) * _GL_W).sum(axis=1)
     thrust_lo = thrust_at(vlo[:, None])[:, 0]
     return distance, min_accel, thrust_lo
+
+
+def _ground_roll_in_wind(w, s_ref, vlo, thrust_at, density, cd0, k, ground_effect, cl_ground,
+                         rolling_friction, min_acceleration, headwind):
+    """:func:`ground_roll` with a headwind component (its parameters; ``w``, ``s_ref`` as
+    columns)."""
+    vw = np.broadcast_to(np.asarray(headwind, float), vlo.shape)
+    v = vw[:, None] + (vlo - vw)[:, None] * _GL_X[None, :]
+    q_s = 0.5 * np.asarray(density, float).reshape(-1, 1) * v * v * s_ref
+    clg = np.asarray(cl_ground, float).reshape(-1, 1) * np.ones_like(w)
+    cd = np.asarray(cd0, float).reshape(-1, 1) + np.asarray(ground_effect, float).reshape(-1, 1) \
+        * np.asarray(k, float).reshape(-1, 1) * clg**2
+    mu = np.asarray(rolling_friction, float).reshape(-1, 1)
+    normal = np.maximum(w - q_s * clg, 0.0)
+    accel = G0 / w * (thrust_at(np.maximum(v, 0.0)) - q_s * cd - mu * normal)
+    min_accel = accel.min(axis=1)
+    a_eff = np.maximum(accel, min_acceleration)
+    distance = (vlo - vw) * (((v - vw[:, None]) / a_eff) * _GL_W).sum(axis=1)
+    thrust_lo = thrust_at(vlo[:, None])[:, 0]
+    return distance, min_accel, thrust_lo
+
+
+HEADWIND_CREDIT = 0.5
+"""Share of a headwind component the takeoff and landing distances may count [-]: not more than
+50 % (14 CFR 25.105(d)(1) for takeoff, 25.125(f) for landing; from memory)."""
+TAILWIND_PENALTY = 1.5
+"""Factor on a tailwind component the takeoff and landing distances must count [-]: not less
+than 150 % (the same paragraphs; from memory)."""
+
+
+def factored_wind(headwind):
+    """The wind component the field lengths use [m s^-1]: 50 % of a headwind, 150 % of a
+    tailwind (:data:`HEADWIND_CREDIT`, :data:`TAILWIND_PENALTY`). ``headwind`` [m s^-1],
+    positive against the direction of takeoff or landing."""
+    w = np.asarray(headwind, dtype=float)
+    return np.where(w >= 0.0, HEADWIND_CREDIT * w, TAILWIND_PENALTY * w)
+
+
+def ground_run_in_wind_ratio(ground_speed_air_m_s, headwind):
+    """(1 - V_w / V)^2 [-]: the ratio of a ground run at constant acceleration in a wind to the
+    still-air run, the run ending (or starting) at airspeed V (uniform acceleration:
+    s = V_g^2 / (2 a), V_g = V - V_w; derived). Used where the model has no speed integral
+    (the balanced field length)."""
+    v = np.asarray(ground_speed_air_m_s, dtype=float)
+    return (1.0 - np.asarray(headwind, dtype=float) / v) ** 2
 
 
 def ground_roll_constant_thrust(thrust_to_weight, wing_loading, density, cd0, k, ground_effect,
@@ -230,14 +284,18 @@ def balanced_field_length_torenbeek(wing_loading, density, cl_climb, mean_thrust
 
 def landing_distance(wing_loading, density, cl_max_landing, braking_friction, obstacle_height,
                      approach_angle=np.radians(3.0), flare_speed_factor=1.23, free_roll_time=3.0,
-                     flare_load_factor=1.2, ground_factor=1.15):
+                     flare_load_factor=1.2, ground_factor=1.15, headwind=None,
+                     approach_speed_factor=1.3):
     """Landing distance from the obstacle height [m] and its parts (approach, flare, ground).
 
     Approach at angle theta_a; flare arc R = V_F^2 / (g (n - 1)), V_F = 1.23 V_s, n = 1.2;
     h_F = R (1 - cos theta_a); s_a = (h_OB - h_F) / tan(theta_a); s_F = R sin(theta_a);
     ground s_g = j N V_s + j^2 (W/S) / (g rho CLmax mu_B) with j = 1.15 and free roll N [s].
     The approach speed V_A = 1.3 V_s fixes the approach angle's geometry; the flare speed the
-    arc.
+    arc. With a headwind component V_w (negative: tailwind; None: still air), each part covers
+    ground at its ground speed: approach x (V_A - V_w) / V_A, flare x (V_F - V_w) / V_F, free
+    roll N (V_TD - V_w) and braking (V_TD - V_w)^2 / (2 g mu_B (rho CLmax V_s^2 / (2 W/S)))
+    with V_TD = j V_s (the still-air braking term is V_TD^2 / (2 a); kinematics, derived).
 
     References
     ----------
@@ -255,6 +313,15 @@ def landing_distance(wing_loading, density, cl_max_landing, braking_friction, ob
     h_f = radius * (1.0 - np.cos(approach_angle))
     s_a = np.maximum(obstacle_height - h_f, 0.0) / np.tan(approach_angle)
     s_f = radius * np.sin(approach_angle)
+    if headwind is not None:
+        vw = np.asarray(headwind, dtype=float)
+        va = approach_speed_factor * vs
+        s_a = s_a * (va - vw) / va
+        s_f = s_f * (vf - vw) / vf
+        v_td = ground_factor * vs
+        s_g = free_roll_time * (v_td - vw) + ground_factor**2 * wing_loading / (
+            G0 * density * cl_max_landing * braking_friction) * ((v_td - vw) / v_td) ** 2
+        return s_a + s_f + s_g, s_a, s_f, s_g
     s_g = ground_factor * free_roll_time * vs + ground_factor**2 * wing_loading / (
         G0 * density * cl_max_landing * braking_friction)
     return s_a + s_f + s_g, s_a, s_f, s_g

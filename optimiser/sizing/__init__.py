@@ -135,7 +135,7 @@ def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
     field = takeoff_field(spec, ap, air, to, oei)
     land = landing(spec, ap, air)
     land_required = landing_field_required(spec, land.distance_m)
-    climb = climb_and_ceiling(spec, ap)
+    climb = climb_and_ceiling(spec, ap, air)
     gradient_required = aeo_climb_gradient_required(spec, ap)
     transport = transport_climb_segments(spec, ap, air, to.liftoff_speed_m_s)
     cruise = cruise_speed(spec, ap, air, consumption.propeller_efficiency,

@@ -27,7 +27,10 @@ def isa_state(h_m: float, dt_K: float = 0.0):
 
 @dataclass(frozen=True, slots=True)
 class AirStates:
-    """Air at the departure and destination airfields and at cruise, and the cruise speed."""
+    """Air at the departure and destination airfields and at cruise, the cruise speed, and the
+    airfields' wind and runway friction. Study-wide scalars, or one per design where the
+    overrides give them (the cruise states with the cruise altitude as a variable; the
+    airfields' with sampled operating conditions)."""
 
     density_takeoff_kg_m3: float
     temperature_takeoff_K: float
@@ -40,6 +43,14 @@ class AirStates:
     cruise_speed_m_s: float  # true airspeed flown
     cruise_mach: float
     cruise_dynamic_pressure_Pa: float
+    departure_temperature_offset_K: float = 0.0
+    temperature_landing_K: float = 288.15
+    pressure_landing_Pa: float = 101325.0
+    destination_temperature_offset_K: float = 0.0
+    headwind_takeoff_m_s: float | np.ndarray | None = None  # as given; None: still air
+    headwind_landing_m_s: float | np.ndarray | None = None
+    rolling_friction: float = 0.03  # departure runway [-]
+    braking_friction: float = 0.4  # destination runway [-]
 
     def take(self, ix) -> "AirStates":
         """The states of designs ``ix`` (per-design cruise states indexed, scalars kept)."""
@@ -65,7 +76,10 @@ def air_states(spec: AircraftSpec, overrides=None) -> AirStates:
         Resolved study: airfield elevations [m] and temperature offsets [K], cruise altitude
         [m], offset [K] and true airspeed [m s^-1].
     overrides : dict, optional
-        Per-design values; ``cruise_altitude_m`` [m] makes the cruise states per design.
+        Per-design values; ``cruise_altitude_m`` [m] makes the cruise states per design,
+        ``departure_temperature_offset_K`` and ``destination_temperature_offset_K`` [K] the
+        airfields'; ``departure_headwind_m_s``, ``destination_headwind_m_s`` [m s^-1],
+        ``rolling_friction`` and ``braking_friction`` [-] are carried for the field stages.
 
     Returns
     -------
@@ -79,9 +93,12 @@ def air_states(spec: AircraftSpec, overrides=None) -> AirStates:
        (via :mod:`optimiser.physics.atmosphere`).
     """
     dep, dst, ms = spec.departure, spec.destination, spec.mission
-    rho_to, t_to, p_to, _ = isa_state(dep.elevation_m, dep.temperature_offset_K)
-    rho_ld = isa_state(dst.elevation_m, dst.temperature_offset_K)[0]
-    h_cr = (overrides or {}).get("cruise_altitude_m")
+    ov = overrides or {}
+    dt_to = ov.get("departure_temperature_offset_K", dep.temperature_offset_K)
+    dt_ld = ov.get("destination_temperature_offset_K", dst.temperature_offset_K)
+    rho_to, t_to, p_to = _airfield_state(dep.elevation_m, dt_to)
+    rho_ld, t_ld, p_ld = _airfield_state(dst.elevation_m, dt_ld)
+    h_cr = ov.get("cruise_altitude_m")
     if h_cr is None:
         rho_cr, t_cr, p_cr, a_cr = isa_state(ms.cruise_altitude_m, ms.cruise_temperature_offset_K)
     else:
@@ -91,7 +108,20 @@ def air_states(spec: AircraftSpec, overrides=None) -> AirStates:
         p_cr, a_cr = atm.isa_pressure(h_cr), atm.speed_of_sound(t_cr)
     v_cr = ms.cruise_speed_m_s
     return AirStates(rho_to, t_to, p_to, rho_ld, rho_cr, t_cr, p_cr, a_cr, v_cr, v_cr / a_cr,
-                     0.5 * rho_cr * v_cr**2)
+                     0.5 * rho_cr * v_cr**2, dt_to, t_ld, p_ld, dt_ld,
+                     ov.get("departure_headwind_m_s"), ov.get("destination_headwind_m_s"),
+                     ov.get("rolling_friction", dep.rolling_friction),
+                     ov.get("braking_friction", dst.braking_friction))
+
+
+def _airfield_state(elevation_m, offset_K):
+    """(density, temperature, pressure) at an airfield: floats for a study-wide offset (from
+    :func:`isa_state`), arrays for one offset per design."""
+    if np.ndim(offset_K) == 0:
+        return isa_state(elevation_m, offset_K)[:3]
+    dt = np.asarray(offset_K, dtype=float)
+    return (atm.isa_density(elevation_m, dt), atm.isa_temperature(elevation_m, dt),
+            np.full_like(dt, float(atm.isa_pressure(elevation_m))))
 
 
 @dataclass(frozen=True, slots=True)

@@ -15,6 +15,14 @@ from .aero import AirStates
 from .airplane import Airplane
 from .engines import InstalledThrust, engines_at
 
+def field_wind(headwind_m_s, speed_m_s):
+    """The wind component the field lengths count [m s^-1]: 50 % of a headwind, 150 % of a
+    tailwind (:func:`optimiser.physics.performance.factored_wind`), a headwind held below
+    0.9 of the airplane's speed ``speed_m_s`` [m s^-1] (lift-off or touchdown), so that the
+    ground speed stays positive."""
+    return np.minimum(performance.factored_wind(headwind_m_s), 0.9 * speed_m_s)
+
+
 MIN_ACCELERATION_M_S2 = 0.01
 """Acceleration floor of the ground roll [m s^-2] (common practice: keeps the integral finite
 for an airplane that cannot accelerate; its margin says so)."""
@@ -70,10 +78,11 @@ def takeoff(spec: AircraftSpec, ap: Airplane, air: AirStates) -> Takeoff:
     cd0_to = ap.polar.cd0_takeoff
     phi = aero.ground_effect_factor(ad.ground_effect_method, ad.wing_height_m / ap.span_m)
     v_lo = sp.liftoff_speed_factor * vs_to
+    vw = None if air.headwind_takeoff_m_s is None else field_wind(air.headwind_takeoff_m_s, v_lo)
     s_g, min_acc, thrust_lo = performance.ground_roll(
         w, ap.wing_area_m2, v_lo, functools.partial(eng_to.thrust, efficiency=eta_climb),
-        rho_to, cd0_to, k_low, phi, ad.cl_ground_roll, dep.rolling_friction,
-        MIN_ACCELERATION_M_S2)
+        rho_to, cd0_to, k_low, phi, ad.cl_ground_roll, air.rolling_friction,
+        MIN_ACCELERATION_M_S2, vw)
     s_rot = sp.rotation_time_s * v_lo
     tr_factor = max(sp.transition_speed_factor, sp.liftoff_speed_factor)
     v_tr = tr_factor * vs_to
@@ -81,6 +90,9 @@ def takeoff(spec: AircraftSpec, ap: Airplane, air: AirStates) -> Takeoff:
     climb_sine_tr = eng_to.thrust(v_tr, eta_climb) / w - dw_tr
     s_air = performance.takeoff_air_distance(vs_to, climb_sine_tr, dep.obstacle_height_m,
                                              tr_factor, sp.transition_load_factor)
+    if vw is not None:  # ground covered at ground speed: rotation at V_LO, the air path at V_TR
+        s_rot = sp.rotation_time_s * (v_lo - vw)
+        s_air = s_air * (v_tr - vw) / v_tr
     return Takeoff(vs_to, v_lo, thrust_lo, phi, min_acc, s_g, s_rot, s_air, s_g + s_rot + s_air,
                    eng_to)
 
@@ -132,6 +144,10 @@ def takeoff_field(spec: AircraftSpec, ap: Airplane, air: AirStates, to: Takeoff,
         bfl = performance.balanced_field_length_torenbeek(
             ws_c, air.density_takeoff_kg_m3, cl2, mean_tw, cl_to, oei_climb_gradient,
             cert.oei_climb_gradient_min, spec.departure.obstacle_height_m)
+        if air.headwind_takeoff_m_s is not None:  # Torenbeek's fit is for still air: scaled
+            # as a ground run at uniform acceleration to the lift-off speed (derived)
+            vw = field_wind(air.headwind_takeoff_m_s, to.liftoff_speed_m_s)
+            bfl = bfl * performance.ground_run_in_wind_ratio(to.liftoff_speed_m_s, vw)
         return TakeoffField(bfl, np.maximum(bfl, cert.field_length_factor * to.distance_m))
     return TakeoffField(np.zeros_like(ws_c), cert.field_length_factor * to.distance_m)
 
@@ -179,10 +195,13 @@ def landing(spec: AircraftSpec, ap: Airplane, air: AirStates) -> Landing:
     vs_landing_sl = performance.stall_speed(ws_c, atm.RHO0, cl_l)
     ws_land = ws_c * ms.landing_mass_ratio
     cl_l_arr = cl_l * np.ones_like(ws_c)
-    total, s_app, s_flare, s_lg = performance.landing_distance(
-        ws_land, rho_ld, cl_l_arr, dst.braking_friction, dst.obstacle_height_m,
-        sp.approach_angle_rad, sp.flare_speed_factor, sp.free_roll_time_s)
     vs_land_dst = performance.stall_speed(ws_land, rho_ld, cl_l_arr)
+    vw = None if air.headwind_landing_m_s is None else field_wind(
+        air.headwind_landing_m_s, sp.flare_speed_factor * vs_land_dst)
+    total, s_app, s_flare, s_lg = performance.landing_distance(
+        ws_land, rho_ld, cl_l_arr, air.braking_friction, dst.obstacle_height_m,
+        sp.approach_angle_rad, sp.flare_speed_factor, sp.free_roll_time_s,
+        headwind=vw, approach_speed_factor=sp.approach_speed_factor)
     return Landing(vs_landing_sl, sp.approach_speed_factor * vs_land_dst, s_app, s_flare, s_lg,
                    total, cl_l_arr)
 

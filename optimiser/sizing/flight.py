@@ -227,7 +227,7 @@ def _ceiling_residual(spec, ap, dt, target, h, ix):
     return best_climb(spec, ap, h, dt, ix, iterations=10)[0] - target
 
 
-def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
+def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = None) -> Climb:
     """Best climb rate at the departure airfield, the regulatory gradient and the ceiling.
 
     The best climb at the departure airfield is found in one call; the service ceiling is
@@ -244,6 +244,9 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
         the ceiling), required ceiling [m], basis' all-engines climb altitude [m].
     ap : Airplane
         The airplane at takeoff mass.
+    air : AirStates, optional
+        The departure's temperature offset [K], one per design where sampled (default the
+        study's).
 
     Returns
     -------
@@ -261,7 +264,8 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane) -> Climb:
     n = ws_c.size
     h_req = min(max(spec.requirements.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
     roc_dep, v_dep = best_climb(spec, ap, np.full(n, dep.elevation_m),
-                                np.full(n, dep.temperature_offset_K))
+                                np.full(n, dep.temperature_offset_K if air is None
+                                        else air.departure_temperature_offset_K))
     # the ceiling's brackets, at the ceiling search's iterations: the rate at the required
     # ceiling, then at sea level where it is short of the target there (the ceiling lies
     # below) and at the model's top altitude where it is not (the ceiling lies above)
@@ -543,13 +547,17 @@ def transport_climb_segments(spec: AircraftSpec, ap: Airplane, air: AirStates,
                           air.pressure_takeoff_Pa)
     first = gradient(rho_to, t_to, p_to, 1.0, n_out, liftoff_speed_m_s, w,
                      polar.cd0_takeoff + d_oei)
-    rho_f, t_f, p_f, _ = isa_state(dep.elevation_m + FINAL_TAKEOFF_HEIGHT_M,
-                                   dep.temperature_offset_K)
+    if np.ndim(air.departure_temperature_offset_K) == 0:
+        rho_f, t_f, p_f, _ = isa_state(dep.elevation_m + FINAL_TAKEOFF_HEIGHT_M,
+                                       air.departure_temperature_offset_K)
+    else:  # one temperature offset per design (sampled operating conditions)
+        rho_f, p_f, t_f = atm._density_unchecked(
+            np.full(ws_c.shape, dep.elevation_m + FINAL_TAKEOFF_HEIGHT_M),
+            air.departure_temperature_offset_K)
     v_fto = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_f, ad.cl_max_clean)
     final = gradient(rho_f, t_f, p_f, pr.climb_power_fraction, n_out, v_fto, w,
                      ap.drag.cd0 + d_oei)
-    rho_l, t_l, p_l, _ = isa_state(spec.destination.elevation_m,
-                                   spec.destination.temperature_offset_K)
+    rho_l, t_l, p_l = air.density_landing_kg_m3, air.temperature_landing_K, air.pressure_landing_Pa
     w_land = w * spec.mission.landing_mass_ratio
     ws_land = ws_c * spec.mission.landing_mass_ratio
     v_app = APPROACH_CLIMB_SPEED_FACTOR * performance.stall_speed(ws_land, rho_l,

@@ -83,9 +83,32 @@ OVERRIDE_KEYS = {
     "empty_mass_factor": "multiplies the whole empty mass [-]",
     "cruise_altitude_m": "cruise pressure altitude [m] (a decision variable when the study "
                          "gives [variables] cruise_altitude)",
+    "departure_temperature_offset_K": "ISA temperature offset at the departure airfield [K]",
+    "destination_temperature_offset_K": "ISA temperature offset at the destination [K]",
+    "departure_headwind_m_s": "wind component against the takeoff [m/s] (negative: tailwind; "
+                              "the field lengths count 50 % of a headwind, 150 % of a "
+                              "tailwind)",
+    "destination_headwind_m_s": "wind component against the landing [m/s] (negative: "
+                                "tailwind; factored as at departure)",
+    "rolling_friction": "rolling friction of the departure runway [-]",
+    "braking_friction": "braking friction of the destination runway [-]",
 }
 """Spec values that :func:`~optimiser.sizing.size_designs` accepts per design
-(``overrides``), e.g. for a Monte Carlo over uncertain assumptions."""
+(``overrides``), e.g. for a Monte Carlo over uncertain assumptions or operating conditions."""
+
+OVERRIDE_RANGES = {
+    "cruise_altitude_m": (0.0, CRUISE_ALTITUDE_MAX_M),
+    "departure_temperature_offset_K": (-60.0, 50.0),
+    "destination_temperature_offset_K": (-60.0, 50.0),
+    "departure_headwind_m_s": (-30.0, 30.0),
+    "destination_headwind_m_s": (-30.0, 30.0),
+    "rolling_friction": (0.005, 0.5),
+    "braking_friction": (0.02, 1.0),
+}
+"""Closed ranges of the overrides that need not be positive or are bounded [unit of each
+key]: the study's own limits for the same fields (temperature offsets, cruise altitude);
+winds up to 30 m/s (58 kn) along the runway and friction coefficients from ice to a dry
+high-friction surface (common practice). Every other override must be positive."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -173,12 +196,11 @@ def check_overrides(spec, overrides, n):
         if a.shape != (n,):
             raise ValueError(f"overrides: {key!r} has {a.size} values; expected one per design "
                              f"({n}) or a single value")
-        if key == "cruise_altitude_m":
-            if not (np.isfinite(a).all() and (a >= 0.0).all() and (a <= CRUISE_ALTITUDE_MAX_M)
-                    .all()):
-                raise ValueError(f"overrides: {key!r} holds values outside 0 to "
-                                 f"{CRUISE_ALTITUDE_MAX_M:g} m; expected cruise altitudes in "
-                                 "that range")
+        if key in OVERRIDE_RANGES:
+            lo, hi = OVERRIDE_RANGES[key]
+            if not (np.isfinite(a).all() and (a >= lo).all() and (a <= hi).all()):
+                raise ValueError(f"overrides: {key!r} holds values outside {lo:g} to {hi:g}; "
+                                 "expected values in that range")
         elif not (np.isfinite(a).all() and (a > 0.0).all()):
             raise ValueError(f"overrides: {key!r} holds values that are not finite and "
                              "positive; expected positive numbers")
