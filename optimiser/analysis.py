@@ -85,9 +85,17 @@ CASE_OPTIONS = {
     "cruise_speed": ("cruise_speed_m_s", "m/s", 10.0, 300.0),
     "cruise_temperature_offset": ("cruise_temperature_offset_K", "K", -60.0, 50.0),
     "range": ("range_m", "m", 1e3, 2e7),
+    "headwind": ("departure_headwind_m_s", "m/s", -30.0, 30.0),
+    "destination_headwind": ("destination_headwind_m_s", "m/s", -30.0, 30.0),
 }
 """Operating-case options of ``optimiser analyse`` (``--takeoff-mass "2100 kg"``...), each
-with its case field, SI unit and range (the study's own limits for the same fields)."""
+with its case field, SI unit and range (the study's own limits for the same fields; winds
+along the runway within 30 m/s, :data:`~optimiser.sizing.inputs.OVERRIDE_RANGES`)."""
+
+WIND_CONDITIONS = ("departure_headwind_m_s", "destination_headwind_m_s")
+"""Case conditions that are no field of the study (sizing overrides): the wind components
+along the runways [m s^-1], negative for a tailwind; the field lengths count 50 % of a
+headwind and 150 % of a tailwind (:func:`optimiser.physics.performance.factored_wind`)."""
 
 
 def read_case(options: dict) -> OperatingCase:
@@ -206,8 +214,15 @@ def analyse(study, frozen: FrozenDesigns, flaps, case: OperatingCase = Operating
     """The frame of frozen designs at one operating case: the airplane (flap, wing area,
     aspect ratio, engine size, empty and maximum takeoff mass), every analysed number and
     margin, ``feasible``, ``limiting_constraint`` and ``most_violated``."""
+    conditions = dict(case.conditions)
+    wind = {k: conditions.pop(k) for k in WIND_CONDITIONS if conditions.get(k) is not None}
+    for k in WIND_CONDITIONS:
+        conditions.pop(k, None)
+    if wind:
+        overrides = {**{k: np.full(frozen.size, float(v)) for k, v in wind.items()},
+                     **(overrides or {})}
     try:
-        spec = case_spec(study.spec, **case.conditions)
+        spec = case_spec(study.spec, **conditions)
     except KeyError as exc:  # a programming error: the options are checked by read_case
         raise StudyError(f"operating case: unknown condition {exc}; expected one of: "
                          + ", ".join(CONDITION_FIELDS)) from None

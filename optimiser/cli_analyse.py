@@ -27,6 +27,9 @@ CASE_HELP = {
     "cruise_speed": "cruise true airspeed flown and required, e.g. '150 kn'",
     "cruise_temperature_offset": "ISA temperature offset in cruise and for the ceiling",
     "range": "mission range, e.g. '400 nmi'",
+    "headwind": "wind along the departure runway, e.g. '15 kn' (negative: tailwind; the "
+                "field length counts 50 % of a headwind, 150 % of a tailwind)",
+    "destination_headwind": "wind along the destination runway (as --headwind)",
 }
 """The operating-case options (``--takeoff-mass`` ...) and their help: the keys of
 :data:`optimiser.analysis.CASE_OPTIONS` (a test checks it; not imported here, so that

@@ -187,3 +187,21 @@ def test_frozen_robustness_samples_the_conditions(tmp_path):
     c = windy.constraints.set_index("constraint")
     assert np.all(windy.samples["margin_takeoff_field"] > c.loc["takeoff_field", "nominal_margin"])
     assert np.all(windy.samples["margin_landing_field"] > c.loc["landing_field", "nominal_margin"])
+
+
+def test_analyse_takes_a_headwind_case(tmp_path):
+    # optimiser analyse --headwind "20 kn": the frozen design's takeoff field shrinks by the
+    # factored wind (50 % of 20 kn), the same as the sizing override of that design
+    from optimiser.analysis import analyse, frozen_from_table, read_case
+    study = load_study(ROOT / "problems" / "high_strip_utility.toml")
+    x = {v.column: [0.5 * (v.lower + v.upper)] for v in study.variables}
+    import pandas as pd
+    frozen, flaps = frozen_from_table(study, pd.DataFrame({**x, "flap": [study.flaps[0]]}))
+    calm = analyse(study, frozen, flaps)
+    case = read_case({"headwind": "20 kn"})
+    assert case.conditions == {"departure_headwind_m_s": pytest.approx(20 * KNOT)}
+    windy = analyse(study, frozen, flaps, case)
+    assert windy["takeoff_field_required_m"][0] < calm["takeoff_field_required_m"][0]
+    direct = analyse(study, frozen, flaps, overrides={"departure_headwind_m_s": [20 * KNOT]})
+    assert windy["takeoff_field_required_m"][0] == direct["takeoff_field_required_m"][0]
+    assert "departure headwind 10.2889 m/s" in case.describe(study)
