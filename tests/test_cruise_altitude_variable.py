@@ -141,3 +141,26 @@ def test_a_run_searches_the_altitude_and_its_files_carry_it(tmp_path):
     np.testing.assert_allclose(frozen.cruise_altitude_m, front["cruise_altitude_m"], rtol=1e-12)
     analysed = analyse(study, frozen, flaps)
     assert np.abs(analysed["margin_mission_fuel"]).max() < 1e-6
+
+
+def test_an_interrupted_run_with_the_altitude_resumes_to_the_same_files(tmp_path):
+    # the checkpoint holds the fourth design column: a run stopped after generation 2 and
+    # resumed writes the same archive and front, byte for byte, as one uninterrupted run
+    import optimiser
+    from optimiser import runs
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text(), encoding="utf-8")
+    study = load_study(p)
+    tiny = dict(population=12, generations=5, checkpoint_every=1, seed=4, plots=False)
+
+    def stop(row, state):
+        if row["generation"] == 2:
+            raise KeyboardInterrupt
+
+    with pytest.raises(runs.RunInterrupted):
+        optimiser.optimise(study, out=tmp_path / "a", progress=stop, **tiny)
+    runs.resume(tmp_path / "a", plots=False)
+    optimiser.optimise(study, out=tmp_path / "b", **tiny)
+    for name in ("evaluations.csv", "front.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
+    assert "cruise_altitude_m" in (tmp_path / "a" / "front.csv").read_text().splitlines()[0]
