@@ -116,7 +116,8 @@ def _write_tables(study, state: RunState, run_dir: Path):
             from .chance import front_columns
             extra = pd.DataFrame(front_columns(study, state.chance, front), index=front.index)
             front = pd.concat([front, extra], axis=1).copy()  # one block per dtype
-        front.insert(0, "generation", state.front.generation)
+        front = pd.concat([pd.DataFrame({"generation": state.front.generation},
+                                        index=front.index), front], axis=1)  # one block added
         front = front.sort_values(list(study.objective_columns()), kind="stable")\
             .reset_index(drop=True)
         files.write_atomic(run_dir / names.FRONT, files.csv_bytes(front))
