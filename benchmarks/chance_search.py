@@ -81,7 +81,8 @@ def main(argv=None):
                         (f"{args.workers} workers (measured)", rate2),
                         ("8 workers (projected)", rate1 * 8),
                         ("32 workers (projected)", rate1 * 32)):
-        print(f"  {label:28} {total_rows / rate / 3600:8.2f} h")
+        seconds = total_rows / rate
+        print(f"  {label:28} {seconds:8.0f} s  ({seconds / 3600:.3f} h)")
     print(CAUTION)
 
 
