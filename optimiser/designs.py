@@ -43,17 +43,24 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
     if len(table) == 0:
         raise StudyError(f"{source}: no design rows; expected at least one row under the "
                          "header " + ",".join(need))
-    for c in need[:3]:
-        r = MODEL_RANGES[c]
-        values = []
+    def cells(c):
+        """(where, given, float or None) of each cell of column ``c``."""
         for i, v in enumerate(table[c].tolist()):
             where = f"{source}: " + (f"row {first_row + i}, " if len(table) > 1 or source != "--design"
                                      else "") + f"column {c!r}"
             try:
                 x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
             except ValueError:
+                x = None
+            yield where, v, x
+
+    for c in need[:3]:
+        r = MODEL_RANGES[c]
+        values = []
+        for where, v, x in cells(c):
+            if x is None:
                 expected = f"a number {range_text(c)}" if model_range else "a number"
-                raise StudyError(f"{where}: got {v!r}; expected {expected}") from None
+                raise StudyError(f"{where}: got {v!r}; expected {expected}")
             if model_range and not (math.isfinite(x) and r.lower <= x <= r.upper):
                 raise StudyError(f"{where}: got {v!r}; expected a "
                                  + ("" if math.isfinite(x) else "finite ")
@@ -64,14 +71,8 @@ def check_designs(study, table: pd.DataFrame, source: str = "designs",
         table[c] = values
     for c in need[4:]:  # the optional variables: the cruise altitude [m]
         values = []
-        for i, v in enumerate(table[c].tolist()):
-            where = f"{source}: " + (f"row {first_row + i}, " if len(table) > 1 or source != "--design"
-                                     else "") + f"column {c!r}"
-            try:
-                x = float(str(v).strip()) if not isinstance(v, (int, float)) else float(v)
-            except ValueError:
-                x = math.nan
-            if not (math.isfinite(x) and 0.0 <= x <= CRUISE_ALTITUDE_MAX_M):
+        for where, v, x in cells(c):
+            if x is None or not (math.isfinite(x) and 0.0 <= x <= CRUISE_ALTITUDE_MAX_M):
                 raise StudyError(f"{where}: got {v!r}; expected a cruise pressure altitude in "
                                  f"metres from 0 to {CRUISE_ALTITUDE_MAX_M:g}")
             values.append(x)

@@ -126,10 +126,7 @@ def read_uncertainty(fail, raw, family, quantity=None):
                     fail(where, f"missing key {p!r} (a factor on the study's value)")
                 if not lo <= entry[p] <= hi:
                     fail(f"{where} {p}", f"got {entry[p]:g}; expected {lo:g} to {hi:g}")
-            order = [entry[p] for p in params]
-            if order != sorted(order) or entry["low"] == entry["high"]:
-                fail(where, "expected " + " <= ".join(params) + " with low < high; got "
-                     + ", ".join(f"{p} = {entry[p]:g}" for p in params))
+            _check_order(fail, where, params, entry)
         out["assumptions"][key] = entry
     return out
 
@@ -161,11 +158,16 @@ def _read_additive(fail, quantity, where, key, value, dist):
     for p in params:
         if p not in entry:
             fail(where, f"missing key {p!r} (a value with its unit, e.g. {example})")
+    _check_order(fail, where, params, entry, f" {unit}")
+    return entry
+
+
+def _check_order(fail, where, params, entry, unit=""):
+    """low (<= mode) <= high with low < high, or the one-line error."""
     order = [entry[p] for p in params]
     if order != sorted(order) or entry["low"] == entry["high"]:
         fail(where, "expected " + " <= ".join(params) + " with low < high; got "
-             + ", ".join(f"{p} = {entry[p]:g} {unit}" for p in params))
-    return entry
+             + ", ".join(f"{p} = {entry[p]:g}{unit}" for p in params))
 
 
 def nominal_draws(keys) -> dict:

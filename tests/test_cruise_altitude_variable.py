@@ -1,4 +1,9 @@
-"""The cruise altitude as an optional decision variable ([variables] cruise_altitude)."""
+"""The cruise altitude as an optional decision variable ([variables] cruise_altitude).
+
+Source: U.S. Standard Atmosphere 1976, Table I (the densities checked); the other checks are
+identities of the model (a batch against the same study fixed at each altitude; a run resumed
+against one uninterrupted).
+"""
 
 from dataclasses import replace
 from pathlib import Path
