@@ -107,8 +107,9 @@ def _price_text(row: dict, column: str) -> str:
     """A price in the reader's units: objective change per unit of the requirement (the
     table stays SI; differences, so no unit offset applies)."""
     from .display_units import column_display, display_unit, to_display
+    from .report.tornado import INPUT_DISPLAY
     per_objective, objective_unit = column_display(column, 1.0)
-    quantity = "range" if row["requirement"] == "design range" else None
-    per_requirement, requirement_unit = to_display(1.0, row["unit"], None, None, quantity)
+    per_requirement, requirement_unit = to_display(1.0, row["unit"],
+                                                   **INPUT_DISPLAY.get(row["requirement"], {}))
     price = row["price_" + column] * per_objective / per_requirement
     return f"{price:+.4g} {objective_unit or '-'}/{display_unit(requirement_unit) or '-'}"

@@ -152,3 +152,17 @@ def test_us_units_convert_the_printed_prices_exactly(run_dir, capsys):
                          "price_trip_fuel_kg"].iloc[0])
     assert si < 0  # the field length binds this front: a longer one saves fuel
     assert shown == pytest.approx(si * 0.3048 / 0.45359237, rel=1e-3)
+
+
+def test_requirement_prices_in_us_units_use_the_tornado_units():
+    # a price of 2 kg of trip fuel per m/s of climb rate is 2 / 0.45359237 lb per
+    # (60 / 0.3048) ft/min = 0.0224 lb/(ft/min); 2e-4 kg/m of range is
+    # 2e-4 x 1852 / 0.45359237 = 0.8166 lb/nmi (exact definitions, NIST SP 811 App. B)
+    from optimiser import display_units as du
+    from optimiser.cli_sensitivity import _price_text
+    climb = {"requirement": "climb rate", "unit": "m/s", "price_trip_fuel_kg": 2.0}
+    reach = {"requirement": "design range", "unit": "m", "price_trip_fuel_kg": 2e-4}
+    with du.using("us"):
+        assert _price_text(climb, "trip_fuel_kg") == f"{2.0 / 0.45359237 / (60 / 0.3048):+.4g} lb/ft/min"
+        assert _price_text(reach, "trip_fuel_kg") == f"{2e-4 * 1852 / 0.45359237:+.4g} lb/nmi"
+    assert _price_text(climb, "trip_fuel_kg") == "+2 kg/m/s"
