@@ -164,3 +164,26 @@ def test_an_interrupted_chance_run_resumes_to_the_same_files(tmp_path):
     optimiser.resume(cut)
     for name in ("evaluations.csv", "front.csv"):
         assert (whole / name).read_bytes() == (cut / name).read_bytes(), name
+
+
+def test_the_decision_commands_read_a_chance_front(chance_run):
+    # front.csv of a chance-constrained run carries meets_reliability (true/false): pick,
+    # flaps and report read it back as a flag (they refused it as "expected a number")
+    from optimiser.runfolder import load_run
+    study, _, out = chance_run
+    run = load_run(out)
+    assert run.front["meets_reliability"].dtype == bool and run.front["meets_reliability"].all()
+    assert main(["pick", str(out), "--force"]) == 0
+    assert main(["report", str(out), "--force"]) == 0
+
+
+def test_the_report_lists_the_sampled_conditions_with_their_units():
+    # the [uncertainty] table's conditions shown with their SI unit (20 kn = 10.2889 m/s,
+    # 1852/3600 m/s per knot), the factors without one
+    from optimiser.report.html import _uncertainty_html
+    text = bundled_study_path().read_text(encoding="utf-8").replace(
+        "[uncertainty]", '[uncertainty]\nheadwind = { distribution = "uniform", low = "-10 kn", '
+        'high = "20 kn" }', 1)
+    page = _uncertainty_html(parse_study(text, "s.toml"))
+    assert "high = 10.2889 m/s" in page and "assumption or condition" in page
+    assert "std = 0.08," in page or "std = 0.08<" in page

@@ -255,16 +255,25 @@ def _certification_html(study):
 
 def _uncertainty_html(study):
     """The [uncertainty] table (factors on the study's values), or a sentence."""
+    from ..uncertainty import UNCERTAIN_CONDITIONS
     unc = study.uncertainty
     if not unc:
         return "<p>The study gives no [uncertainty] table.</p>"
-    rows = [(key, e["distribution"], ", ".join(f"{p} = {v:g}" for p, v in e.items()
-                                              if p != "distribution"))
+    def unit(e):
+        return f" {e['unit']}" if e.get("unit") else ""  # additive conditions, in SI
+
+    rows = [(key, e["distribution"], ", ".join(f"{p} = {v:g}{unit(e)}" for p, v in e.items()
+                                              if p not in ("distribution", "unit")))
             for key, e in unc["assumptions"].items()]
+    additive = any(e.get("unit") for e in unc["assumptions"].values())
+    conditions = any(key in UNCERTAIN_CONDITIONS for key in unc["assumptions"])
     return (f"<p>{unc['samples']} samples"
             + (f", seed {unc['seed']}" if unc.get("seed") is not None else "")
-            + "; each a factor on the study's value (1 = unchanged).</p>"
-            + _table(["assumption", "distribution", "parameters"], rows))
+            + "; each a factor on the study's value (1 = unchanged)"
+            + ("; a temperature change or a wind, with its unit, is added to the study's "
+               "conditions (0 = unchanged)" if additive else "") + ".</p>"
+            + _table(["assumption or condition" if conditions else "assumption",
+                      "distribution", "parameters"], rows))
 
 
 def _run_sections(run) -> list[str]:

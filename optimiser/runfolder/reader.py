@@ -20,8 +20,10 @@ from .runinfo import check_run_info_study, read_run_info
 
 TEXT_COLUMNS = ("limiting_constraint", "most_violated", "outside_bounds", "aerodrome_code_letter")
 """Text columns of front.csv that may be empty: read as "" (never NaN)."""
-BOOL_COLUMNS = ("feasible", "within_bounds", "oswald_mach_in_range", "cd0_built_up")
-"""True/false columns of front.csv and least_violating.csv."""
+BOOL_COLUMNS = ("feasible", "within_bounds", "oswald_mach_in_range", "cd0_built_up",
+                "meets_reliability")
+"""True/false columns of front.csv and least_violating.csv (``meets_reliability``: a
+chance-constrained run's)."""
 SIZED_EXPECTED = "a table written by 'optimiser run' (UTF-8 CSV, one row per design)"
 
 
