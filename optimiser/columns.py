@@ -308,6 +308,8 @@ CONSTRAINTS = (
     Constraint("landing_climb", "Part 25 landing climb, all engines (25.119)"),
     Constraint("cruise_speed", "cruise speed at cruise altitude"),
     Constraint("service_ceiling", "service ceiling"),
+    Constraint("cruise_ceiling", "cruise altitude at or below the design's own service ceiling "
+               "(only with [variables] cruise_altitude)"),
     Constraint("fuel_volume", "fuel carried (trip, reserve, trapped) fits the usable tank volume"),
     Constraint("span", "wing span within the study's max_span"),
     Constraint("outside_model_range", "inputs inside the model's valid ranges (only in a batch "

@@ -352,6 +352,8 @@ class AircraftSpec:
     certification: Certification
     high_lift: tuple[HighLift, ...]
     geometry: Geometry = Geometry()
+    cruise_altitude_searched: bool = False  # [variables] cruise_altitude given: each design
+    # flies its own, and the constraint cruise_ceiling keeps it at or below its service ceiling
 
     @property
     def uses_power_loading(self) -> bool:

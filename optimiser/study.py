@@ -457,7 +457,9 @@ def parse_study(text: str, path: str = "<study>") -> Study:
         wts.actuator_unit_mass_kg)) for n in all_names)
     spec = S.AircraftSpec(propulsion=prop, aerodynamics=aero, weights=wts, mission=mis,
                           requirements=req, speeds=speeds, departure=dep, destination=dst,
-                          certification=cert, high_lift=configs, geometry=geo)
+                          certification=cert, high_lift=configs, geometry=geo,
+                          cruise_altitude_searched=isinstance(raw["variables"], dict)
+                          and "cruise_altitude" in raw["variables"])
     _check_margin_names(rd, spec)
     variables, flaps = _read_variables(rd, raw["variables"], spec, catalogue)
     objectives = _read_objectives(rd, raw.get("objectives", {}))

@@ -169,3 +169,29 @@ def test_an_interrupted_run_with_the_altitude_resumes_to_the_same_files(tmp_path
     for name in ("evaluations.csv", "front.csv"):
         assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
     assert "cruise_altitude_m" in (tmp_path / "a" / "front.csv").read_text().splitlines()[0]
+
+
+def test_a_design_may_not_cruise_above_its_own_service_ceiling(tmp_path):
+    # with the altitude searched up to 20 000 ft (above the 14 000 ft the study requires as
+    # ceiling), the constraint cruise_ceiling = service ceiling / cruise altitude - 1 keeps
+    # each design at or below its own ceiling; a study without the variable does not have it
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text('["3000 ft", "20000 ft"]'), encoding="utf-8")
+    study = load_study(p)
+    assert "cruise_ceiling" in sizing.active_constraints(study.spec)
+    fixed = load_study(ROOT / "problems" / "high_strip_utility.toml")
+    assert "cruise_ceiling" not in sizing.active_constraints(fixed.spec)
+    ws, load, ar, flap = _random_designs(study, 400, 9)
+    h = np.full(400, 20000 * FT)
+    out = sizing.size_designs(study.spec, ws, load, ar, flap, {"cruise_altitude_m": h})
+    np.testing.assert_allclose(out["margin_cruise_ceiling"], out["service_ceiling_m"] / h - 1.0,
+                               rtol=1e-12)
+    below = out["margin_cruise_ceiling"] < 0.0
+    assert below.any() and not out["feasible"][below].any()
+    # the margin a study may require on it, like any other constraint
+    text = _study_text('["3000 ft", "20000 ft"]')
+    assert "[requirements]\n" in text
+    p.write_text(text.replace("[requirements]\n",
+                              "[requirements]\nmargins = { cruise_ceiling = 0.1 }\n", 1),
+                 encoding="utf-8")
+    assert dict(load_study(p).spec.requirements.margins) == {"cruise_ceiling": 0.1}

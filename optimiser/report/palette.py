@@ -52,13 +52,14 @@ CONSTRAINT_STYLES = {
     "landing_climb": (O["sky_blue"], "dashed"),
     "cruise_speed": (O["orange"], "solid"),
     "service_ceiling": (TOL_MUTED["wine"], "solid"),
+    "cruise_ceiling": (TOL_MUTED["wine"], "dashed"),
     "fuel_volume": (O["orange"], "dashed"),
     "span": (O["blue"], "dashed"),
     "outside_model_range": (O["black"], "solid"),
 }
 """Constraint name -> (colour, line style name). Constraints that share a colour are of one
 kind (the climb checks with one engine out, the landing checks, the two mass checks of a
-frozen design) and differ in dash."""
+frozen design, the two ceiling checks) and differ in dash."""
 del O
 
 FLAP_COLOURS = {

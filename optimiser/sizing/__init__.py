@@ -151,7 +151,8 @@ def fly(spec: AircraftSpec, batch: DesignBatch, air: AirStates, drag: CleanDrag,
         fuel_volume_required_m3=tanks.required_m3, fuel_volume_available_m3=tanks.available_m3,
         span_m=ap.span_m, model_range_margin=batch.model_range_margin,
         constraints=constraints, extra_margins=extra_margins,
-        exempt_when_met=exempt_when_met)
+        exempt_when_met=exempt_when_met,
+        cruise_altitude_m=batch.overrides.get("cruise_altitude_m"))
     return SizedBatch(batch, air, closure, ap, to, oei, field, land, climb, cruise, margins,
                       maintenance_index(ap), land_required, gradient_required, transport,
                       components, tanks)

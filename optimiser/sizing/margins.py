@@ -41,7 +41,10 @@ def active_constraints(spec: AircraftSpec) -> tuple[str, ...]:
     skipped = {name for name, _ in spec.requirements.skip_checks}
     if spec.certification.basis == "part25" and spec.propulsion.engine_count > 1:
         names += [c for c in TRANSPORT_CLIMB_CHECKS if c not in skipped]
-    names += ["cruise_speed", "service_ceiling", "fuel_volume"]
+    names += ["cruise_speed", "service_ceiling"]
+    if spec.cruise_altitude_searched:
+        names.append("cruise_ceiling")
+    names.append("fuel_volume")
     if spec.requirements.max_span_m is not None:
         names.append("span")
     return tuple(names)
@@ -77,7 +80,7 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
                        cruise_speed_m_s, service_ceiling_m, fuel_volume_required_m3,
                        fuel_volume_available_m3, span_m, model_range_margin=None,
                        constraints=None, extra_margins=None,
-                       exempt_when_met=0) -> Margins:
+                       exempt_when_met=0, cruise_altitude_m=None) -> Margins:
     """Margin of every active constraint: ``1 - value / limit`` for upper limits and
     ``value / limit - 1`` for lower limits.
 
@@ -114,6 +117,9 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
         limiting constraint of each design outside (before ``mass_closure``).
     span_m : ndarray
         Wing span [m] (checked against ``[requirements] max_span`` when the study sets one).
+    cruise_altitude_m : ndarray, optional
+        Each design's cruise altitude [m] where the study searches it (default the study's):
+        ``cruise_ceiling`` is ``service ceiling / cruise altitude - 1``.
     constraints : tuple of str, optional
         The constraints checked, in order (default :func:`active_constraints`); the first
         one's margin is ``closure_margin``, and a design whose first margin is negative has it
@@ -156,6 +162,11 @@ def constraint_margins(spec: AircraftSpec, *, closure_margin, takeoff_mass_kg,
     }
     if rq.max_span_m is not None:
         margins["span"] = 1.0 - span_m / rq.max_span_m
+    if spec.cruise_altitude_searched:
+        h = spec.mission.cruise_altitude_m if cruise_altitude_m is None else cruise_altitude_m
+        h = np.broadcast_to(np.asarray(h, dtype=float), np.shape(service_ceiling_m))
+        with np.errstate(divide="ignore"):  # sea-level cruise: always under the ceiling
+            margins["cruise_ceiling"] = np.where(h > 0.0, service_ceiling_m / h - 1.0, 1e3)
     names = active_constraints(spec) if constraints is None else tuple(constraints)
     margins[names[0]] = closure_margin
     margins.update(extra_margins or {})
