@@ -86,7 +86,9 @@ def _summary(study, seen: _SummaryCounts, units: str | None = None) -> str:
     from .display_units import SI, column_display, heading, resolve
     system = resolve(units)
     size_col = study.engine_size_column
+    from .evaluation import override_columns
     cols = [("wing_loading_N_m2", ".0f"), (study.loading_column, ".4g"), ("aspect_ratio", ".2f"),
+            *((c, ".0f") for c in override_columns(study)),   # the cruise altitude, if searched
             ("takeoff_mass_kg", ".0f"), ("trip_fuel_kg", ".1f"), (size_col, ".1f"),
             ("maintenance_index", ".2f")]
     head = seen.head

@@ -195,3 +195,19 @@ def test_a_design_may_not_cruise_above_its_own_service_ceiling(tmp_path):
                               "[requirements]\nmargins = { cruise_ceiling = 0.1 }\n", 1),
                  encoding="utf-8")
     assert dict(load_study(p).spec.requirements.margins) == {"cruise_ceiling": 0.1}
+
+
+def test_evaluate_prints_the_design_altitude(tmp_path, capsys):
+    # the console table of `optimiser evaluate` shows the searched variable: 3000 m is
+    # 9843 ft (3000 / 0.3048) with --units us
+    from optimiser.cli import main
+    p = tmp_path / "s.toml"
+    p.write_text(_study_text(), encoding="utf-8")
+    design = ("wing_loading_N_m2=900 power_loading_N_kW=80 aspect_ratio=8 flap=none "
+              "cruise_altitude_m=3000")
+    main(["evaluate", str(p), "--design", design])
+    out = capsys.readouterr().out.splitlines()
+    assert "cruise_altitude_m" in out[1] and out[2].split()[4] == "3000"
+    main(["--units", "us", "evaluate", str(p), "--design", design])
+    out = capsys.readouterr().out.splitlines()
+    assert "cruise altitude [ft]" in out[1] and f"{3000 / FT:.0f}" in out[2].split()
