@@ -186,3 +186,27 @@ def test_us_units_show_the_fuel_spread_in_pounds(tmp_path, capsys):
     # N / 0.74569987158227022 kW) = 12.24 lbf/hp (NIST SP 811 (2008), Appendix B, from memory)
     assert "robustness of W/S 16.7 lbf/ft², W/P 12.24 lbf/hp, AR 8.1" in us
     assert "robustness of W/S 800 N/m², W/P 73 N/kW, AR 8.1" in si
+
+
+def test_frozen_probability_chart_names_constraints_in_words_with_a_colour_key(tmp_path,
+                                                                               monkeypatch):
+    # the frozen chart: constraints in words, "every constraint at once" for all, a key of
+    # the three colour bands (95 % and 50 %: palette.PROBABILITY_MET), each value written
+    # right of its whisker (the Wilson upper end)
+    from optimiser.report import robust_plots
+    study = load_study(STRIP)
+    r = frozen_monte_carlo(study, STRIP_DESIGN, samples=300, seed=2)
+    figs = []
+    monkeypatch.setattr(robust_plots, "save", lambda fig, stem, **kw: figs.append((stem, fig)))
+    robust_plots.plot_robustness(study, r, tmp_path)
+    fig = next(f for stem, f in figs if stem.name == "constraint_probability")
+    ax = fig.axes[0]
+    labels = [t.get_text() for t in ax.get_yticklabels()]
+    assert labels[-1] == "every constraint at once" and "takeoff field" in labels
+    assert not any("_" in t for t in labels)
+    assert [t.get_text() for t in ax.get_legend().get_texts()] == [
+        "at least 95 %", "at least 50 %", "below 50 %"]
+    c = r.constraints
+    texts = {round(t.get_position()[1]): t.get_position()[0] for t in ax.texts}
+    for yi, (_, row) in zip(range(len(c) - 1, -1, -1), c.iterrows()):
+        assert texts[yi] >= min(row["probability_high_95"] + 0.015, 0.9) - 1e-12

@@ -39,12 +39,25 @@ def plot_robustness(study, result, folder):
                      c["probability_high_95"].to_numpy(float) - p])
     colours = [palette.probability_colour(v) for v in p]
     ax.barh(y, p, color=colours, xerr=err, capsize=3)
-    ax.set_yticks(y, c["constraint"])
+    if frozen:  # the constraints in words, the values clear of the whiskers, a colour key
+        names = ["every constraint at once" if n == "all" else n.replace("_", " ")
+                 for n in c["constraint"]]
+        ax.set_yticks(y, names, fontsize=8)
+        for yi, v, hi in zip(y, p, err[1]):
+            ax.text(min(v + hi + 0.015, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
+        from matplotlib.patches import Patch
+        keys = [Patch(color=colour, label=f"at least {threshold * 100:.0f} %" if threshold > 0
+                      else "below 50 %") for colour, threshold in palette.PROBABILITY_MET]
+        ax.legend(handles=keys, fontsize=8, loc="upper left", bbox_to_anchor=(0.0, -0.12),
+                  ncol=3, frameon=False, title="probability met", title_fontsize=8)
+    else:
+        ax.set_yticks(y, c["constraint"])
     ax.set_xlim(0, 1.05)
     ax.set_xlabel("probability the constraint is met [-] (whiskers: Wilson 95 % interval)")
     ax.set_title(f"{study.name}: probability each constraint is met{tag}", fontsize=10)
-    for yi, v in zip(y, p):
-        ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
+    if not frozen:
+        for yi, v in zip(y, p):
+            ax.text(min(v + 0.01, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
     _layout(fig, study, frozen)
     save(fig, folder / "constraint_probability")
 
