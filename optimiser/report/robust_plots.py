@@ -43,8 +43,11 @@ def plot_robustness(study, result, folder):
         names = ["every constraint at once" if n == "all" else n.replace("_", " ")
                  for n in c["constraint"]]
         ax.set_yticks(y, names, fontsize=8)
-        for yi, v, hi in zip(y, p, err[1]):
-            ax.text(min(v + hi + 0.015, 0.9), yi, f"{v:.3f}", va="center", fontsize=8)
+        for yi, v, lo, hi in zip(y, p, err[0], err[1]):
+            if v + hi + 0.015 <= 0.9:  # right of the whisker, else inside the bar, left of it
+                ax.text(v + hi + 0.015, yi, f"{v:.3f}", va="center", fontsize=8)
+            else:
+                ax.text(v - lo - 0.015, yi, f"{v:.3f}", va="center", ha="right", fontsize=8)
         from matplotlib.patches import Patch
         keys = [Patch(color=colour, label=f"at least {threshold * 100:.0f} %" if threshold > 0
                       else "below 50 %") for colour, threshold in palette.PROBABILITY_MET]
