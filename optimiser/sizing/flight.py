@@ -127,21 +127,20 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     if pr.family == "turbofan":
         tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
         v0 = performance.best_climb_speed_constant_thrust(tw_h, ws_i, rho, cd0_h, k_i)
-        v = np.empty_like(ws_i)
-        searched = slice(None)
+        v, searched = np.empty_like(ws_i), None  # every design searched
     else:
         v0 = performance.minimum_power_speed(ws_i, rho, cd0_h, k_i)
         v = np.maximum(np.where(v0 >= thrust.v1, v0, _best_blend_speed(thrust, w_i, ws_i, rho,
                                                                        cd0_h, k_i)), v_floor)
         no_mach_term = (spec.aerodynamics.oswald_method == "obert2009") | (v / sound <= 0.3)
-        searched = np.flatnonzero(~no_mach_term)
-        if searched.size == v.size:
-            searched = slice(None)
-    if not isinstance(searched, np.ndarray) or searched.size:
-        v[searched] = _golden_climb_speed(
-            spec, thrust if isinstance(searched, slice) else thrust.take(searched),
-            *(np.broadcast_to(x, ws_i.shape)[searched]
-              for x in (ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0)), iterations)
+        searched = np.flatnonzero(~no_mach_term)  # where the closed form does not hold
+    per_design = [np.broadcast_to(x, ws_i.shape)
+                  for x in (ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0)]
+    if searched is None or searched.size == v.size:
+        v = _golden_climb_speed(spec, thrust, *per_design, iterations)
+    elif searched.size:
+        v[searched] = _golden_climb_speed(spec, thrust.take(searched),
+                                          *(x[searched] for x in per_design), iterations)
     if sp.climb_speed_limit:
         v = performance.limit_climb_speed(v, h, dt)
     k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
