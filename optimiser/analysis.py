@@ -215,9 +215,8 @@ def analyse(study, frozen: FrozenDesigns, flaps, case: OperatingCase = Operating
     aspect ratio, engine size, empty and maximum takeoff mass), every analysed number and
     margin, ``feasible``, ``limiting_constraint`` and ``most_violated``."""
     conditions = dict(case.conditions)
-    wind = {k: conditions.pop(k) for k in WIND_CONDITIONS if conditions.get(k) is not None}
-    for k in WIND_CONDITIONS:
-        conditions.pop(k, None)
+    wind = {k: conditions.pop(k, None) for k in WIND_CONDITIONS}
+    wind = {k: v for k, v in wind.items() if v is not None}
     if wind:
         overrides = {**{k: np.full(frozen.size, float(v)) for k, v in wind.items()},
                      **(overrides or {})}

@@ -124,7 +124,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
         study's. A study with no uncertain assumption is refused (ValueError).
     """
     import pandas as pd
-    from .evaluation import override_columns
+    from .evaluation import row_overrides
     from .sizing import active_constraints, size_designs
     nominal, assumptions, n, seed, factors = _draw(study, design, samples, seed, uncertainty)
     spec = study.spec
@@ -134,7 +134,7 @@ def monte_carlo(study, design, samples=None, seed=None, uncertainty=None) -> Rob
     out = size_designs(spec, np.full(n, row["wing_loading_N_m2"]),
                        np.full(n, row[study.loading_column]), np.full(n, row["aspect_ratio"]),
                        np.full(n, flap_index), overrides={
-                           **{c: np.full(n, float(row[c])) for c in override_columns(study)},
+                           **row_overrides(study, row, n),
                            **overrides})
     names = active_constraints(spec)
     size_col = study.engine_size_column

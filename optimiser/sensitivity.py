@@ -83,22 +83,18 @@ def _design_arrays(study, design, n):
             np.full(n, float(design["aspect_ratio"])), np.full(n, flap))
 
 
-def _design_overrides(study, design, n) -> dict:
-    """The design's optional variables (its cruise altitude, where it is one), ``n`` times."""
-    from .evaluation import override_columns
-    return {c: np.full(n, float(design[c])) for c in override_columns(study)}
-
-
 def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
     """Table of sensitivities of one design (a mapping with evaluate's input columns).
 
     Returns a DataFrame, one row per (input, output): ``input``, ``kind`` (requirement,
-    assumption, or variable: the design's own cruise altitude where the study makes it one), ``input_unit``, ``input_value``, ``step``, ``output``, ``output_value`` (at
-    the study's values), ``derivative`` (output units per input unit), ``change_minus`` and
+    assumption, or variable: the design's own cruise altitude where the study makes it one),
+    ``input_unit``, ``input_value``, ``step``, ``output``, ``output_value`` (at the study's
+    values), ``derivative`` (output units per input unit), ``change_minus`` and
     ``change_plus`` (output change at ``input -/+ step``). Raises :class:`DecideError` for a
     step outside (0, 0.2]."""
     import pandas as pd
 
+    from .evaluation import row_overrides
     from .sizing import size_designs
     if not 0.0 < rel_step <= 0.2:
         raise DecideError(f"--step: got {rel_step:g}; expected a relative step above 0 and at "
@@ -107,7 +103,7 @@ def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
     inputs = assumption_inputs(spec)
     k = len(inputs)
     args = _design_arrays(study, design, 1 + 2 * k)
-    overrides = _design_overrides(study, design, 1 + 2 * k)
+    overrides = row_overrides(study, design, 1 + 2 * k)
     for j, (_, key, value, _) in enumerate(inputs):
         col = np.full(1 + 2 * k, float(value))
         col[1 + 2 * j] = value * (1.0 - rel_step)
@@ -122,7 +118,7 @@ def sensitivities(study, design, rel_step: float = RELATIVE_STEP):
         lo = {c: float(np.asarray(sized[c])[1 + 2 * j]) for c in outputs}
         hi = {c: float(np.asarray(sized[c])[2 + 2 * j]) for c in outputs}
         rows += _rows(name, "assumption", unit, value, h, base, lo, hi)
-    own = _design_overrides(study, design, 1)
+    own = row_overrides(study, design, 1)
     for name, section, field, unit, absolute in REQUIREMENTS:
         if field in own:  # a variable of this study: the design's own value moves
             value = float(own[field][0])

@@ -100,12 +100,7 @@ def read_uncertainty(fail, raw, family, quantity=None):
             out["assumptions"][key] = _read_additive(fail, quantity, where, key, value, dist)
             continue
         entry = {"distribution": dist}
-        for p, v in value.items():
-            if p == "distribution":
-                continue
-            if p not in params:
-                fail(where, f"unknown key {p!r} for a {dist} distribution; expected: "
-                     + ", ".join(params))
+        for p, v in _parameters(fail, where, dist, value):
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
                 fail(f"{where} {p}", f"got {v!r}; expected a number (a factor on the study's "
                      "value, 1 = unchanged)")
@@ -131,6 +126,19 @@ def read_uncertainty(fail, raw, family, quantity=None):
     return out
 
 
+def _parameters(fail, where, dist, value):
+    """The (name, given value) pairs of a distribution's table, every name one of the
+    distribution's parameters (:data:`DISTRIBUTIONS`), or the one-line error."""
+    params = DISTRIBUTIONS[dist]
+    for p, v in value.items():
+        if p == "distribution":
+            continue
+        if p not in params:
+            fail(where, f"unknown key {p!r} for a {dist} distribution; expected: "
+                 + ", ".join(params))
+        yield p, v
+
+
 def _read_additive(fail, quantity, where, key, value, dist):
     """One additive condition's entry (parameters in SI), checked against
     :data:`ADDITIVE_CONDITIONS`."""
@@ -138,12 +146,7 @@ def _read_additive(fail, quantity, where, key, value, dist):
     params = DISTRIBUTIONS[dist]
     example = "\"5 K\"" if unit == "K" else "\"10 kn\""
     entry = {"distribution": dist, "unit": unit}
-    for p, v in value.items():
-        if p == "distribution":
-            continue
-        if p not in params:
-            fail(where, f"unknown key {p!r} for a {dist} distribution; expected: "
-                 + ", ".join(params))
+    for p, v in _parameters(fail, where, dist, value):
         if quantity is None or not isinstance(v, str):
             fail(f"{where} {p}", f"got {v!r}; expected a value with its unit, e.g. {example}")
         entry[p] = quantity(f"{where} {p}", v, unit, -biggest if p != "std" else 0.0, biggest)

@@ -11,14 +11,13 @@ from __future__ import annotations
 
 import json
 import re
-import subprocess
-import sys
 
 import numpy as np
 import pytest
 
 from optimiser import display_units as du
 from optimiser.study import bundled_study_path
+from test_display_units import _cli  # the same command-line runner
 
 FT = 0.3048                              # m
 LB = 0.45359237                          # kg
@@ -228,16 +227,6 @@ def test_compare_overlay_in_us(tiny_run, tmp_path, closing):
     knee = ax.collections[1].get_offsets()[0]
     row = cmp.summary.iloc[0]
     assert knee[1] == pytest.approx(row["knee_trip_fuel_kg"] / LB, rel=1e-12)
-
-
-def _cli(*args, env_units=None, cwd):
-    import os
-    env = {k: v for k, v in os.environ.items() if k != "OPTIMISER_UNITS"}
-    env["MPLBACKEND"] = "Agg"
-    if env_units is not None:
-        env["OPTIMISER_UNITS"] = env_units
-    return subprocess.run([sys.executable, "-m", "optimiser", *map(str, args)], cwd=cwd,
-                          env=env, capture_output=True, text=True)
 
 
 DESIGN = "wing_loading_N_m2=1100 power_loading_N_kW=75 aspect_ratio=8 flap=plain"
