@@ -14,7 +14,8 @@ import numpy as np
 
 from .physics.performance import falling_root
 
-__all__ = ["falling_root", "root_after_prediction", "secant_in_bracket"]
+__all__ = ["falling_root", "newton_falling_root", "quadratic_start", "root_after_prediction",
+           "secant_in_bracket"]
 
 
 def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_prev, f_prev,
@@ -93,6 +94,70 @@ def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_p
     return m, converged
 
 
+def quadratic_start(x, f, low, high, f_low, f_high):
+    """A first guess of the root of an increasing function from three probes of it, and the
+    bracket the probes leave.
+
+    The quadratic through the three points (Newton's divided differences) is solved for its
+    root inside the bracket; where it has none there (or a value is NaN), the false-position
+    point between the bracket's ends is taken, and the midpoint where that too fails.
+
+    Parameters
+    ----------
+    x : sequence of three floats or arrays broadcast to (n,)
+        Probe points, increasing. [x]
+    f : sequence of three ndarrays, shape (n,)
+        The function at them; NaN counts as below the root. [f]
+    low, high, f_low, f_high : array_like, broadcast to (n,)
+        Outer bracket and its end values (or weights) before the probes. [x], [f]
+
+    Returns
+    -------
+    guess, slope, low, high, f_low, f_high : ndarray, shape (n,)
+        The guess, strictly inside the narrowed bracket where it has width; the quadratic's
+        slope there (NaN where the guess is not its root) [f]/[x], for a first Newton-like
+        step; and the narrowed bracket with its end values.
+
+    References
+    ----------
+    .. [1] W. H. Press, S. A. Teukolsky, W. T. Vetterling and B. P. Flannery, "Numerical
+       Recipes", 3rd ed., Cambridge University Press, 2007, sections 3.2 (Newton's form of
+       the interpolating polynomial) and 5.6 (the quadratic's roots without cancellation);
+       from memory.
+    """
+    (x0, x1, x2), (f0, f1, f2) = x, f
+    shape = np.shape(f0)
+    lo = np.array(np.broadcast_to(low, shape), dtype=float)
+    hi = np.array(np.broadcast_to(high, shape), dtype=float)
+    f_lo = np.array(np.broadcast_to(f_low, shape), dtype=float)
+    f_hi = np.array(np.broadcast_to(f_high, shape), dtype=float)
+    for xk, fk in ((x2, f2), (x1, f1), (x0, f0)):  # the lowest probe at or above the root
+        up = fk >= 0.0
+        hi, f_hi = np.where(up, xk, hi), np.where(up, fk, f_hi)
+    for xk, fk in ((x0, f0), (x1, f1), (x2, f2)):  # the highest probe below it
+        down = ~(fk >= 0.0) & (xk < hi)
+        lo = np.where(down, xk, lo)
+        f_lo = np.where(down, np.where(np.isnan(fk), f_lo, fk), f_lo)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        d01 = (f1 - f0) / (x1 - x0)
+        c = ((f2 - f1) / (x2 - x1) - d01) / (x2 - x0)
+        # f(x0 + t) = f0 + b t + c t^2 with b = d01 - c (x1 - x0)
+        b = d01 - c * (x1 - x0)
+        root_disc = np.sqrt(b * b - 4.0 * c * f0)
+        q = -0.5 * (b + np.copysign(root_disc, b))
+        t_a, t_b = q / c, f0 / q
+        guess, slope = np.nan, np.nan
+        for t in (t_a, t_b):
+            inside = (x0 + t > lo) & (x0 + t < hi)
+            guess = np.where(inside, x0 + t, guess)
+            slope = np.where(inside, b + 2.0 * c * t, slope)
+        fp = lo - f_lo * (hi - lo) / (f_hi - f_lo)
+    quadratic = ~np.isnan(guess)
+    guess = np.where(quadratic, guess,
+                     np.where((fp > lo) & (fp < hi), fp, 0.5 * (lo + hi)))
+    return guess, np.where(quadratic, slope, np.nan), lo, hi, f_lo, f_hi
+
+
 def root_after_prediction(f, prediction, low, high, f_low, f_high, solve, xtol):
     """Root of a falling function near a predicted root, by two probes and regula falsi.
 
@@ -140,3 +205,78 @@ def root_after_prediction(f, prediction, low, high, f_low, f_high, solve, xtol):
     root = falling_root(f, a_v, b_v, fa_v, fb_v, xtol=xtol)
     narrowed = (b_v - a_v <= xtol) & solve
     return np.where(narrowed, 0.5 * (a_v + b_v), root)
+
+
+def newton_falling_root(f, low, high, f_low, f_high, solve, xtol, step, newton_steps=2):
+    """Root of a smooth falling function in a bracket: Newton steps on a difference slope,
+    then :func:`root_after_prediction` to close the bracket to ``xtol``.
+
+    From the false-position point of the bracket, each Newton step evaluates ``f`` at the
+    point and ``step`` beyond it (towards the bracket's inside) in one call, narrows the
+    bracket with both values, and moves to x - f / f'; a step that leaves the bracket (a
+    NaN, a flat or rising stretch) is replaced by the bracket's false-position point. On a
+    nearly linear function (the climb rate over altitude) two steps from the false-position
+    point come within a small fraction of ``xtol`` of the root, and the two probes of :func:`root_after_prediction` then close the
+    bracket; whatever they do not close, regula falsi finishes (:func:`falling_root`).
+
+    Parameters
+    ----------
+    f : callable
+        ``f(x, ix)`` for the elements ``ix`` (an index array); ``f >= 0`` below the root, a
+        NaN counts as past it.
+    low, high, f_low, f_high : ndarray, shape (n,)
+        Bracket and the values at its ends (``f_low >= 0 > f_high`` where ``solve``). [x], [f]
+    solve : ndarray of bool, shape (n,)
+        Elements to solve; the others come back as some point of their bracket, for the
+        caller to replace.
+    xtol : float
+        Bracket width at which an element stops. [x]
+    step : float
+        Difference step of the slope, well above the function's noise and below the
+        bracket widths. [x]
+    newton_steps : int, default 2
+        Newton steps before the probes. [-]
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        The root. [x]
+
+    References
+    ----------
+    .. [1] J. E. Dennis and R. B. Schnabel, "Numerical Methods for Unconstrained
+       Optimization and Nonlinear Equations", Prentice-Hall, 1983, ch. 2 (Newton's method
+       with a finite-difference derivative, safeguarded in a bracket; from memory).
+    """
+    lo = np.array(low, dtype=float)
+    hi = np.array(high, dtype=float)
+    f_lo = np.array(f_low, dtype=float)
+    f_hi = np.array(f_high, dtype=float)
+    ix = np.flatnonzero(solve)
+    a, b, fa, fb = lo[ix], hi[ix], f_lo[ix], f_hi[ix]
+
+    def false_position(a, b, fa, fb):
+        return a + fa * (b - a) / (fa - fb)  # fa >= 0 > fb: inside the bracket
+
+    x = false_position(a, b, fa, fb)
+    pair = np.concatenate([ix, ix])
+    for _ in range(newton_steps):
+        if ix.size == 0:
+            break
+        h = np.where(x + step < b, step, -step)
+        fx_pair = f(np.concatenate([x, x + h]), pair)
+        fx, fxh = fx_pair[:ix.size], fx_pair[ix.size:]
+        for xk, fk in ((x, fx), (x + h, fxh)):
+            below = fk >= 0.0  # NaN: past the root
+            move_a = below & (xk > a)
+            move_b = ~below & (xk < b)
+            a, fa = np.where(move_a, xk, a), np.where(move_a, fk, fa)
+            b, fb = np.where(move_b, xk, b), np.where(move_b, fk, fb)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            newton = x - fx * h / (fxh - fx)
+        inside = (newton > a) & (newton < b)  # False for NaN
+        x = np.where(inside, newton, false_position(a, b, fa, fb))
+    lo[ix], hi[ix], f_lo[ix], f_hi[ix] = a, b, fa, fb
+    prediction = 0.5 * (lo + hi)
+    prediction[ix] = np.clip(x, a, b)
+    return root_after_prediction(f, prediction, lo, hi, f_lo, f_hi, solve, xtol)

@@ -75,3 +75,72 @@ def test_root_after_prediction_closes_on_an_exact_prediction_and_recovers_from_a
 def test_falling_root_is_the_physics_one():
     from optimiser.physics import performance
     assert solvers.falling_root is performance.falling_root
+
+
+def test_quadratic_start_is_exact_on_a_quadratic_and_narrows_the_bracket():
+    # f(x) = (x - r)(x + 1), increasing for x > (r - 1) / 2, root r; f'(r) = r + 1 (exact)
+    r = np.array([1.3, 2.0, 3.7, 7.5])
+
+    def f(x):
+        return (x - r) * (x + 1.0)
+    probes = (1.0, 3.0, 8.0)
+    guess, slope, lo, hi, f_lo, f_hi = solvers.quadratic_start(
+        probes, tuple(f(np.full(4, p)) for p in probes), 0.5, 8.0, -1.0, f(np.full(4, 8.0)))
+    assert_allclose(guess, r, rtol=1e-12)
+    assert_allclose(slope, r + 1.0, rtol=1e-12)
+    # each root's bracket is the pair of probes around it
+    assert_allclose(lo, [1.0, 1.0, 3.0, 3.0])
+    assert_allclose(hi, [3.0, 3.0, 8.0, 8.0])
+    assert_allclose(f_lo, f(lo)) and assert_allclose(f_hi, f(hi))
+
+
+def test_quadratic_start_falls_back_inside_the_bracket_where_a_probe_is_nan():
+    # NaN at the lowest probe (counts as below the root): the quadratic is undefined, the
+    # guess is the false-position point of the remaining bracket (exact for a line)
+    f_vals = (np.array([np.nan]), np.array([-1.0]), np.array([4.0]))
+    guess, slope, lo, hi, f_lo, f_hi = solvers.quadratic_start((1.0, 2.0, 7.0), f_vals,
+                                                               0.5, 7.0, -2.0, np.array([4.0]))
+    assert np.isnan(slope[0])
+    assert (lo[0], hi[0]) == (2.0, 7.0)
+    assert_allclose(guess, [2.0 + 1.0 * 5.0 / 5.0], rtol=1e-12)
+
+
+def test_newton_falling_root_closes_nearly_linear_roots_in_its_newton_steps_and_the_probes():
+    # f(x) = c - x (1 + x / L), falling on [0, 20000] with a curvature like the climb rate's
+    # over altitude; root x = (L / 2) (sqrt(1 + 4 c / L) - 1) (exact)
+    big_l = 1e5
+    c = np.array([500.0, 3000.0, 8000.0, 15000.0, 23000.0])
+    calls = []
+
+    def f(x, ix):
+        calls.append(len(ix))
+        return c[ix] - x * (1.0 + x / big_l)
+    n = c.size
+    f_top = c - 2e4 * (1.0 + 2e4 / big_l)
+    root = solvers.newton_falling_root(f, np.zeros(n), np.full(n, 2e4), c, f_top,
+                                       np.ones(n, bool), xtol=1.0, step=10.0)
+    exact = 0.5 * big_l * (np.sqrt(1.0 + 4.0 * c / big_l) - 1.0)
+    assert_allclose(root, exact, atol=0.5)
+    assert len(calls) == 3  # two Newton steps and the probes: no regula falsi step left
+
+
+def test_newton_falling_root_falls_back_to_regula_falsi_on_a_strongly_curved_function():
+    # f(x) = c - x^3 on [0, 30]: Newton from the false-position point is not enough in two
+    # steps; the result still meets the tolerance (root c^(1/3), exact)
+    c = np.array([2.0, 50.0, 700.0, 9000.0, 20000.0])
+    n = c.size
+    root = solvers.newton_falling_root(lambda x, ix: c[ix] - x ** 3, np.zeros(n),
+                                       np.full(n, 30.0), c, c - 27000.0, np.ones(n, bool),
+                                       xtol=1e-3, step=1e-4)
+    assert_allclose(root, np.cbrt(c), atol=1e-3)
+
+
+def test_newton_falling_root_leaves_unsolved_elements_and_survives_nan_past_the_root():
+    # f = 4 - x below x = 5 and NaN above (NaN counts as past the root): root 4
+    def f(x, ix):
+        return np.where(x > 5.0, np.nan, 4.0 - x)
+    root = solvers.newton_falling_root(f, np.array([0.0, 0.0]), np.array([10.0, 10.0]),
+                                       np.array([4.0, 4.0]), np.array([-6.0, -6.0]),
+                                       np.array([True, False]), xtol=1e-6, step=1e-3)
+    assert_allclose(root[0], 4.0, atol=1e-6)
+    assert 0.0 <= root[1] <= 10.0  # not solved: some point of its bracket

@@ -7,21 +7,30 @@ import numpy as np
 from ..spec import AircraftSpec
 
 
-def finite(values, shape, seen):
-    """A float array of ``shape`` with no NaN or inf (a safety net: the model avoids them).
+def finite_columns(columns: dict, shape) -> dict:
+    """The columns as float arrays of ``shape`` with no NaN or inf (a safety net: the model
+    avoids them; NaN -> 0, +-inf -> +-1e12).
 
-    An array of the right shape is returned as it is (no copy) unless it was already
-    returned for another key (``seen``: ids so far) or is a view into a larger array (a
-    column of the margin matrix, a part of a stacked evaluation), so no two outputs share
-    memory and an output keeps nothing larger than itself alive."""
-    a = np.asarray(values, dtype=float)
-    base = a.base
-    if a.shape != shape or id(a) in seen or (base is not None and base.size != a.size):
-        a = np.array(np.broadcast_to(a, shape))
-    if not np.isfinite(a).all():
-        a = np.nan_to_num(a, nan=0.0, posinf=1e12, neginf=-1e12)
-    seen.add(id(a))
-    return a
+    An array of the right shape is kept as it is (no copy) unless it was already taken for
+    another key or is a view into a larger array (a column of the margin matrix, a part of a
+    stacked evaluation), so no two outputs share memory and an output keeps nothing larger
+    than itself alive. One finiteness test covers all columns (a stacked copy), so the cost
+    does not grow with a Python call per column."""
+    seen: set = set()
+    out = {}
+    for key, values in columns.items():
+        a = np.asarray(values, dtype=float)
+        base = a.base
+        if a.shape != shape or id(a) in seen or (base is not None and base.size != a.size):
+            a = np.array(np.broadcast_to(a, shape))
+        seen.add(id(a))
+        out[key] = a
+    if out:
+        good = np.isfinite(np.stack(list(out.values())).reshape(len(out), -1)).all(axis=1)
+        for key, ok in zip(list(out), good):
+            if not ok:
+                out[key] = np.nan_to_num(out[key], nan=0.0, posinf=1e12, neginf=-1e12)
+    return out
 
 
 def _mass_columns(spec: AircraftSpec, sized) -> dict:
@@ -156,8 +165,7 @@ def output_columns(spec: AircraftSpec, sized) -> dict:
     })
     for k, c in enumerate(mg.names):
         out[f"margin_{c}"] = mg.matrix[:, k]
-    seen: set = set()
-    out = {k: finite(v, ws_c.shape, seen) for k, v in out.items()}
+    out = finite_columns(out, ws_c.shape)
     out["cd0_built_up"] = np.full(ws_c.shape, not ap.drag.pinned)
     out["oswald_mach_in_range"] = climb.ceiling_mach_in_range & ~cruise.at_mach_cap
     out["feasible"] = mg.feasible

@@ -11,7 +11,7 @@ import numpy as np
 from ..physics import aerodynamics as aero
 from ..physics import atmosphere as atm
 from ..physics import performance, propulsion
-from ..solvers import falling_root, root_after_prediction
+from ..solvers import newton_falling_root, root_after_prediction
 from ..spec import AircraftSpec
 from .aero import AirStates, isa_state
 from .airplane import Airplane
@@ -62,7 +62,8 @@ def oei_climb_gradient(spec: AircraftSpec, ap: Airplane, air: AirStates) -> np.n
                                      ap.polar.induced_drag_factor)
 
 
-def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iterations=16):
+def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iterations=16,
+               bound=False):
     """Best all-engines rate of climb (clean, gear up, climb power) of designs ``ix``.
 
     The speed of the best rate maximises V (T(V) - D(V)) / W under the model's own thrust
@@ -101,11 +102,18 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         Designs. [-]
     iterations : int
         Golden-section iterations [-]; the ceiling search takes 10.
+    bound : bool, default False
+        Propellers only: no search; where the closed form is not exact (the Mach term), the
+        rate is the closed form's at K of the reference Mach, an upper bound of the best
+        rate (K only grows with Mach). For a bracket's sign where the bound falls short of
+        a target. Ignored for turbofans.
+
     Returns
     -------
     (ndarray, ndarray)
         Rate of climb [m s^-1] and the true airspeed flown [m s^-1] (not below the climb speed
         factor times the clean stall speed; within the speed limit where it applies).
+        With ``bound`` for a propeller, a third: True where the rate is only the bound.
 
     References
     ----------
@@ -133,14 +141,20 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         v = np.maximum(np.where(v0 >= thrust.v1, v0, _best_blend_speed(thrust, w_i, ws_i, rho,
                                                                        cd0_h, k_i)), v_floor)
         no_mach_term = (spec.aerodynamics.oswald_method == "obert2009") | (v / sound <= 0.3)
+        if bound:
+            if sp.climb_speed_limit:
+                v = performance.limit_climb_speed(v, h, dt)
+            return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h,
+                                                                      k_i)), v, ~no_mach_term
         searched = np.flatnonzero(~no_mach_term)  # where the closed form does not hold
-    per_design = [np.broadcast_to(x, ws_i.shape)
-                  for x in (ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0)]
-    if searched is None or searched.size == v.size:
-        v = _golden_climb_speed(spec, thrust, *per_design, iterations)
-    elif searched.size:
-        v[searched] = _golden_climb_speed(spec, thrust.take(searched),
-                                          *(x[searched] for x in per_design), iterations)
+    if searched is None or searched.size:
+        per_design = [np.broadcast_to(x, ws_i.shape)
+                      for x in (ws_i, w_i, k_i, cd0_h, rho, sound, v_floor, v0)]
+        if searched is None or searched.size == v.size:
+            v = _golden_climb_speed(spec, thrust, *per_design, iterations)
+        else:
+            v[searched] = _golden_climb_speed(spec, thrust.take(searched),
+                                              *(x[searched] for x in per_design), iterations)
     if sp.climb_speed_limit:
         v = performance.limit_climb_speed(v, h, dt)
     k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
@@ -222,6 +236,10 @@ class Climb:
     # Oswald method's Mach range (else the ceiling rests on e held at the range's top)
 
 
+CEILING_SLOPE_STEP_M = 10.0
+"""Difference step of the climb rate's slope in the ceiling's Newton steps [m]."""
+
+
 def _ceiling_residual(spec, ap, dt, target, h, ix):
     return best_climb(spec, ap, h, dt, ix, iterations=10)[0] - target
 
@@ -229,12 +247,14 @@ def _ceiling_residual(spec, ap, dt, target, h, ix):
 def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = None) -> Climb:
     """Best climb rate at the departure airfield, the regulatory gradient and the ceiling.
 
-    The best climb at the departure airfield is found in one call; the service ceiling is
-    bracketed by the rate at the required ceiling and, in a second call (at the ceiling
-    search's iterations), at sea level where that rate is short of the target or at the
-    model's top altitude where it is not, and solved in that half of the range, so that
-    designs near the requirement start from a short, nearly linear bracket. A design short
-    of the target at sea level has ceiling 0, one above it at the top altitude the top.
+    The best climb at the departure airfield and the rate at the required ceiling are
+    found in one call; the service ceiling is bracketed by that rate and, in a second call,
+    the rate at sea level where it is short of the target or at the model's top altitude
+    where it is not (for propellers first as an upper bound without a search, see
+    :func:`best_climb`), and solved in that half of the range by two Newton steps on a
+    10 m difference slope and two probes 0.8 m apart
+    (:func:`optimiser.solvers.newton_falling_root`), to 1 m. A design short of the target
+    at sea level has ceiling 0, one above it at the top altitude the top.
 
     Parameters
     ----------
@@ -255,24 +275,38 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = 
     References
     ----------
     .. [1] 14 CFR 23.2120 (all-engines gradient) and the 100 ft/min service ceiling
-       (common definition); root by :func:`optimiser.solvers.falling_root`.
+       (common definition); root by :func:`optimiser.solvers.newton_falling_root`.
     """
     dep, ad, sp, pr = spec.departure, spec.aerodynamics, spec.speeds, spec.propulsion
     dt_cr = spec.mission.cruise_temperature_offset_K
     ws_c = ap.wing_loading_N_m2
     n = ws_c.size
     h_req = min(max(spec.requirements.service_ceiling_m, 1.0), atm.H_MAX - 1.0)
-    roc_dep, v_dep = best_climb(spec, ap, np.full(n, dep.elevation_m),
-                                np.full(n, dep.temperature_offset_K if air is None
-                                        else air.departure_temperature_offset_K))
-    # the ceiling's brackets, at the ceiling search's iterations: the rate at the required
-    # ceiling, then at sea level where it is short of the target there (the ceiling lies
-    # below) and at the model's top altitude where it is not (the ceiling lies above)
-    f_req = best_climb(spec, ap, np.full(n, h_req), np.full(n, dt_cr), iterations=10)[0] \
-        - performance.SERVICE_CEILING_CLIMB_RATE
+    target = performance.SERVICE_CEILING_CLIMB_RATE
+    # one call for the departure's best climb and the rate at the required ceiling (the
+    # ceiling's first bracket end); then the rate at sea level where that rate is short of
+    # the target (the ceiling lies below) and at the model's top altitude where it is not
+    dt_dep = np.broadcast_to(dep.temperature_offset_K if air is None
+                             else air.departure_temperature_offset_K, (n,))
+    rate2, speed2 = best_climb(spec, ap, np.repeat([dep.elevation_m, h_req], n),
+                               np.concatenate([dt_dep, np.full(n, dt_cr)]),
+                               np.tile(np.arange(n), 2))
+    roc_dep, v_dep, f_req = rate2[:n], speed2[:n], rate2[n:] - target
     above = f_req >= 0.0
-    f_end = best_climb(spec, ap, np.where(above, atm.H_MAX, 0.0), np.full(n, dt_cr),
-                       iterations=10)[0] - performance.SERVICE_CEILING_CLIMB_RATE
+    h_end = np.where(above, atm.H_MAX, 0.0)
+    if pr.family == "turbofan":
+        f_end = best_climb(spec, ap, h_end, np.full(n, dt_cr), iterations=10)[0] - target
+        exact = np.arange(0)
+    else:
+        # a propeller's end value where the closed form is not exact is first an upper
+        # bound (no search): where it is short of the target it gives the bracket's sign and
+        # serves as the regula falsi's weight; the rate is searched where it reaches it
+        roc_end, _, only_bound = best_climb(spec, ap, h_end, np.full(n, dt_cr), bound=True)
+        f_end = roc_end - target
+        exact = np.flatnonzero(only_bound & (f_end >= 0.0))
+    if exact.size:
+        f_end[exact] = best_climb(spec, ap, h_end[exact], np.full(exact.size, dt_cr), exact,
+                                  iterations=10)[0] - target
 
     rho_aeo, t_aeo, p_aeo, _ = isa_state(spec.certification.aeo_climb_altitude_m)
     eng_aeo = engines_at(spec, ap.engines, rho_aeo, t_aeo, p_aeo, pr.climb_power_fraction)
@@ -283,11 +317,11 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = 
                                                    ap.polar.cd0_takeoff_flaps,
                                                    ap.polar.induced_drag_factor)
 
-    target = performance.SERVICE_CEILING_CLIMB_RATE
-    ceiling = falling_root(
+    f_low, f_high = np.where(above, f_req, f_end), np.where(above, f_end, f_req)
+    ceiling = newton_falling_root(
         functools.partial(_ceiling_residual, spec, ap, dt_cr, target),
-        np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req),
-        np.where(above, f_req, f_end), np.where(above, f_end, f_req), xtol=1.0)
+        np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req), f_low, f_high,
+        (f_low >= 0.0) & (f_high < 0.0), xtol=1.0, step=CEILING_SLOPE_STEP_M)
     ceiling = np.where(above, np.where(f_end >= 0.0, atm.H_MAX, ceiling),
                        np.where(f_end < 0.0, 0.0, ceiling))
     rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)
