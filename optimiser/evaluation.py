@@ -39,12 +39,12 @@ CAUTION_SHORT = ("Conceptual-design estimate only: not for certification or oper
 """The caution in one short line (the footer of every figure)."""
 
 
-SIZING_PEAK_BYTES_PER_DESIGN = {"piston": 1440, "turboprop": 1440, "turbofan": 1540}
+SIZING_PEAK_BYTES_PER_DESIGN = {"piston": 1510, "turboprop": 1510, "turbofan": 1730}
 """Peak memory of sizing a batch at once (:func:`size_frame`, one ``size_designs`` call and
-its frame) per design, by propulsion family [bytes]. Measured (ours) with ``tracemalloc``:
-the peak traced bytes of one call over batches of 2 000 and 20 000 random designs inside the
-bounds of each bundled study, divided by the designs (1 431 to 1 439 for the propeller
-studies, 1 537 to 1 541 for the turbofan study), rounded up."""
+its frame) per design, by propulsion family [bytes]. Measured (ours, 2026-12-04) with
+``tracemalloc``: the peak traced bytes of one call over batches of 2 000 and 20 000 random
+designs inside the bounds of each bundled study, divided by the designs (1 449 to 1 502 for
+the propeller studies, 1 721 to 1 727 for the turbofan study), rounded up."""
 
 MEMORY_SAFETY_FACTOR = 2.0
 """Head-room over a measured peak: allocator overhead and buffers that ``tracemalloc`` does

@@ -29,7 +29,8 @@ def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_p
     Parameters
     ----------
     f : callable
-        ``f(x, ix)`` evaluates the function at ``x`` for the elements ``ix`` (an index array).
+        ``f(x, ix)`` evaluates the function at ``x`` for the elements ``ix`` (an index
+        array, or ``slice(None)`` when every element is evaluated).
     x_first, f_first : ndarray, shape (n,)
         First point of every element and its function value (evaluated by the caller). [x], [f]
     active : ndarray of bool, shape (n,)
@@ -74,7 +75,7 @@ def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_p
         if ia.size == 0:
             break
         mi = m[ia]
-        r = f_first[ia] if step_no == 0 else f(mi, ia)
+        r = f_first[ia] if step_no == 0 else f(mi, ia if ia.size < n else slice(None))
         up = r >= 0.0  # a NaN value counts as not yet closed
         lo, r_lo = np.where(up, lo, mi), np.where(up, r_lo, np.nan_to_num(r, nan=nan_low))
         hi, r_hi = np.where(up, mi, hi), np.where(up, r, r_hi)
@@ -207,35 +208,37 @@ def root_after_prediction(f, prediction, low, high, f_low, f_high, solve, xtol):
     return np.where(narrowed, 0.5 * (a_v + b_v), root)
 
 
-def newton_falling_root(f, low, high, f_low, f_high, solve, xtol, step, newton_steps=2):
-    """Root of a smooth falling function in a bracket: Newton steps on a difference slope,
-    then :func:`root_after_prediction` to close the bracket to ``xtol``.
+def newton_falling_root(f, f_and_slope, low, high, f_low, f_high, solve, xtol,
+                        newton_steps=2):
+    """Root of a smooth falling function in a bracket: Newton steps from the bracket's
+    false-position point, regula falsi (:func:`falling_root`) for what they leave open.
 
-    From the false-position point of the bracket, each Newton step evaluates ``f`` at the
-    point and ``step`` beyond it (towards the bracket's inside) in one call, narrows the
-    bracket with both values, and moves to x - f / f'; a step that leaves the bracket (a
-    NaN, a flat or rising stretch) is replaced by the bracket's false-position point. On a
-    nearly linear function (the climb rate over altitude) two steps from the false-position
-    point come within a small fraction of ``xtol`` of the root, and the two probes of :func:`root_after_prediction` then close the
-    bracket; whatever they do not close, regula falsi finishes (:func:`falling_root`).
+    Each Newton step evaluates the function and its slope at the point in one call, narrows
+    the bracket with the value and moves to x - f / f'; a step that leaves the bracket (a
+    NaN, a flat or rising stretch) is replaced by the false-position point. An element is
+    done when its last step is at most ``xtol / 2``, or when the steps shrink fast enough
+    that the error left, estimated from quadratic convergence as d2^3 / d1^2 (d1, d2 the last
+    two steps), is below ``xtol / 10``. On a nearly linear function (the climb rate over
+    altitude) two steps settle nearly every element; the rest are solved by regula falsi on
+    the bracket the steps leave.
 
     Parameters
     ----------
     f : callable
         ``f(x, ix)`` for the elements ``ix`` (an index array); ``f >= 0`` below the root, a
-        NaN counts as past it.
+        NaN counts as past it (regula falsi's function).
+    f_and_slope : callable
+        ``f_and_slope(x, ix)`` -> (f, df/dx) at ``x`` for the elements ``ix`` (an index
+        array, or ``slice(None)`` for every element). [f], [f]/[x]
     low, high, f_low, f_high : ndarray, shape (n,)
         Bracket and the values at its ends (``f_low >= 0 > f_high`` where ``solve``). [x], [f]
     solve : ndarray of bool, shape (n,)
-        Elements to solve; the others come back as some point of their bracket, for the
-        caller to replace.
+        Elements to solve; the others come back as their bracket's midpoint, for the caller
+        to replace.
     xtol : float
-        Bracket width at which an element stops. [x]
-    step : float
-        Difference step of the slope, well above the function's noise and below the
-        bracket widths. [x]
+        Accuracy of the root. [x]
     newton_steps : int, default 2
-        Newton steps before the probes. [-]
+        Newton steps before regula falsi takes the rest. [-]
 
     Returns
     -------
@@ -246,37 +249,40 @@ def newton_falling_root(f, low, high, f_low, f_high, solve, xtol, step, newton_s
     ----------
     .. [1] J. E. Dennis and R. B. Schnabel, "Numerical Methods for Unconstrained
        Optimization and Nonlinear Equations", Prentice-Hall, 1983, ch. 2 (Newton's method
-       with a finite-difference derivative, safeguarded in a bracket; from memory).
+       safeguarded in a bracket, and stopping on the step; from memory).
     """
-    lo = np.array(low, dtype=float)
-    hi = np.array(high, dtype=float)
-    f_lo = np.array(f_low, dtype=float)
-    f_hi = np.array(f_high, dtype=float)
+    lo = np.asarray(low, dtype=float)
+    hi = np.asarray(high, dtype=float)
+    root = 0.5 * (lo + hi)
     ix = np.flatnonzero(solve)
-    a, b, fa, fb = lo[ix], hi[ix], f_lo[ix], f_hi[ix]
+    a, b = lo[ix], hi[ix]
+    fa, fb = np.asarray(f_low, dtype=float)[ix], np.asarray(f_high, dtype=float)[ix]
 
     def false_position(a, b, fa, fb):
         return a + fa * (b - a) / (fa - fb)  # fa >= 0 > fb: inside the bracket
 
     x = false_position(a, b, fa, fb)
-    pair = np.concatenate([ix, ix])
+    last_step = np.full(ix.size, np.nan)  # no step before the first: no estimate
     for _ in range(newton_steps):
         if ix.size == 0:
             break
-        h = np.where(x + step < b, step, -step)
-        fx_pair = f(np.concatenate([x, x + h]), pair)
-        fx, fxh = fx_pair[:ix.size], fx_pair[ix.size:]
-        for xk, fk in ((x, fx), (x + h, fxh)):
-            below = fk >= 0.0  # NaN: past the root
-            move_a = below & (xk > a)
-            move_b = ~below & (xk < b)
-            a, fa = np.where(move_a, xk, a), np.where(move_a, fk, fa)
-            b, fb = np.where(move_b, xk, b), np.where(move_b, fk, fb)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            newton = x - fx * h / (fxh - fx)
-        inside = (newton > a) & (newton < b)  # False for NaN
-        x = np.where(inside, newton, false_position(a, b, fa, fb))
-    lo[ix], hi[ix], f_lo[ix], f_hi[ix] = a, b, fa, fb
-    prediction = 0.5 * (lo + hi)
-    prediction[ix] = np.clip(x, a, b)
-    return root_after_prediction(f, prediction, lo, hi, f_lo, f_hi, solve, xtol)
+        fx, slope = f_and_slope(x, ix if ix.size < lo.size else slice(None))
+        below = fx >= 0.0  # NaN: past the root
+        a, fa = np.where(below, x, a), np.where(below, fx, fa)
+        # a NaN moves the high end but keeps its old value as the false position's weight
+        b, fb = np.where(below, b, x), np.where(below | np.isnan(fx), fb, fx)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            newton = x - fx / slope
+            inside = (newton > a) & (newton < b)  # False for NaN
+            step = np.abs(newton - x)
+            left = step ** 3 / last_step ** 2  # the error left after this step, estimated
+        done = inside & ((step <= 0.5 * xtol) | (left <= 0.1 * xtol))
+        root[ix[done]] = newton[done]
+        keep = ~done
+        x = np.where(inside, newton, false_position(a, b, fa, fb))[keep]
+        last_step = np.where(inside, step, np.nan)[keep]  # after a fallback: none
+        ix, a, b, fa, fb = ix[keep], a[keep], b[keep], fa[keep], fb[keep]
+    if ix.size:
+        rest = ix
+        root[rest] = falling_root(lambda x_, j: f(x_, rest[j]), a, b, fa, fb, xtol=xtol)
+    return root

@@ -262,3 +262,33 @@ def test_blend_speed_is_the_stationary_point_of_the_blended_rate():
 
     slope = (rate(v + 1e-4) - rate(v - 1e-4)) / 2e-4
     assert abs(slope[0]) < 1e-7
+
+
+@pytest.mark.parametrize("name", ["high_strip_utility", "light_twin_jet"])
+def test_service_ceiling_is_the_root_of_the_best_rate_to_its_tolerance(name):
+    # the ceiling of the sizing (Newton steps on the best rate, their slope the rate one
+    # step away at the best speed found) against regula falsi to 1e-6 m on the same best-rate
+    # function over the whole altitude range: within half the 1 m tolerance. Source: the
+    # definition of the service ceiling (best rate 100 ft/min, 0.508 m/s) and the model's own
+    # best climb; the commuter is left out, its golden-section rate has many roots within
+    # some metres of each other
+    study = load_study(ROOT / "problems" / f"{name}.toml")
+    spec = study.spec
+    rng = np.random.default_rng(11)
+    n = 400
+    ws, load, ar = (rng.uniform(v.lower, v.upper, n) for v in study.variables)
+    flap = rng.integers(0, len(spec.high_lift), n)
+    ap = _airplane(spec, ws, load, ar, flap)
+    ceiling = flight.climb_and_ceiling(spec, ap).service_ceiling_m
+    dt = spec.mission.cruise_temperature_offset_K
+
+    def f(h, ix):
+        return flight.best_climb(spec, ap, h, np.full(np.size(h), dt), ix,
+                                 iterations=10)[0] - performance.SERVICE_CEILING_CLIMB_RATE
+    every = np.arange(n)
+    low, high = np.zeros(n), np.full(n, atm.H_MAX)
+    f_low, f_high = f(low, every), f(high, every)
+    solved = (f_low >= 0.0) & (f_high < 0.0)
+    assert solved.sum() > n // 2
+    exact = performance.falling_root(f, low, high, f_low, f_high, xtol=1e-6)
+    assert np.max(np.abs(ceiling - exact)[solved]) <= 0.5

@@ -105,42 +105,57 @@ def test_quadratic_start_falls_back_inside_the_bracket_where_a_probe_is_nan():
     assert_allclose(guess, [2.0 + 1.0 * 5.0 / 5.0], rtol=1e-12)
 
 
-def test_newton_falling_root_closes_nearly_linear_roots_in_its_newton_steps_and_the_probes():
+def test_newton_falling_root_closes_nearly_linear_roots_in_two_newton_steps():
     # f(x) = c - x (1 + x / L), falling on [0, 20000] with a curvature like the climb rate's
-    # over altitude; root x = (L / 2) (sqrt(1 + 4 c / L) - 1) (exact)
+    # over altitude; root x = (L / 2) (sqrt(1 + 4 c / L) - 1), slope -(1 + 2 x / L) (exact)
     big_l = 1e5
     c = np.array([500.0, 3000.0, 8000.0, 15000.0, 23000.0])
-    calls = []
+    calls = {"f": 0, "f_and_slope": 0}
 
     def f(x, ix):
-        calls.append(len(ix))
+        calls["f"] += 1
         return c[ix] - x * (1.0 + x / big_l)
+
+    def f_and_slope(x, ix):
+        calls["f_and_slope"] += 1
+        return c[ix] - x * (1.0 + x / big_l), -(1.0 + 2.0 * x / big_l)
     n = c.size
     f_top = c - 2e4 * (1.0 + 2e4 / big_l)
-    root = solvers.newton_falling_root(f, np.zeros(n), np.full(n, 2e4), c, f_top,
-                                       np.ones(n, bool), xtol=1.0, step=10.0)
+    root = solvers.newton_falling_root(f, f_and_slope, np.zeros(n), np.full(n, 2e4), c, f_top,
+                                       np.ones(n, bool), xtol=1.0)
     exact = 0.5 * big_l * (np.sqrt(1.0 + 4.0 * c / big_l) - 1.0)
-    assert_allclose(root, exact, atol=0.5)
-    assert len(calls) == 3  # two Newton steps and the probes: no regula falsi step left
+    assert_allclose(root, exact, atol=0.1)  # the stop asks for an estimated xtol / 10
+    assert calls == {"f": 0, "f_and_slope": 2}  # no regula falsi step left
 
 
 def test_newton_falling_root_falls_back_to_regula_falsi_on_a_strongly_curved_function():
-    # f(x) = c - x^3 on [0, 30]: Newton from the false-position point is not enough in two
-    # steps; the result still meets the tolerance (root c^(1/3), exact)
+    # f(x) = c - x^3 on [0, 30]: two Newton steps from the false-position point do not
+    # settle it; regula falsi finishes to the tolerance (root c^(1/3), exact)
     c = np.array([2.0, 50.0, 700.0, 9000.0, 20000.0])
     n = c.size
-    root = solvers.newton_falling_root(lambda x, ix: c[ix] - x ** 3, np.zeros(n),
-                                       np.full(n, 30.0), c, c - 27000.0, np.ones(n, bool),
-                                       xtol=1e-3, step=1e-4)
+    used = []
+
+    def f(x, ix):
+        used.append(np.size(x))
+        return c[ix] - x ** 3
+    root = solvers.newton_falling_root(
+        f, lambda x, ix: (c[ix] - x ** 3, -3.0 * x * x), np.zeros(n), np.full(n, 30.0), c,
+        c - 27000.0, np.ones(n, bool), xtol=1e-3)
     assert_allclose(root, np.cbrt(c), atol=1e-3)
+    assert used  # regula falsi did take part
 
 
 def test_newton_falling_root_leaves_unsolved_elements_and_survives_nan_past_the_root():
-    # f = 4 - x below x = 5 and NaN above (NaN counts as past the root): root 4
+    # f = 4 - x up to x = 5 and NaN above (NaN counts as past the root): root 4
     def f(x, ix):
         return np.where(x > 5.0, np.nan, 4.0 - x)
-    root = solvers.newton_falling_root(f, np.array([0.0, 0.0]), np.array([10.0, 10.0]),
-                                       np.array([4.0, 4.0]), np.array([-6.0, -6.0]),
-                                       np.array([True, False]), xtol=1e-6, step=1e-3)
+
+    def f_and_slope(x, ix):
+        return f(x, ix), np.where(x > 5.0, np.nan, -1.0)
+    # the high end's value is a weight (-1): the first point, 8, is NaN, the next ones close
+    root = solvers.newton_falling_root(f, f_and_slope, np.array([0.0, 0.0]),
+                                       np.array([10.0, 10.0]), np.array([4.0, 4.0]),
+                                       np.array([-1.0, -1.0]), np.array([True, False]),
+                                       xtol=1e-6)
     assert_allclose(root[0], 4.0, atol=1e-6)
-    assert 0.0 <= root[1] <= 10.0  # not solved: some point of its bracket
+    assert root[1] == 5.0  # not solved: its bracket's midpoint

@@ -425,7 +425,8 @@ def falling_root(f, low, high, f_low, f_high, xtol, max_iterations=60):
             m = 1.0 - fx / np.where(pos, fai, fbi)
         m = np.where(m > 0.0, np.maximum(m, 0.1), 0.5)  # also for NaN
         fai = np.where(pos, fx, np.where(side < 0, m * fai, fai))
-        fbi = np.where(pos, np.where(side > 0, m * fbi, fbi), fx)
+        # a NaN moves the high end but keeps the old value there as the step's weight
+        fbi = np.where(pos, np.where(side > 0, m * fbi, fbi), np.where(fx == fx, fx, fbi))
         ai = np.where(pos, xi, ai)
         bi = np.where(pos, bi, xi)
         side = np.where(pos, 1.0, -1.0)

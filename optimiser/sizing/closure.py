@@ -14,7 +14,7 @@ from ..solvers import quadratic_start, secant_in_bracket
 from ..spec import FUSELAGE_FINENESS, AircraftSpec
 from .aero import AirStates, CleanDrag, HighLift, cruise_induced_drag
 from .engines import CruiseConsumption
-from .inputs import DesignBatch, at
+from .inputs import DesignBatch, at, whole_or
 from .layout import ComponentDrag, component_drag
 
 
@@ -478,7 +478,7 @@ def close_takeoff_mass(c: ClosureInputs) -> MassClosure:
                                                     r_cap)
     solve = np.flatnonzero(closes)
     r1 = np.zeros(n)
-    r1[solve] = _residual(c, m1[solve], solve)
+    r1[solve] = _residual(c, m1[solve], whole_or(solve, n))
     # the point before m1 for the first secant step: on the quadratic's tangent at m1 (a
     # Newton step on the interpolant's slope), else the nearer end of the probes' bracket
     near_hi = (hi - m1 <= m1 - lo) | (lo <= low)

@@ -7,6 +7,11 @@ import numpy as np
 from ..spec import AircraftSpec
 
 
+_STACKED_CHECK_SIZE = 1 << 15
+"""Up to this many values in all, the columns' finiteness is tested on one stacked copy (the
+per-call cost dominates a small batch); above it column by column (no large copy)."""
+
+
 def finite_columns(columns: dict, shape) -> dict:
     """The columns as float arrays of ``shape`` with no NaN or inf (a safety net: the model
     avoids them; NaN -> 0, +-inf -> +-1e12).
@@ -14,8 +19,8 @@ def finite_columns(columns: dict, shape) -> dict:
     An array of the right shape is kept as it is (no copy) unless it was already taken for
     another key or is a view into a larger array (a column of the margin matrix, a part of a
     stacked evaluation), so no two outputs share memory and an output keeps nothing larger
-    than itself alive. One finiteness test covers all columns (a stacked copy), so the cost
-    does not grow with a Python call per column."""
+    than itself alive. In a small batch one finiteness test covers all columns (a stacked
+    copy), so the cost does not grow with a Python call per column."""
     seen: set = set()
     out = {}
     for key, values in columns.items():
@@ -25,11 +30,15 @@ def finite_columns(columns: dict, shape) -> dict:
             a = np.array(np.broadcast_to(a, shape))
         seen.add(id(a))
         out[key] = a
-    if out:
+    if not out:
+        return out
+    if len(out) * int(np.prod(shape)) <= _STACKED_CHECK_SIZE:  # small batch: one test for all
         good = np.isfinite(np.stack(list(out.values())).reshape(len(out), -1)).all(axis=1)
-        for key, ok in zip(list(out), good):
-            if not ok:
-                out[key] = np.nan_to_num(out[key], nan=0.0, posinf=1e12, neginf=-1e12)
+    else:  # large ones: no stacked copy
+        good = [np.isfinite(a).all() for a in out.values()]
+    for key, ok in zip(list(out), good):
+        if not ok:
+            out[key] = np.nan_to_num(out[key], nan=0.0, posinf=1e12, neginf=-1e12)
     return out
 
 

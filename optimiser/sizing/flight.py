@@ -63,7 +63,7 @@ def oei_climb_gradient(spec: AircraftSpec, ap: Airplane, air: AirStates) -> np.n
 
 
 def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iterations=16,
-               bound=False):
+               bound=False, speed_over_floor=None):
     """Best all-engines rate of climb (clean, gear up, climb power) of designs ``ix``.
 
     The speed of the best rate maximises V (T(V) - D(V)) / W under the model's own thrust
@@ -114,6 +114,12 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         Rate of climb [m s^-1] and the true airspeed flown [m s^-1] (not below the climb speed
         factor times the clean stall speed; within the speed limit where it applies).
         With ``bound`` for a propeller, a third: True where the rate is only the bound.
+    speed_over_floor : ndarray, optional
+        No search: the rate at these multiples of the floor speed [-] (one per element, at
+        least 1), held to the speed limit as the best speed is. At the best speed's multiple
+        found at a nearby altitude this is the best rate to second order in the altitude
+        step (the rate is stationary in the speed there, or the speed stays on the floor),
+        which the ceiling's slope uses.
 
     References
     ----------
@@ -132,6 +138,12 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
                                                               spec.aerodynamics.cl_max_clean)
     sound = atm.speed_of_sound(t_h) * np.ones_like(ws_i)
     thrust = eng.thrust_at(eta)  # the speed-independent part once, not per golden step
+    if speed_over_floor is not None:
+        v = np.maximum(speed_over_floor, 1.0) * v_floor
+        if sp.climb_speed_limit:
+            v = performance.limit_climb_speed(v, h, dt)
+        k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
+        return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_m)), v
     if pr.family == "turbofan":
         tw_h = eng.thrust(np.full_like(ws_i, 100.0), 1.0) / w_i
         v0 = performance.best_climb_speed_constant_thrust(tw_h, ws_i, rho, cd0_h, k_i)
@@ -236,12 +248,28 @@ class Climb:
     # Oswald method's Mach range (else the ceiling rests on e held at the range's top)
 
 
-CEILING_SLOPE_STEP_M = 10.0
-"""Difference step of the climb rate's slope in the ceiling's Newton steps [m]."""
+CEILING_SLOPE_STEP_M = -10.0
+"""Altitude step of the climb rate's slope in the ceiling's Newton steps [m] (downwards, so
+that no step leaves the top of the model's atmosphere)."""
 
 
 def _ceiling_residual(spec, ap, dt, target, h, ix):
     return best_climb(spec, ap, h, dt, ix, iterations=10)[0] - target
+
+
+def _ceiling_residual_and_slope(spec, ap, dt, target, h, ix):
+    """Best rate minus the target [m s^-1] at altitudes ``h`` [m], and its slope over
+    altitude [s^-1]: the rate one step away at the best speed found at ``h`` (the envelope
+    theorem: the best rate's altitude derivative is the rate's at a fixed best speed, or on
+    the floor where the speed rests on it; the speed is carried as its multiple of the floor
+    speed, which covers both), so the slope costs no second search."""
+    rate, v = best_climb(spec, ap, h, dt, ix, iterations=10)
+    v_floor = spec.speeds.climb_speed_factor * performance.stall_speed(
+        ap.wing_loading_N_m2[ix], atm._density_unchecked(h, dt)[0],
+        spec.aerodynamics.cl_max_clean)
+    dh = CEILING_SLOPE_STEP_M
+    rate_step = best_climb(spec, ap, h + dh, dt, ix, speed_over_floor=v / v_floor)[0]
+    return rate - target, (rate_step - rate) / dh
 
 
 def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = None) -> Climb:
@@ -251,10 +279,11 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = 
     found in one call; the service ceiling is bracketed by that rate and, in a second call,
     the rate at sea level where it is short of the target or at the model's top altitude
     where it is not (for propellers first as an upper bound without a search, see
-    :func:`best_climb`), and solved in that half of the range by two Newton steps on a
-    10 m difference slope and two probes 0.8 m apart
-    (:func:`optimiser.solvers.newton_falling_root`), to 1 m. A design short of the target
-    at sea level has ceiling 0, one above it at the top altitude the top.
+    :func:`best_climb`), and solved in that half of the range to 1 m by Newton steps
+    whose slope is the rate 10 m lower at the best speed found (no second search), regula
+    falsi taking what two steps leave (:func:`optimiser.solvers.newton_falling_root`). A
+    design short of the target at sea level has ceiling 0, one above it at the top
+    altitude the top.
 
     Parameters
     ----------
@@ -320,8 +349,9 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = 
     f_low, f_high = np.where(above, f_req, f_end), np.where(above, f_end, f_req)
     ceiling = newton_falling_root(
         functools.partial(_ceiling_residual, spec, ap, dt_cr, target),
+        functools.partial(_ceiling_residual_and_slope, spec, ap, dt_cr, target),
         np.where(above, h_req, 0.0), np.where(above, atm.H_MAX, h_req), f_low, f_high,
-        (f_low >= 0.0) & (f_high < 0.0), xtol=1.0, step=CEILING_SLOPE_STEP_M)
+        (f_low >= 0.0) & (f_high < 0.0), xtol=1.0)
     ceiling = np.where(above, np.where(f_end >= 0.0, atm.H_MAX, ceiling),
                        np.where(f_end < 0.0, 0.0, ceiling))
     rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)

@@ -473,6 +473,17 @@ def test_falling_root_flat_then_steep_and_per_element_tolerance():
     assert len(calls) - 2 <= 45
 
 
+def test_falling_root_takes_nan_as_past_the_root_and_keeps_a_finite_weight():
+    # f = 4 - x up to x = 5, NaN above (a state the model cannot evaluate); the high end's
+    # value is only a weight (-1): the first points land in the NaN stretch, the bracket
+    # still closes on the root 4 (exact)
+    def f(x, ix):
+        return np.where(x > 5.0, np.nan, 4.0 - x)
+    got = perf.falling_root(f, np.zeros(1), np.full(1, 10.0), np.full(1, 4.0),
+                            np.full(1, -1.0), xtol=1e-9)
+    assert abs(got[0] - 4.0) <= 1e-9
+
+
 def test_falling_root_leaves_elements_without_a_sign_change():
     seen = []
 
