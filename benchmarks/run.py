@@ -352,7 +352,7 @@ def main():
     if "model" in parts:
         part_model(repeats)
     if "overhead" in parts:
-        part_overhead(max(5, repeats))
+        part_overhead(repeats + 4)
     if "quality" in parts:
         part_quality((10_000, 20_000) if args.quick else (10_000, 20_000, 50_000),
                      40 if args.quick else 60)
