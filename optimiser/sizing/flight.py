@@ -107,6 +107,12 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         rate is the closed form's at K of the reference Mach, an upper bound of the best
         rate (K only grows with Mach). For a bracket's sign where the bound falls short of
         a target. Ignored for turbofans.
+    speed_over_floor : ndarray, optional
+        No search: the rate at these multiples of the floor speed [-] (one per element, at
+        least 1), held to the speed limit as the best speed is. At the best speed's multiple
+        found at a nearby altitude this is the best rate to second order in the altitude
+        step (the rate is stationary in the speed there, or the speed stays on the floor),
+        which the ceiling's slope uses.
 
     Returns
     -------
@@ -114,12 +120,6 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         Rate of climb [m s^-1] and the true airspeed flown [m s^-1] (not below the climb speed
         factor times the clean stall speed; within the speed limit where it applies).
         With ``bound`` for a propeller, a third: True where the rate is only the bound.
-    speed_over_floor : ndarray, optional
-        No search: the rate at these multiples of the floor speed [-] (one per element, at
-        least 1), held to the speed limit as the best speed is. At the best speed's multiple
-        found at a nearby altitude this is the best rate to second order in the altitude
-        step (the rate is stationary in the speed there, or the speed stays on the floor),
-        which the ceiling's slope uses.
 
     References
     ----------
@@ -134,8 +134,7 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
     cd0_h = at(ap.drag.cd0, ix)
     eta = at(ap.engines.propeller_efficiency_climb, ix)
     eng = engines_at(spec, ap.engines, rho, t_h, p_h, pr.climb_power_fraction, ix=ix)
-    v_floor = sp.climb_speed_factor * performance.stall_speed(ws_i, rho,
-                                                              spec.aerodynamics.cl_max_clean)
+    v_floor = _climb_speed_floor(spec, ws_i, rho)
     sound = atm.speed_of_sound(t_h) * np.ones_like(ws_i)
     thrust = eng.thrust_at(eta)  # the speed-independent part once, not per golden step
     if speed_over_floor is not None:
@@ -171,6 +170,12 @@ def best_climb(spec: AircraftSpec, ap: Airplane, h, dt, ix=slice(None), iteratio
         v = performance.limit_climb_speed(v, h, dt)
     k_m = _induced_drag_factor_at_mach(spec, k_i, v / sound)
     return v * (thrust(v) / w_i - performance.drag_to_weight(v, ws_i, rho, cd0_h, k_m)), v
+
+
+def _climb_speed_floor(spec: AircraftSpec, wing_loading_N_m2, density_kg_m3):
+    """Least climb speed [m s^-1]: the climb speed factor [-] times the clean stall speed."""
+    return spec.speeds.climb_speed_factor * performance.stall_speed(
+        wing_loading_N_m2, density_kg_m3, spec.aerodynamics.cl_max_clean)
 
 
 def _best_blend_speed(thrust, w, ws, rho, cd0, k):
@@ -264,9 +269,8 @@ def _ceiling_residual_and_slope(spec, ap, dt, target, h, ix):
     the floor where the speed rests on it; the speed is carried as its multiple of the floor
     speed, which covers both), so the slope costs no second search."""
     rate, v = best_climb(spec, ap, h, dt, ix, iterations=10)
-    v_floor = spec.speeds.climb_speed_factor * performance.stall_speed(
-        ap.wing_loading_N_m2[ix], atm._density_unchecked(h, dt)[0],
-        spec.aerodynamics.cl_max_clean)
+    v_floor = _climb_speed_floor(spec, ap.wing_loading_N_m2[ix],
+                                 atm._density_unchecked(h, dt)[0])
     dh = CEILING_SLOPE_STEP_M
     rate_step = best_climb(spec, ap, h + dh, dt, ix, speed_over_floor=v / v_floor)[0]
     return rate - target, (rate_step - rate) / dh
@@ -355,7 +359,7 @@ def climb_and_ceiling(spec: AircraftSpec, ap: Airplane, air: AirStates | None = 
     ceiling = np.where(above, np.where(f_end >= 0.0, atm.H_MAX, ceiling),
                        np.where(f_end < 0.0, 0.0, ceiling))
     rho_c, _, t_c = atm._density_unchecked(ceiling, dt_cr)
-    v_floor_c = sp.climb_speed_factor * performance.stall_speed(ws_c, rho_c, ad.cl_max_clean)
+    v_floor_c = _climb_speed_floor(spec, ws_c, rho_c)
     in_range = aero.oswald_mach_valid(ad.oswald_method, v_floor_c / atm.speed_of_sound(t_c))
     return Climb(v_dep, roc_dep, climb_gradient, ceiling, in_range)
 
