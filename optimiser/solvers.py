@@ -15,7 +15,13 @@ import numpy as np
 from .physics.performance import falling_root
 
 __all__ = ["falling_root", "newton_falling_root", "quadratic_start", "root_after_prediction",
-           "secant_in_bracket"]
+           "secant_in_bracket", "whole_or"]
+
+
+def whole_or(ix, n):
+    """``slice(None)`` where the index array ``ix`` is every one of ``n`` elements in order
+    (a view instead of a gathered copy), else ``ix``."""
+    return slice(None) if len(ix) == n else ix
 
 
 def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_prev, f_prev,
@@ -75,7 +81,7 @@ def secant_in_bracket(f, x_first, f_first, active, low, high, f_low, f_high, x_p
         if ia.size == 0:
             break
         mi = m[ia]
-        r = f_first[ia] if step_no == 0 else f(mi, ia if ia.size < n else slice(None))
+        r = f_first[ia] if step_no == 0 else f(mi, whole_or(ia, n))
         up = r >= 0.0  # a NaN value counts as not yet closed
         lo, r_lo = np.where(up, lo, mi), np.where(up, r_lo, np.nan_to_num(r, nan=nan_low))
         hi, r_hi = np.where(up, mi, hi), np.where(up, r, r_hi)
@@ -266,7 +272,7 @@ def newton_falling_root(f, f_and_slope, low, high, f_low, f_high, solve, xtol,
     for _ in range(newton_steps):
         if ix.size == 0:
             break
-        fx, slope = f_and_slope(x, ix if ix.size < lo.size else slice(None))
+        fx, slope = f_and_slope(x, whole_or(ix, lo.size))
         below = fx >= 0.0  # NaN: past the root
         a, fa = np.where(below, x, a), np.where(below, fx, fa)
         # a NaN moves the high end but keeps its old value as the false position's weight

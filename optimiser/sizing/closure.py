@@ -10,11 +10,11 @@ import numpy as np
 from ..physics import G0, geometry, mission, weights
 from ..physics import aerodynamics as aero
 from ..physics import atmosphere as atm
-from ..solvers import quadratic_start, secant_in_bracket
+from ..solvers import quadratic_start, secant_in_bracket, whole_or
 from ..spec import FUSELAGE_FINENESS, AircraftSpec
 from .aero import AirStates, CleanDrag, HighLift, cruise_induced_drag
 from .engines import CruiseConsumption
-from .inputs import DesignBatch, at, whole_or
+from .inputs import DesignBatch, at
 from .layout import ComponentDrag, component_drag
 
 

@@ -208,12 +208,6 @@ def check_overrides(spec, overrides, n):
     return out
 
 
-def whole_or(ix, n):
-    """``slice(None)`` where the index array ``ix`` is every one of ``n`` designs in order
-    (cheaper indexing), else ``ix``."""
-    return slice(None) if len(ix) == n else ix
-
-
 def at(x, ix):
     """``x[ix]`` for a per-design array, ``x`` itself for a study-wide scalar."""
     return x if np.ndim(x) == 0 else x[ix]
